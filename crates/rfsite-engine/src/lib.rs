@@ -1,0 +1,298 @@
+//! # rfsite-engine
+//!
+//! The pipeline. The [`world::World`] is the only place that reads input files (and it
+//! hashes each one); [`load`] turns a site folder into a validated site; [`Registry`]
+//! holds the plugins and orders them by their `after` lists; [`run`] runs them and
+//! collects an [`Assessment`], which [`findings_json`] serialises.
+#![deny(missing_docs)]
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::fmt;
+
+use rfsite_model::{Diagnostics, MaterialLibrary, Site, SourceFile};
+use rfsite_physics::p2040::Polarization;
+use rfsite_plugin::*;
+
+pub mod survey;
+pub mod world;
+
+pub use world::World;
+
+/// rfsite's version, written into every output.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");
+
+/// findings.json schema id.
+pub const FINDINGS_SCHEMA: &str = "rfsite-findings/1";
+
+/// An engine failure.
+#[derive(Debug)]
+pub enum EngineError {
+    /// The input has problems (every one listed).
+    BadInput(Diagnostics),
+    /// A file could not be read.
+    Io(String),
+    /// The plugins' `after` lists form a cycle.
+    Cycle(Vec<String>),
+    /// A plugin failed.
+    Plugin {
+        /// Plugin id.
+        id: String,
+        /// Error.
+        error: PluginError,
+    },
+}
+
+impl fmt::Display for EngineError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            EngineError::BadInput(d) => {
+                for x in &d.items {
+                    write!(f, "{x}")?;
+                }
+                Ok(())
+            }
+            EngineError::Io(s) => write!(f, "{s}"),
+            EngineError::Cycle(ids) => write!(f, "plugins order themselves in a cycle: {}", ids.join(" -> ")),
+            EngineError::Plugin { id, error } => write!(f, "plugin `{id}` failed: {error}"),
+        }
+    }
+}
+
+impl std::error::Error for EngineError {}
+
+/// A loaded site with its world and the non-fatal diagnostics.
+pub struct LoadedSite {
+    /// The site.
+    pub site: Site,
+    /// Warnings found while loading.
+    pub warnings: Diagnostics,
+    /// Survey data read.
+    pub surveys: SurveyData,
+}
+
+/// Reads and validates the site in `world`. Errors come back all at once.
+pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, EngineError> {
+    let text = world.read_site_text().map_err(EngineError::Io)?;
+    let file = SourceFile::new(world.display_site_path(), text);
+    let loaded = rfsite_model::load(&file, library);
+    let Some(site) = loaded.site else {
+        return Err(EngineError::BadInput(loaded.diagnostics));
+    };
+    let (surveys, mut survey_diags) = survey::read_all(world, &site);
+    if survey_diags.has_errors() {
+        let mut all = loaded.diagnostics;
+        all.items.append(&mut survey_diags.items);
+        return Err(EngineError::BadInput(all));
+    }
+    let mut warnings = loaded.diagnostics;
+    warnings.items.append(&mut survey_diags.items);
+    Ok(LoadedSite { site, warnings, surveys })
+}
+
+/// The plugins known to a run.
+pub struct Registry {
+    plugins: Vec<(Box<dyn Plugin>, String)>,
+}
+
+impl Registry {
+    /// The built-in plugins.
+    pub fn builtin() -> Self {
+        Registry {
+            plugins: vec![
+                (Box::new(rfsite_plugin_free_space::FreeSpace), "built-in".into()),
+                (Box::new(rfsite_plugin_multi_wall::MultiWall), "built-in".into()),
+                (Box::new(rfsite_plugin_link_budget::LinkBudgetPlugin), "built-in".into()),
+            ],
+        }
+    }
+
+    /// Adds a plugin (e.g. an external one).
+    pub fn add(&mut self, p: Box<dyn Plugin>, kind: &str) {
+        self.plugins.push((p, kind.into()));
+    }
+
+    /// Plugins in run order: a topological sort of the `after` lists, ties by id.
+    /// An `after` naming a plugin that is not registered is ignored.
+    pub fn ordered(&self) -> Result<Vec<&dyn Plugin>, EngineError> {
+        let ids: BTreeSet<&str> = self.plugins.iter().map(|(p, _)| p.id()).collect();
+        let by_id: BTreeMap<&str, &dyn Plugin> = self.plugins.iter().map(|(p, _)| (p.id(), p.as_ref())).collect();
+        let mut deps: BTreeMap<&str, BTreeSet<String>> = BTreeMap::new();
+        for (p, _) in &self.plugins {
+            deps.insert(p.id(), p.after().into_iter().filter(|a| ids.contains(a.as_str())).collect());
+        }
+        let mut done: Vec<&str> = Vec::new();
+        let mut left: BTreeSet<&str> = ids.clone();
+        while !left.is_empty() {
+            let ready = left.iter().copied().find(|id| deps[id].iter().all(|d| done.contains(&d.as_str())));
+            match ready {
+                Some(id) => {
+                    done.push(id);
+                    left.remove(id);
+                }
+                None => return Err(EngineError::Cycle(left.iter().map(|s| s.to_string()).collect())),
+            }
+        }
+        Ok(done.into_iter().map(|id| by_id[id]).collect())
+    }
+
+    /// "built-in" or "external" for a plugin id.
+    pub fn kind_of(&self, id: &str) -> &str {
+        self.plugins.iter().find(|(p, _)| p.id() == id).map(|(_, k)| k.as_str()).unwrap_or("built-in")
+    }
+}
+
+fn enabled(site: &Site, id: &str) -> bool {
+    site.plugin_options
+        .get(id)
+        .and_then(|t| t.get("enabled"))
+        .and_then(|v| v.as_bool())
+        .unwrap_or(true)
+}
+
+/// Runs the plugins on a loaded site and collects the assessment.
+pub fn run(loaded: &LoadedSite, registry: &Registry, inputs: Vec<InputFile>) -> Result<Assessment, EngineError> {
+    let site = &loaded.site;
+    let empty = toml::Table::new();
+    let mut outputs: Vec<(String, PluginOutput)> = Vec::new();
+    let mut runs = Vec::new();
+    for p in registry.ordered()? {
+        if !enabled(site, p.id()) || !p.applies(site) {
+            continue;
+        }
+        let ctx = Context {
+            site,
+            options: site.plugin_options.get(p.id()).unwrap_or(&empty),
+            earlier: &outputs,
+            surveys: &loaded.surveys,
+        };
+        let out = p.run(&ctx).map_err(|error| EngineError::Plugin { id: p.id().into(), error })?;
+        runs.push(PluginRun { id: p.id().into(), version: p.version().into(), method: p.method(), kind: registry.kind_of(p.id()).into() });
+        outputs.push((p.id().to_string(), out));
+    }
+    Ok(collect(site, loaded, runs, outputs, inputs))
+}
+
+fn collect(site: &Site, loaded: &LoadedSite, plugins: Vec<PluginRun>, outputs: Vec<(String, PluginOutput)>, mut inputs: Vec<InputFile>) -> Assessment {
+    let mut a = Assessment {
+        tool: Tool { name: "rfsite".into(), version: VERSION.into() },
+        site: SiteRef { id: site.meta.id.clone(), name: site.meta.name.clone() },
+        inputs: Vec::new(),
+        plugins,
+        services: Vec::new(),
+        findings: Vec::new(),
+        remediation: Vec::new(),
+        cautions: Vec::new(),
+        warnings: Vec::new(),
+        tables: Vec::new(),
+        figures: Vec::new(),
+        link_budgets: Vec::new(),
+        materials: materials_table(site),
+        layers: Vec::new(),
+        surveys: SurveySummary::default(),
+        extra: Default::default(),
+    };
+    for (id, o) in outputs {
+        a.layers.extend(o.layers);
+        a.findings.extend(o.findings);
+        // The last plugin to grade a service wins (grading after link budget).
+        for s in o.services {
+            a.services.retain(|x| x.id != s.id);
+            a.services.push(s);
+        }
+        a.remediation.extend(o.remediation);
+        a.cautions.extend(o.cautions);
+        a.warnings.extend(o.warnings);
+        a.tables.extend(o.tables);
+        a.figures.extend(o.figures);
+        a.link_budgets.extend(o.link_budgets);
+        if !o.extra.is_empty() {
+            a.extra.insert(id, serde_json::Value::Object(o.extra));
+        }
+    }
+    for w in &loaded.warnings.items {
+        a.warnings.push(Warning { plugin: "check".into(), message: format!("{}:{}:{}: {}", w.file, w.line, w.column, w.message) });
+    }
+    for m in &a.materials {
+        for l in &m.losses {
+            if l.extrapolated {
+                let (lo, hi) = site.materials.get(&m.id).and_then(|x| x.range_mhz()).unwrap_or((0.0, 0.0));
+                a.warnings.push(Warning {
+                    plugin: "materials".into(),
+                    message: format!("material `{}` at {} MHz ({}) is outside its range {}–{} MHz: extrapolated", m.id, l.freq_mhz, l.service, lo, hi),
+                });
+            }
+        }
+    }
+    // Survey summary.
+    let s = &loaded.surveys;
+    let mut by_reason: BTreeMap<String, usize> = BTreeMap::new();
+    for r in &s.rejected {
+        *by_reason.entry(r.reason.clone()).or_default() += 1;
+    }
+    a.surveys = SurveySummary {
+        accepted: s.points.len(),
+        rejected: s.rejected.len(),
+        rejected_by_reason: by_reason.into_iter().collect(),
+        rows_per_file: s.rows_per_file.clone(),
+        rejected_rows: s.rejected.iter().take(50).cloned().collect(),
+    };
+    a.services.sort_by(|x, y| x.id.cmp(&y.id));
+    a.findings.sort_by(|x, y| x.severity.cmp(&y.severity).then(x.id.cmp(&y.id)));
+    a.remediation.sort_by(|x, y| y.margin_needed_db.total_cmp(&x.margin_needed_db).then(x.id.cmp(&y.id)));
+    a.warnings.sort();
+    a.warnings.dedup();
+    inputs.sort();
+    inputs.dedup();
+    a.inputs = inputs;
+    a
+}
+
+/// The losses of every material the site uses at every service frequency, at normal
+/// incidence and the thickness the site gives it (first use).
+pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
+    let mut thickness: BTreeMap<&str, f64> = BTreeMap::new();
+    for f in &site.floors {
+        thickness.entry(f.slab_material.as_str()).or_insert(f.slab_thickness_m);
+        for p in &f.parts {
+            thickness.entry(p.material.as_str()).or_insert(p.thickness_m);
+        }
+    }
+    site.materials_used
+        .iter()
+        .filter_map(|id| site.materials.get(id))
+        .map(|m| {
+            let t = thickness.get(m.id.as_str()).copied().unwrap_or(0.1);
+            let empirical = !m.model.angle_dependent();
+            MaterialRow {
+                id: m.id.clone(),
+                name: m.name.clone(),
+                class: m.class.label().into(),
+                model: m.model_label().into(),
+                source: m.source.clone(),
+                confidence: m.confidence.clone(),
+                losses: site
+                    .services
+                    .iter()
+                    .map(|s| {
+                        let l = m.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te);
+                        MaterialLoss { service: s.id.clone(), freq_mhz: s.freq_mhz, thickness_m: (!empirical).then_some(t), loss_db: l.loss_db, extrapolated: l.note.is_some() }
+                    })
+                    .collect(),
+                probe_loss_db: None,
+            }
+        })
+        .collect()
+}
+
+/// findings.json: the contract fields first, then the rest of the assessment.
+pub fn findings_json(a: &Assessment) -> String {
+    #[derive(serde::Serialize)]
+    struct Doc<'a> {
+        schema: &'static str,
+        #[serde(flatten)]
+        a: &'a Assessment,
+    }
+    let mut s = serde_json::to_string_pretty(&Doc { schema: FINDINGS_SCHEMA, a }).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    s.push('\n');
+    s
+}

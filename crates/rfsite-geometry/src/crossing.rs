@@ -1,0 +1,192 @@
+//! The crossing rules, shared by the reference implementation and the index.
+//!
+//! Both [`crossings_brute_force`] and [`WallIndex`](crate::WallIndex) run
+//! every candidate wall through the same [`Ray::classify`] and the same
+//! [`Collector::finish`], so they agree bit for bit whenever the index offers
+//! every wall that lies within [`EPS_M`] of the path.
+
+use crate::point::{Point2, Segment};
+
+/// Geometric tolerance, metres: points closer than this to a line count as
+/// lying on it, and crossings closer than this (along the path) to a path end
+/// point count as touching that end point.
+pub const EPS_M: f64 = 1e-9;
+
+/// One crossing of a path by a wall.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Crossing {
+    /// Index of the wall in the slice given to the index (or to
+    /// [`crossings_brute_force`]). At a shared corner, the lowest index among
+    /// the walls ending there.
+    pub wall: usize,
+    /// Position along the path, strictly between 0 (at `p`) and 1 (at `q`).
+    pub t: f64,
+    /// `|cos|` of the angle between the path direction and the wall normal,
+    /// in `0..=1`; 1 is normal incidence.
+    pub cos_incidence: f64,
+}
+
+/// A wall end point lying on the open path; resolved per corner later.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Touch {
+    wall: usize,
+    t: f64,
+    /// Whether the wall's other end lies left of the path.
+    left: bool,
+}
+
+/// Per-query event buffers, reused across queries.
+#[derive(Debug, Default, Clone)]
+pub(crate) struct Collector {
+    crosses: Vec<Crossing>,
+    touches: Vec<Touch>,
+}
+
+/// A query path with the quantities every wall test needs.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Ray {
+    pub(crate) p: Point2,
+    pub(crate) q: Point2,
+    /// `q - p`.
+    pub(crate) d: Point2,
+    /// Unit direction.
+    u: Point2,
+    inv_len: f64,
+    /// [`EPS_M`] as a fraction of the path length.
+    t_eps: f64,
+}
+
+impl Ray {
+    /// `None` for a path that cannot cross anything: non-finite end points or
+    /// shorter than twice the tolerance.
+    pub(crate) fn new(p: Point2, q: Point2) -> Option<Ray> {
+        if !p.is_finite() || !q.is_finite() {
+            return None;
+        }
+        let d = q - p;
+        let len = d.length();
+        if !(len > 2.0 * EPS_M) || !len.is_finite() {
+            return None;
+        }
+        let inv_len = 1.0 / len;
+        Some(Ray {
+            p,
+            q,
+            d,
+            u: d * inv_len,
+            inv_len,
+            t_eps: EPS_M * inv_len,
+        })
+    }
+
+    /// Apply the crossing rules to one wall, recording a crossing or a
+    /// corner touch in `c`. `w` must be finite.
+    #[inline]
+    pub(crate) fn classify(&self, wall: usize, w: &Segment, c: &mut Collector) {
+        // Signed perpendicular distances of the wall ends from the path line;
+        // positive = left of p → q.
+        let da = self.u.cross(w.a - self.p);
+        let db = self.u.cross(w.b - self.p);
+        let a_on = da.abs() <= EPS_M;
+        let b_on = db.abs() <= EPS_M;
+        if a_on || b_on {
+            if a_on && b_on {
+                // Collinear with the path (or degenerate): grazing, never a crossing.
+                return;
+            }
+            let (v, other) = if a_on { (w.a, db) } else { (w.b, da) };
+            let t = self.u.dot(v - self.p) * self.inv_len;
+            if t > self.t_eps && t < 1.0 - self.t_eps {
+                c.touches.push(Touch {
+                    wall,
+                    t,
+                    left: other > 0.0,
+                });
+            }
+            return;
+        }
+        if (da > 0.0) == (db > 0.0) {
+            return;
+        }
+        // The wall strictly straddles the path line; find where along the path.
+        let e = w.b - w.a;
+        let dp = e.cross(self.p - w.a);
+        let dq = e.cross(self.q - w.a);
+        let t = dp / (dp - dq);
+        if t > self.t_eps && t < 1.0 - self.t_eps {
+            c.crosses.push(Crossing {
+                wall,
+                t,
+                cos_incidence: self.cos_incidence(w),
+            });
+        }
+    }
+
+    fn cos_incidence(&self, w: &Segment) -> f64 {
+        let e = w.b - w.a;
+        let len = e.length();
+        if len > 0.0 {
+            (self.u.cross(e) / len).abs().min(1.0)
+        } else {
+            0.0
+        }
+    }
+}
+
+impl Collector {
+    pub(crate) fn clear(&mut self) {
+        self.crosses.clear();
+        self.touches.clear();
+    }
+
+    /// Resolve corner touches and write the sorted result to `out` (cleared
+    /// first).
+    pub(crate) fn finish(&mut self, ray: &Ray, walls: &[Segment], out: &mut Vec<Crossing>) {
+        out.clear();
+        out.extend_from_slice(&self.crosses);
+        let touches = &mut self.touches;
+        touches.sort_unstable_by(|a, b| a.t.total_cmp(&b.t).then(a.wall.cmp(&b.wall)));
+        let mut i = 0;
+        while i < touches.len() {
+            // A corner: a run of touches whose positions chain within the tolerance.
+            let mut j = i + 1;
+            while j < touches.len() && touches[j].t - touches[j - 1].t <= ray.t_eps {
+                j += 1;
+            }
+            let corner = &touches[i..j];
+            let any_left = corner.iter().any(|t| t.left);
+            let any_right = corner.iter().any(|t| !t.left);
+            if any_left && any_right {
+                // The path passes from one side of the wall chain to the other:
+                // one crossing, charged to the lowest wall index at the corner.
+                if let Some(first) = corner.iter().min_by_key(|t| t.wall) {
+                    out.push(Crossing {
+                        wall: first.wall,
+                        t: first.t,
+                        cos_incidence: ray.cos_incidence(&walls[first.wall]),
+                    });
+                }
+            }
+            i = j;
+        }
+        out.sort_unstable_by(|a, b| a.t.total_cmp(&b.t).then(a.wall.cmp(&b.wall)));
+    }
+}
+
+/// Reference implementation: tests every wall against the path `p → q` and
+/// writes the crossings to `out` (cleared first), sorted by `t`, then by wall
+/// index. Walls with non-finite coordinates are ignored. See the crate
+/// documentation for the crossing rules.
+pub fn crossings_brute_force(walls: &[Segment], p: Point2, q: Point2, out: &mut Vec<Crossing>) {
+    out.clear();
+    let Some(ray) = Ray::new(p, q) else {
+        return;
+    };
+    let mut c = Collector::default();
+    for (i, w) in walls.iter().enumerate() {
+        if w.is_finite() {
+            ray.classify(i, w, &mut c);
+        }
+    }
+    c.finish(&ray, walls, out);
+}

@@ -1,0 +1,1234 @@
+//! Raw project -> validated [`Site`], reporting every problem at once.
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::ops::Range;
+
+use rfsite_geometry::{Point2, Segment};
+
+use crate::diag::{unknown_name_hint, Diagnostic, Diagnostics, Severity, SourceFile};
+use crate::material::{Material, MaterialClass, MaterialLibrary, MaterialModel};
+use crate::raw::*;
+use crate::site::*;
+
+/// Result of loading: the site when there were no errors, and every diagnostic.
+#[derive(Debug)]
+pub struct Loaded {
+    /// The validated site (None when any error was found).
+    pub site: Option<Site>,
+    /// Errors and warnings, sorted by location.
+    pub diagnostics: Diagnostics,
+}
+
+struct V<'a> {
+    file: &'a SourceFile,
+    diags: Diagnostics,
+    to_m: f64,
+}
+
+impl<'a> V<'a> {
+    fn error(&mut self, span: Range<usize>, msg: impl Into<String>, hint: Option<String>) {
+        self.diags
+            .push(Diagnostic::at(Severity::Error, self.file, span, msg, hint));
+    }
+    fn warn(&mut self, span: Range<usize>, msg: impl Into<String>, hint: Option<String>) {
+        self.diags
+            .push(Diagnostic::at(Severity::Warning, self.file, span, msg, hint));
+    }
+    fn req<'b, T>(
+        &mut self,
+        v: &'b Option<S<T>>,
+        table: Range<usize>,
+        what: &str,
+        field: &str,
+        hint: &str,
+    ) -> Option<&'b T> {
+        match v {
+            Some(s) => Some(s.get_ref()),
+            None => {
+                self.error(
+                    table,
+                    format!("{what} is missing `{field}`"),
+                    Some(hint.to_string()),
+                );
+                None
+            }
+        }
+    }
+    fn text(&mut self, v: &Option<S<String>>) -> String {
+        v.as_ref().map(|s| s.get_ref().clone()).unwrap_or_default()
+    }
+    /// A length in site units, converted to metres; must be > 0 (or >= 0 when `allow_zero`).
+    fn length(&mut self, v: &S<f64>, field: &str, allow_zero: bool) -> Option<f64> {
+        let x = *v.get_ref();
+        if !x.is_finite() || x < 0.0 || (!allow_zero && x == 0.0) {
+            self.error(
+                v.span(),
+                format!(
+                    "`{field}` must be {} (got {x})",
+                    if allow_zero { "zero or more" } else { "more than zero" }
+                ),
+                Some("lengths are in the units set by `site.units`; write a positive number".into()),
+            );
+            return None;
+        }
+        Some(x * self.to_m)
+    }
+    fn coord(&mut self, v: &S<f64>) -> Option<f64> {
+        let x = *v.get_ref();
+        if !x.is_finite() {
+            self.error(v.span(), "coordinate is not a finite number", None);
+            return None;
+        }
+        Some(x * self.to_m)
+    }
+    fn point(&mut self, p: &S<RawPoint>) -> Option<Point2> {
+        let v = p.get_ref();
+        if v.len() != 2 || v.iter().any(|x| !x.is_finite()) {
+            self.error(
+                p.span(),
+                format!("a point is `[x, y]`; this one has {} numbers", v.len()),
+                Some("write each point as `[x, y]` in site units".into()),
+            );
+            return None;
+        }
+        Some(Point2::new(v[0] * self.to_m, v[1] * self.to_m))
+    }
+    fn points(&mut self, ps: &S<Vec<S<RawPoint>>>) -> Option<Vec<Point2>> {
+        let mut out = Vec::new();
+        let mut ok = true;
+        for p in ps.get_ref() {
+            match self.point(p) {
+                Some(q) => out.push(q),
+                None => ok = false,
+            }
+        }
+        ok.then_some(out)
+    }
+    fn fraction(&mut self, v: &S<f64>, field: &str) -> Option<f64> {
+        let x = *v.get_ref();
+        if !(0.0..=1.0).contains(&x) {
+            self.error(
+                v.span(),
+                format!("`{field}` is a fraction from 0 to 1 (got {x})"),
+                Some(format!(
+                    "write 95 % as 0.95: `{field} = {}`",
+                    if x > 1.0 && x <= 100.0 { x / 100.0 } else { 0.95 }
+                )),
+            );
+            return None;
+        }
+        Some(x)
+    }
+    fn unique(&mut self, seen: &mut BTreeSet<String>, id: &S<String>, what: &str) {
+        if !seen.insert(id.get_ref().clone()) {
+            self.error(
+                id.span(),
+                format!("{what} id `{}` is used twice", id.get_ref()),
+                Some("give each one its own id".into()),
+            );
+        }
+    }
+}
+
+/// Parses and validates a site file. `library` holds the materials known before the site's
+/// own (ITU + built-in + any folders given on the command line).
+pub fn load(file: &SourceFile, library: &MaterialLibrary) -> Loaded {
+    let mut v = V {
+        file,
+        diags: Diagnostics::default(),
+        to_m: 1.0,
+    };
+    let site = load_inner(&mut v, library);
+    let diagnostics = v.diags.sorted();
+    Loaded {
+        site: if diagnostics.has_errors() { None } else { site },
+        diagnostics,
+    }
+}
+
+fn parse_raw(v: &mut V<'_>) -> Option<RawProject> {
+    let text = &v.file.text;
+    if text
+        .lines()
+        .all(|l| l.trim().is_empty() || l.trim_start().starts_with('#'))
+    {
+        v.diags.push(Diagnostic::whole_file(
+            Severity::Error,
+            &v.file.display_path,
+            "the site file is empty",
+            Some("start from `rfsite init DIR`, which writes a commented site.toml, or copy one from examples/".into()),
+        ));
+        return None;
+    }
+    let de = match toml::Deserializer::parse(text) {
+        Ok(d) => d,
+        Err(e) => {
+            toml_error(v, &e);
+            return None;
+        }
+    };
+    let mut unknown: Vec<Vec<String>> = Vec::new();
+    let raw: Result<RawProject, _> = serde_ignored::deserialize(de, |path| {
+        unknown.push(path_segments(&path));
+    });
+    match raw {
+        Ok(r) => {
+            report_unknown_keys(v, &unknown);
+            Some(r)
+        }
+        Err(e) => {
+            toml_error(v, &e);
+            None
+        }
+    }
+}
+
+fn toml_error(v: &mut V<'_>, e: &toml::de::Error) {
+    let msg = e.message().trim().to_string();
+    let hint = if msg.contains("invalid type: string") && msg.contains("expected f64") {
+        Some("write the number without quotes".to_string())
+    } else if msg.contains("invalid type") {
+        Some("check the value's type against the site format in README.md".to_string())
+    } else if msg.contains("duplicate key") {
+        Some("each key appears once per table".to_string())
+    } else {
+        Some("check quotes, brackets and `=` on this line; strings need double quotes".to_string())
+    };
+    let span = e.span().unwrap_or(0..1);
+    v.error(span, msg, hint);
+}
+
+fn path_segments(p: &serde_ignored::Path<'_>) -> Vec<String> {
+    use serde_ignored::Path;
+    let mut out = Vec::new();
+    let mut cur = p;
+    loop {
+        match cur {
+            Path::Root => break,
+            Path::Seq { parent, index } => {
+                out.push(index.to_string());
+                cur = parent;
+            }
+            Path::Map { parent, key } => {
+                out.push(key.clone());
+                cur = parent;
+            }
+            Path::Some { parent }
+            | Path::NewtypeStruct { parent }
+            | Path::NewtypeVariant { parent } => cur = parent,
+        }
+    }
+    out.reverse();
+    out
+}
+
+fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
+    if unknown.is_empty() {
+        return;
+    }
+    let Ok(doc) = toml::de::DeTable::parse(&v.file.text) else {
+        return;
+    };
+    for path in unknown {
+        // Spanned<T> wrappers show up as synthetic keys; skip them.
+        let path: Vec<&String> = path.iter().filter(|s| !s.starts_with("$__")).collect();
+        if path.is_empty() {
+            continue;
+        }
+        let mut table = doc.get_ref();
+        let mut span = 0..1;
+        let mut value: Option<&toml::Spanned<toml::de::DeValue<'_>>> = None;
+        for seg in &path {
+            let next = if let Some(val) = value {
+                match val.get_ref() {
+                    toml::de::DeValue::Array(a) => seg
+                        .parse::<usize>()
+                        .ok()
+                        .and_then(|i| a.iter().nth(i)),
+                    toml::de::DeValue::Table(t) => {
+                        table = t;
+                        find_key(table, seg, &mut span)
+                    }
+                    _ => None,
+                }
+            } else {
+                find_key(table, seg, &mut span)
+            };
+            match next {
+                Some(n) => {
+                    if let toml::de::DeValue::Table(t) = n.get_ref() {
+                        table = t;
+                    }
+                    value = Some(n);
+                }
+                None => break,
+            }
+        }
+        let last = path.last().map(|s| s.as_str()).unwrap_or("");
+        v.warn(
+            span,
+            format!("unknown key `{}` is ignored", path.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(".")),
+            Some(format!("check the spelling of `{last}`; README.md lists every key")),
+        );
+    }
+}
+
+fn find_key<'t, 'i>(
+    table: &'t toml::de::DeTable<'i>,
+    key: &str,
+    span: &mut Range<usize>,
+) -> Option<&'t toml::Spanned<toml::de::DeValue<'i>>> {
+    for (k, val) in table.iter() {
+        if k.get_ref().as_ref() == key {
+            *span = k.span();
+            return Some(val);
+        }
+    }
+    None
+}
+
+fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
+    let raw = parse_raw(v)?;
+    let whole = 0..1;
+
+    // ---- [site] and units first: every length depends on them.
+    let meta_raw = match &raw.site {
+        Some(s) => s,
+        None => {
+            v.error(
+                whole.clone(),
+                "the file has no `[site]` table",
+                Some("add `[site]` with at least `id`, `name`, `units` and `report_date`".into()),
+            );
+            &toml::Spanned::new(whole.clone(), RawSiteMeta::default())
+        }
+    };
+    let mspan = meta_raw.span();
+    let m = meta_raw.get_ref();
+    let units = match &m.units {
+        Some(u) => match Units::parse(u.get_ref()) {
+            Some(x) => x,
+            None => {
+                v.error(
+                    u.span(),
+                    format!("unknown units `{}`", u.get_ref()),
+                    Some("write `units = \"metres\"` or `units = \"feet\"`".into()),
+                );
+                Units::Metres
+            }
+        },
+        None => {
+            v.error(
+                mspan.clone(),
+                "`[site]` is missing `units`",
+                Some("add `units = \"metres\"` or `units = \"feet\"`; every length in the file uses it".into()),
+            );
+            Units::Metres
+        }
+    };
+    v.to_m = units.to_m();
+    let id = v
+        .req(&m.id, mspan.clone(), "`[site]`", "id", "add `id = \"short-name\"`")
+        .cloned()
+        .unwrap_or_default();
+    if let Some(idv) = &m.id {
+        if idv.get_ref().is_empty()
+            || !idv
+                .get_ref()
+                .chars()
+                .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+        {
+            v.error(
+                idv.span(),
+                "the site id must be letters, digits, `-` or `_`",
+                Some("it names output folders; e.g. `id = \"north-depot\"`".into()),
+            );
+        }
+    }
+    let name = v
+        .req(&m.name, mspan.clone(), "`[site]`", "name", "add `name = \"...\"`")
+        .cloned()
+        .unwrap_or_default();
+    let report_date = match &m.report_date {
+        Some(d) => {
+            if !is_iso_date(d.get_ref()) {
+                v.error(
+                    d.span(),
+                    format!("`report_date` must be YYYY-MM-DD (got `{}`)", d.get_ref()),
+                    Some("e.g. `report_date = \"2026-11-20\"`; the report never reads the clock".into()),
+                );
+            }
+            d.get_ref().clone()
+        }
+        None => {
+            v.error(
+                mspan.clone(),
+                "`[site]` is missing `report_date`",
+                Some("add `report_date = \"YYYY-MM-DD\"`; the report date comes from the file so that runs are reproducible".into()),
+            );
+            String::new()
+        }
+    };
+    let building = match &m.building {
+        Some(b) => {
+            let s = b.get_ref().as_str();
+            if s != "traditional" && s != "thermally-efficient" {
+                v.error(
+                    b.span(),
+                    format!("unknown building type `{s}`"),
+                    Some("write `traditional` or `thermally-efficient` (ITU-R P.2109 building types)".into()),
+                );
+            }
+            s.to_string()
+        }
+        None => "traditional".into(),
+    };
+    let meta = SiteMeta {
+        id,
+        name,
+        client: v.text(&m.client),
+        address: v.text(&m.address),
+        author: v.text(&m.author),
+        reviewer: v.text(&m.reviewer),
+        report_date,
+        revision: v.text(&m.revision),
+        building,
+    };
+    let north_deg = m.north_deg.as_ref().map(|n| *n.get_ref());
+
+    // ---- [prediction]
+    let prediction = {
+        let d = RawPrediction::default();
+        let p = raw.prediction.as_ref().map(|p| p.get_ref()).unwrap_or(&d);
+        let grid_step_m = match &p.grid_step {
+            Some(g) => v.length(g, "grid_step", false).unwrap_or(1.0),
+            None => 1.0,
+        };
+        let receiver_height_m = match &p.receiver_height {
+            Some(g) => v.length(g, "receiver_height", true).unwrap_or(1.5),
+            None => 1.5,
+        };
+        let combine = match &p.combine {
+            Some(c) => match c.get_ref().as_str() {
+                "strongest" => Combine::Strongest,
+                "power-sum" => Combine::PowerSum,
+                other => {
+                    v.error(
+                        c.span(),
+                        format!("unknown combine rule `{other}`"),
+                        Some("write `strongest` (best server) or `power-sum`".into()),
+                    );
+                    Combine::Strongest
+                }
+            },
+            None => Combine::Strongest,
+        };
+        let shadowing_sigma_db = match &p.shadowing_sigma_db {
+            Some(s) if *s.get_ref() < 0.0 || *s.get_ref() > 20.0 => {
+                v.error(
+                    s.span(),
+                    "`shadowing_sigma_db` must be between 0 and 20 dB",
+                    Some("indoor shadowing is typically 3 to 10 dB (common practice)".into()),
+                );
+                8.0
+            }
+            Some(s) => *s.get_ref(),
+            None => 8.0,
+        };
+        let model = match &p.model {
+            Some(mo) => {
+                let s = mo.get_ref().as_str();
+                if s != "multi-wall" && s != "free-space" {
+                    v.error(
+                        mo.span(),
+                        format!("unknown prediction model `{s}`"),
+                        Some("write `multi-wall` or `free-space`".into()),
+                    );
+                }
+                s.to_string()
+            }
+            None => "multi-wall".into(),
+        };
+        if grid_step_m < 0.05 {
+            if let Some(g) = &p.grid_step {
+                v.error(
+                    g.span(),
+                    "`grid_step` is below 5 cm",
+                    Some("a step of 0.25 to 1 m is usual for a floor".into()),
+                );
+            }
+        }
+        Prediction {
+            grid_step_m,
+            receiver_height_m,
+            combine,
+            shadowing_sigma_db,
+            model,
+        }
+    };
+
+    let revisions = raw
+        .revisions
+        .iter()
+        .map(|r| {
+            let r = r.get_ref();
+            Revision {
+                revision: v.text(&r.revision),
+                date: v.text(&r.date),
+                note: v.text(&r.note),
+            }
+        })
+        .collect();
+
+    // ---- materials: library, then the site's own.
+    let mut lib = library.clone();
+    let mut seen = BTreeSet::new();
+    for rm in &raw.materials {
+        let span = rm.span();
+        let r = rm.get_ref();
+        let Some(idv) = &r.id else {
+            v.error(span, "`[[materials]]` entry is missing `id`", Some("add `id = \"my-material\"`".into()));
+            continue;
+        };
+        v.unique(&mut seen, idv, "material");
+        let id = idv.get_ref().clone();
+        let class = match &r.class {
+            Some(c) => match MaterialClass::from_id(c.get_ref()) {
+                Some(k) => k,
+                None => {
+                    v.error(
+                        c.span(),
+                        format!("unknown material class `{}`", c.get_ref()),
+                        Some(format!("one of: {}", MaterialClass::IDS.join(", "))),
+                    );
+                    MaterialClass::Other
+                }
+            },
+            None => lib.get(&id).map(|m| m.class).unwrap_or(MaterialClass::Other),
+        };
+        let kinds = [
+            r.loss_db.is_some(),
+            r.permittivity.is_some(),
+            r.itu.is_some(),
+            r.layers.is_some(),
+        ];
+        if kinds.iter().filter(|k| **k).count() != 1 {
+            v.error(
+                idv.span(),
+                format!("material `{id}` needs exactly one of `loss_db`, `permittivity`, `itu` or `layers`"),
+                Some("`loss_db = [[900, 4.0], [2400, 5.0]]` gives measured dB at MHz points".into()),
+            );
+            continue;
+        }
+        let model = if let Some(t) = &r.loss_db {
+            match table_points(v, t, "loss_db") {
+                Some(pts) => MaterialModel::Empirical {
+                    loss_db: pts,
+                    reflection_loss_db: r
+                        .reflection_loss_db
+                        .as_ref()
+                        .and_then(|t| table_points(v, t, "reflection_loss_db"))
+                        .unwrap_or_default(),
+                },
+                None => continue,
+            }
+        } else if let Some(e) = &r.permittivity {
+            if *e.get_ref() < 1.0 {
+                v.error(e.span(), "relative permittivity must be 1 or more", None);
+                continue;
+            }
+            let sigma = r.conductivity.as_ref().map(|c| *c.get_ref()).unwrap_or(0.0);
+            if sigma < 0.0 {
+                if let Some(c) = &r.conductivity {
+                    v.error(c.span(), "conductivity must be zero or more (S/m)", None);
+                }
+                continue;
+            }
+            MaterialModel::CustomSlab {
+                eps_real: *e.get_ref(),
+                sigma_s_per_m: sigma,
+            }
+        } else if let Some(i) = &r.itu {
+            match rfsite_physics::p2040::material(i.get_ref()) {
+                Some(m) => MaterialModel::Itu(m),
+                None => {
+                    let ids = rfsite_physics::p2040::ITU_MATERIALS.iter().map(|m| m.id);
+                    v.error(
+                        i.span(),
+                        format!("`{}` is not an ITU-R P.2040 material", i.get_ref()),
+                        Some(unknown_name_hint("ITU material", i.get_ref(), ids)),
+                    );
+                    continue;
+                }
+            }
+        } else if let Some(ls) = &r.layers {
+            let mut layers = Vec::new();
+            for l in ls.get_ref() {
+                let lr = l.get_ref();
+                let (Some(mid), Some(th)) = (&lr.material, &lr.thickness) else {
+                    v.error(l.span(), "a layer needs `material` and `thickness`", None);
+                    continue;
+                };
+                let Some(t) = v.length(th, "thickness", false) else { continue };
+                match lib.get(mid.get_ref()).map(|m| m.model.clone()) {
+                    Some(mm @ (MaterialModel::Itu(_) | MaterialModel::CustomSlab { .. })) => {
+                        layers.push((mm, t))
+                    }
+                    Some(_) => v.error(
+                        mid.span(),
+                        format!("layer material `{}` is not a slab material", mid.get_ref()),
+                        Some("layers need ITU-R P.2040 materials or site materials with `permittivity`".into()),
+                    ),
+                    None => {
+                        let hint = unknown_name_hint("material", mid.get_ref(), lib.ids());
+                        v.error(mid.span(), format!("unknown material `{}`", mid.get_ref()), Some(hint));
+                    }
+                }
+            }
+            MaterialModel::Layered(layers)
+        } else {
+            continue;
+        };
+        let name = r.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_else(|| id.clone());
+        let source = r
+            .source
+            .as_ref()
+            .map(|n| n.get_ref().clone())
+            .unwrap_or_else(|| "site definition".into());
+        lib.materials.insert(
+            id.clone(),
+            Material {
+                id,
+                name,
+                class,
+                source,
+                confidence: "site".into(),
+                model,
+                origin: "site".into(),
+            },
+        );
+    }
+
+    // ---- floors
+    let mut floors: Vec<Floor> = Vec::new();
+    let mut floor_ids = BTreeSet::new();
+    if raw.floors.is_empty() {
+        v.error(whole.clone(), "the site has no `[[floors]]`", Some("add at least one `[[floors]]` with `id`, `elevation`, `height` and `outline`".into()));
+    }
+    let mut used_materials: BTreeSet<String> = BTreeSet::new();
+    for rf in &raw.floors {
+        let span = rf.span();
+        let f = rf.get_ref();
+        let Some(idv) = &f.id else {
+            v.error(span, "`[[floors]]` entry is missing `id`", Some("add `id = \"L1\"`".into()));
+            continue;
+        };
+        v.unique(&mut floor_ids, idv, "floor");
+        let what = format!("floor `{}`", idv.get_ref());
+        let elevation_m = f.elevation.as_ref().and_then(|e| v.coord(e));
+        if f.elevation.is_none() {
+            v.error(span.clone(), format!("{what} is missing `elevation`"), Some("add `elevation = 0.0` (site units, finished floor level)".into()));
+        }
+        let height_m = match &f.height {
+            Some(h) => v.length(h, "height", false),
+            None => {
+                v.error(span.clone(), format!("{what} is missing `height`"), Some("add the floor-to-floor `height` in site units".into()));
+                None
+            }
+        };
+        let slab_material = match &f.slab_material {
+            Some(sm) => {
+                check_material(v, &lib, sm);
+                used_materials.insert(sm.get_ref().clone());
+                sm.get_ref().clone()
+            }
+            None => {
+                used_materials.insert("concrete-floor-slab".into());
+                "concrete-floor-slab".into()
+            }
+        };
+        let slab_thickness_m = match &f.slab_thickness {
+            Some(t) => v.length(t, "slab_thickness", false).unwrap_or(0.2),
+            None => 0.2,
+        };
+        let outline = match &f.outline {
+            Some(o) => {
+                let pts = v.points(o);
+                if let Some(p) = &pts {
+                    if p.len() < 3 || rfsite_geometry::polygon_area(p) <= 0.0 {
+                        v.error(o.span(), format!("{what}: the outline needs at least 3 points enclosing an area"), None);
+                    }
+                }
+                pts.unwrap_or_default()
+            }
+            None => {
+                v.error(span.clone(), format!("{what} is missing `outline`"), Some("add `outline = [[0, 0], [40, 0], [40, 25], [0, 25]]`".into()));
+                Vec::new()
+            }
+        };
+        floors.push(Floor {
+            id: idv.get_ref().clone(),
+            name: f.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_else(|| idv.get_ref().clone()),
+            elevation_m: elevation_m.unwrap_or(0.0),
+            height_m: height_m.unwrap_or(3.0),
+            slab_material,
+            slab_thickness_m,
+            outline,
+            parts: Vec::new(),
+            zones: Vec::new(),
+            plan_image: f.plan_image.as_ref().map(|p| p.get_ref().clone()),
+        });
+    }
+    let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();
+    let floor_of = |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<usize> {
+        match fid {
+            Some(f) => match floor_names.iter().position(|x| x == f.get_ref()) {
+                Some(i) => Some(i),
+                None => {
+                    let hint = unknown_name_hint("floor", f.get_ref(), floor_names.iter().map(String::as_str));
+                    v.error(f.span(), format!("{what} is on floor `{}`, which does not exist", f.get_ref()), Some(hint));
+                    None
+                }
+            },
+            None => {
+                v.error(span, format!("{what} is missing `floor`"), Some(format!("add `floor = \"{}\"`", floor_names.first().map(String::as_str).unwrap_or("L1"))));
+                None
+            }
+        }
+    };
+
+    // ---- openings grouped by wall id
+    let mut openings: BTreeMap<String, Vec<&S<RawOpening>>> = BTreeMap::new();
+    for o in &raw.openings {
+        match &o.get_ref().wall {
+            Some(w) => openings.entry(w.get_ref().clone()).or_default().push(o),
+            None => v.error(o.span(), "`[[openings]]` entry is missing `wall`", Some("name the wall it sits in: `wall = \"W3\"` (the wall needs an `id`)".into())),
+        }
+    }
+    let mut wall_ids = BTreeSet::new();
+    for (wi, rw) in raw.walls.iter().enumerate() {
+        let span = rw.span();
+        let w = rw.get_ref();
+        let wid = w.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_else(|| format!("wall-{}", wi + 1));
+        if let Some(i) = &w.id {
+            v.unique(&mut wall_ids, i, "wall");
+        }
+        let what = format!("wall `{wid}`");
+        let fi = floor_of(v, &w.floor, span.clone(), &what);
+        let material = match &w.material {
+            Some(m) => {
+                check_material(v, &lib, m).then(|| m.get_ref().clone())
+            }
+            None => {
+                v.error(span.clone(), format!("{what} is missing `material`"), Some("add `material = \"plasterboard-partition\"`; `rfsite materials` lists them".into()));
+                None
+            }
+        };
+        let thickness_m = match &w.thickness {
+            Some(t) => v.length(t, "thickness", false),
+            None => {
+                v.error(span.clone(), format!("{what} is missing `thickness`"), Some("add `thickness` in site units (e.g. 0.1 for a 100 mm partition in metres)".into()));
+                None
+            }
+        };
+        let pts = match &w.points {
+            Some(p) => {
+                let pts = v.points(p);
+                if let Some(q) = &pts {
+                    if q.len() < 2 {
+                        v.error(p.span(), format!("{what} needs at least 2 points"), None);
+                    }
+                }
+                pts
+            }
+            None => {
+                v.error(span.clone(), format!("{what} is missing `points`"), Some("add `points = [[x1, y1], [x2, y2]]`".into()));
+                None
+            }
+        };
+        let closed = w.closed.as_ref().map(|c| *c.get_ref()).unwrap_or(false);
+        let ops = w.id.as_ref().and_then(|i| openings.remove(i.get_ref())).unwrap_or_default();
+        let (Some(fi), Some(material), Some(thickness_m), Some(mut pts)) = (fi, material, thickness_m, pts) else {
+            continue;
+        };
+        if pts.len() < 2 {
+            continue;
+        }
+        used_materials.insert(material.clone());
+        if closed {
+            pts.push(pts[0]);
+        }
+        let polyline_len: f64 = pts.windows(2).map(|p| p[0].distance(p[1])).sum();
+        // Openings as arc-length intervals along the polyline.
+        let mut intervals: Vec<(f64, f64, WallPart)> = Vec::new();
+        for o in ops {
+            let or = o.get_ref();
+            let oid = or.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_else(|| format!("{wid}-opening"));
+            let kind = match &or.kind {
+                Some(k) => match k.get_ref().as_str() {
+                    "door" => PartKind::Door,
+                    "window" => PartKind::Window,
+                    other => {
+                        v.error(k.span(), format!("unknown opening kind `{other}`"), Some("write `door` or `window`".into()));
+                        continue;
+                    }
+                },
+                None => PartKind::Door,
+            };
+            let om = match &or.material {
+                Some(m) => {
+                    if !check_material(v, &lib, m) {
+                        continue;
+                    }
+                    m.get_ref().clone()
+                }
+                None => {
+                    v.error(o.span(), format!("opening `{oid}` is missing `material`"), Some("e.g. `material = \"wooden-door\"`".into()));
+                    continue;
+                }
+            };
+            used_materials.insert(om.clone());
+            let (Some(off), Some(wd)) = (&or.offset, &or.width) else {
+                v.error(o.span(), format!("opening `{oid}` needs `offset` (from the wall's first point) and `width`"), None);
+                continue;
+            };
+            let (Some(off_m), Some(w_m)) = (v.length(off, "offset", true), v.length(wd, "width", false)) else {
+                continue;
+            };
+            if off_m + w_m > polyline_len + 1e-9 {
+                v.error(
+                    wd.span(),
+                    format!("opening `{oid}` ends {:.2} {} along wall `{wid}`, which is only {:.2} {} long", units.from_m(off_m + w_m), units.label(), units.from_m(polyline_len), units.label()),
+                    Some("reduce `offset` or `width`".into()),
+                );
+                continue;
+            }
+            let th = match &or.thickness {
+                Some(t) => v.length(t, "thickness", false).unwrap_or(thickness_m),
+                None => thickness_m,
+            };
+            intervals.push((
+                off_m,
+                off_m + w_m,
+                WallPart { id: oid, segment: Segment { a: Point2::default(), b: Point2::default() }, material: om, thickness_m: th, kind },
+            ));
+        }
+        intervals.sort_by(|a, b| a.0.total_cmp(&b.0));
+        for w2 in intervals.windows(2) {
+            if w2[1].0 < w2[0].1 - 1e-9 {
+                v.error(span.clone(), format!("openings `{}` and `{}` overlap on wall `{wid}`", w2[0].2.id, w2[1].2.id), None);
+            }
+        }
+        let wall_part = WallPart { id: wid.clone(), segment: Segment { a: pts[0], b: pts[1] }, material, thickness_m, kind: PartKind::Wall };
+        floors[fi].parts.extend(split_polyline(&pts, &intervals, &wall_part));
+    }
+    for (wid, ops) in openings {
+        for o in ops {
+            let span = o.get_ref().wall.as_ref().map(|w| w.span()).unwrap_or(o.span());
+            let known: Vec<String> = raw.walls.iter().filter_map(|w| w.get_ref().id.as_ref().map(|i| i.get_ref().clone())).collect();
+            let hint = unknown_name_hint("wall id", &wid, known.iter().map(String::as_str));
+            v.error(span, format!("opening refers to wall `{wid}`, which does not exist"), Some(hint));
+        }
+    }
+
+    // ---- zones
+    let mut zone_ids = BTreeSet::new();
+    for rz in &raw.zones {
+        let span = rz.span();
+        let z = rz.get_ref();
+        let zid = z.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_default();
+        if let Some(i) = &z.id {
+            v.unique(&mut zone_ids, i, "zone");
+        } else {
+            v.error(span.clone(), "`[[zones]]` entry is missing `id`", None);
+        }
+        let what = format!("zone `{zid}`");
+        let fi = floor_of(v, &z.floor, span.clone(), &what);
+        let kind = match &z.kind {
+            Some(k) => match k.get_ref().as_str() {
+                "general" => Some(ZoneKind::General),
+                "critical" => Some(ZoneKind::Critical),
+                "excluded" => Some(ZoneKind::Excluded),
+                other => {
+                    v.error(k.span(), format!("unknown zone kind `{other}`"), Some("write `general`, `critical` or `excluded`".into()));
+                    None
+                }
+            },
+            None => Some(ZoneKind::General),
+        };
+        let poly = match &z.polygon {
+            Some(p) => {
+                let pts = v.points(p);
+                if let Some(q) = &pts {
+                    if q.len() < 3 {
+                        v.error(p.span(), format!("{what}: a polygon needs at least 3 points"), None);
+                        None
+                    } else {
+                        pts
+                    }
+                } else {
+                    None
+                }
+            }
+            None => {
+                v.error(span.clone(), format!("{what} is missing `polygon`"), None);
+                None
+            }
+        };
+        if let (Some(fi), Some(kind), Some(polygon)) = (fi, kind, poly) {
+            floors[fi].zones.push(Zone { id: zid, name: z.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_default(), kind, polygon });
+        }
+    }
+
+    // ---- services
+    let mut services = Vec::new();
+    let mut service_ids = BTreeSet::new();
+    if raw.services.is_empty() {
+        v.error(whole.clone(), "the site has no `[[services]]`", Some("add a `[[services]]` with `id`, `freq_mhz` and `threshold_dbm`".into()));
+    }
+    for rs in &raw.services {
+        let span = rs.span();
+        let s = rs.get_ref();
+        let Some(idv) = &s.id else {
+            v.error(span, "`[[services]]` entry is missing `id`", None);
+            continue;
+        };
+        v.unique(&mut service_ids, idv, "service");
+        let what = format!("service `{}`", idv.get_ref());
+        let freq = v.req(&s.freq_mhz, span.clone(), &what, "freq_mhz", "add the centre frequency, e.g. `freq_mhz = 770.0`").copied();
+        if let (Some(f), Some(fs)) = (freq, &s.freq_mhz) {
+            if !(1.0..=100_000.0).contains(&f) {
+                v.error(fs.span(), format!("frequency {f} MHz is outside 1 MHz to 100 GHz"), Some("`freq_mhz` is in MHz: 2.4 GHz is 2400".into()));
+            }
+        }
+        let thr = v.req(&s.threshold_dbm, span.clone(), &what, "threshold_dbm", "add e.g. `threshold_dbm = -95.0`").copied();
+        let tg = s.target_general.as_ref().and_then(|t| v.fraction(t, "target_general")).unwrap_or(0.95);
+        let tc = s.target_critical.as_ref().and_then(|t| v.fraction(t, "target_critical")).unwrap_or(0.99);
+        let metric = s.metric.as_ref().map(|m| m.get_ref().clone()).unwrap_or_else(|| "rssi-dbm".into());
+        if metric != "rssi-dbm" {
+            if let Some(ms) = &s.metric {
+                v.error(ms.span(), format!("unknown metric `{metric}`"), Some("this version grades `rssi-dbm` (received power at an isotropic antenna)".into()));
+            }
+        }
+        services.push(Service {
+            id: idv.get_ref().clone(),
+            name: s.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_else(|| idv.get_ref().clone()),
+            freq_mhz: freq.unwrap_or(1000.0),
+            metric,
+            threshold_dbm: thr.unwrap_or(-95.0),
+            target_general: tg,
+            target_critical: tc,
+            design_margin_db: s.design_margin_db.as_ref().map(|d| *d.get_ref()).unwrap_or(0.0),
+            life_safety: s.life_safety.as_ref().map(|d| *d.get_ref()).unwrap_or(false),
+            rules: s.rules.as_ref().map(|r| r.get_ref().clone()),
+        });
+    }
+    let svc_names: Vec<String> = services.iter().map(|s| s.id.clone()).collect();
+    let service_of = |v: &mut V<'_>, sid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<String> {
+        match sid {
+            Some(s) if svc_names.contains(s.get_ref()) => Some(s.get_ref().clone()),
+            Some(s) => {
+                let hint = unknown_name_hint("service", s.get_ref(), svc_names.iter().map(String::as_str));
+                v.error(s.span(), format!("{what} names service `{}`, which does not exist", s.get_ref()), Some(hint));
+                None
+            }
+            None => {
+                v.error(span, format!("{what} is missing `service`"), None);
+                None
+            }
+        }
+    };
+
+    // ---- transmitters
+    let mut transmitters = Vec::new();
+    let mut tx_ids = BTreeSet::new();
+    for rt in &raw.transmitters {
+        let span = rt.span();
+        let t = rt.get_ref();
+        let Some(idv) = &t.id else {
+            v.error(span, "`[[transmitters]]` entry is missing `id`", None);
+            continue;
+        };
+        v.unique(&mut tx_ids, idv, "transmitter");
+        let what = format!("transmitter `{}`", idv.get_ref());
+        let svc = service_of(v, &t.service, span.clone(), &what);
+        let fi = floor_of(v, &t.floor, span.clone(), &what);
+        let pos = match &t.position {
+            Some(p) => v.point(p),
+            None => {
+                v.error(span.clone(), format!("{what} is missing `position`"), Some("add `position = [x, y]` in site units".into()));
+                None
+            }
+        };
+        let height_m = match &t.height {
+            Some(h) => v.length(h, "height", true),
+            None => Some(2.7),
+        };
+        let power = v.req(&t.power_dbm, span.clone(), &what, "power_dbm", "add the conducted power, e.g. `power_dbm = 15.0`").copied();
+        let mut loss = |x: &Option<S<f64>>, name: &str| -> f64 {
+            match x {
+                Some(l) if *l.get_ref() < 0.0 => {
+                    v.error(l.span(), format!("`{name}` is a loss and cannot be negative"), Some("write the loss as a positive number of dB".into()));
+                    0.0
+                }
+                Some(l) => *l.get_ref(),
+                None => 0.0,
+            }
+        };
+        let cable = loss(&t.cable_loss_db, "cable_loss_db");
+        let conn = loss(&t.connector_loss_db, "connector_loss_db");
+        let gain = t.antenna_gain_dbi.as_ref().map(|g| *g.get_ref()).unwrap_or(0.0);
+        let pattern = match t.pattern.as_ref().map(|p| (p.get_ref().as_str(), p.span())) {
+            None | Some(("omni-ceiling", _)) => Pattern::OmniCeiling,
+            Some(("isotropic", _)) => Pattern::Isotropic,
+            Some(("sector", _)) => Pattern::Sector {
+                azimuth_deg: t.azimuth_deg.as_ref().map(|a| *a.get_ref()).unwrap_or(0.0),
+                downtilt_deg: t.downtilt_deg.as_ref().map(|a| *a.get_ref()).unwrap_or(0.0),
+            },
+            Some((other, sp)) => {
+                v.error(sp, format!("unknown antenna pattern `{other}`"), Some("write `omni-ceiling`, `sector` or `isotropic`".into()));
+                Pattern::Isotropic
+            }
+        };
+        if let (Some(fi), Some(p)) = (fi, pos) {
+            if !floors[fi].outline.is_empty() && !rfsite_geometry::point_in_polygon(p, &floors[fi].outline) {
+                if let Some(ps) = &t.position {
+                    v.warn(ps.span(), format!("{what} lies outside the outline of floor `{}`", floors[fi].id), Some("check the coordinates and the floor".into()));
+                }
+            }
+        }
+        if let (Some(svc), Some(fi), Some(position), Some(height_m), Some(power_dbm)) = (svc, fi, pos, height_m, power) {
+            transmitters.push(Transmitter {
+                id: idv.get_ref().clone(),
+                service: svc,
+                floor: floors[fi].id.clone(),
+                position,
+                height_m,
+                power_dbm,
+                cable_loss_db: cable,
+                connector_loss_db: conn,
+                antenna_gain_dbi: gain,
+                pattern,
+            });
+        }
+    }
+
+    // ---- donors
+    let mut donors = Vec::new();
+    for rd in &raw.donors {
+        let span = rd.span();
+        let d = rd.get_ref();
+        let id = d.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_default();
+        let what = format!("donor `{id}`");
+        let svc = service_of(v, &d.service, span.clone(), &what);
+        let level = v.req(&d.level_dbm, span.clone(), &what, "level_dbm", "add the level measured outside the facade, e.g. `level_dbm = -70.0`").copied();
+        let mut dfloors = Vec::new();
+        match &d.floors {
+            Some(fs) => {
+                for f in fs.get_ref() {
+                    if let Some(i) = floor_of(v, &Some(f.clone()), f.span(), &what) {
+                        dfloors.push(floors[i].id.clone());
+                    }
+                }
+            }
+            None => dfloors = floor_names.clone(),
+        }
+        let facade = d.facade.as_ref().map(|f| f.get_ref().iter().map(|x| x.get_ref().clone()).collect()).unwrap_or_default();
+        if let (Some(service), Some(level_dbm)) = (svc, level) {
+            donors.push(Donor {
+                id,
+                service,
+                level_dbm,
+                floors: dfloors,
+                facade,
+                elevation_deg: d.elevation_deg.as_ref().map(|e| *e.get_ref()).unwrap_or(0.0),
+                direction_deg: d.direction_deg.as_ref().map(|e| *e.get_ref()),
+            });
+        }
+    }
+
+    // ---- surveys
+    let mut surveys = Vec::new();
+    for rs in &raw.surveys {
+        let s = rs.get_ref();
+        let Some(file) = &s.file else {
+            v.error(rs.span(), "`[[surveys]]` entry is missing `file`", Some("add `file = \"survey/L1.csv\"` (relative to the site folder)".into()));
+            continue;
+        };
+        let floor = match &s.floor {
+            Some(_) => floor_of(v, &s.floor, rs.span(), "survey").map(|i| floors[i].id.clone()),
+            None => None,
+        };
+        let service = match &s.service {
+            Some(_) => service_of(v, &s.service, rs.span(), "survey"),
+            None => None,
+        };
+        let mut columns = BTreeMap::new();
+        if let Some(c) = &s.columns {
+            for (k, val) in c.get_ref() {
+                match val.as_str() {
+                    Some(x) => {
+                        columns.insert(k.clone(), x.to_string());
+                    }
+                    None => v.error(c.span(), format!("survey column `{k}` must name a CSV header as a string"), None),
+                }
+            }
+        }
+        let position_units = match &s.position_units {
+            Some(u) => Units::parse(u.get_ref()).unwrap_or_else(|| {
+                v.error(u.span(), format!("unknown units `{}`", u.get_ref()), Some("write `metres` or `feet`".into()));
+                units
+            }),
+            None => units,
+        };
+        surveys.push(Survey { file: file.get_ref().clone(), floor, service, columns, position_units });
+    }
+
+    // ---- probes
+    let mut probes = Vec::new();
+    for rp in &raw.probes {
+        let p = rp.get_ref();
+        let span = rp.span();
+        let Some(m) = &p.material else {
+            v.error(span, "`[[probes]]` entry is missing `material`", None);
+            continue;
+        };
+        if !check_material(v, &lib, m) {
+            continue;
+        }
+        let f = v.req(&p.freq_mhz, span.clone(), "probe", "freq_mhz", "add the probe frequency in MHz").copied();
+        let c = v.req(&p.clear_dbm, span.clone(), "probe", "clear_dbm", "add the level with a clear path").copied();
+        let t = v.req(&p.through_dbm, span.clone(), "probe", "through_dbm", "add the level through the material").copied();
+        if let (Some(freq_mhz), Some(clear_dbm), Some(through_dbm)) = (f, c, t) {
+            probes.push(Probe {
+                material: m.get_ref().clone(),
+                freq_mhz,
+                clear_dbm,
+                through_dbm,
+                distance_m: p.distance.as_ref().and_then(|d| v.length(d, "distance", false)),
+                angle_deg: p.angle_deg.as_ref().map(|a| *a.get_ref()),
+                note: v.text(&p.note),
+            });
+        }
+    }
+
+    // ---- plugin tables
+    let mut plugin_options = BTreeMap::new();
+    if let Some(p) = &raw.plugins {
+        for (k, val) in p.get_ref() {
+            match val.as_table() {
+                Some(t) => {
+                    plugin_options.insert(k.clone(), t.clone());
+                }
+                None => v.error(p.span(), format!("`plugins.{k}` must be a table"), Some(format!("write `[plugins.{k}]` with its options below"))),
+            }
+        }
+    }
+
+    floors.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m).then(a.id.cmp(&b.id)));
+    let load_warnings = v
+        .diags
+        .items
+        .iter()
+        .filter(|d| !d.is_error())
+        .map(|d| format!("{}:{}:{}: {}", d.file, d.line, d.column, d.message))
+        .collect();
+    Some(Site {
+        meta,
+        units,
+        north_deg,
+        prediction,
+        revisions,
+        floors,
+        services,
+        transmitters,
+        donors,
+        surveys,
+        probes,
+        materials: lib,
+        materials_used: used_materials.into_iter().collect(),
+        plugin_options,
+        load_warnings,
+    })
+}
+
+fn check_material(v: &mut V<'_>, lib: &MaterialLibrary, m: &S<String>) -> bool {
+    if lib.get(m.get_ref()).is_some() {
+        return true;
+    }
+    let hint = unknown_name_hint("material", m.get_ref(), lib.ids());
+    v.error(m.span(), format!("unknown material `{}`", m.get_ref()), Some(hint));
+    false
+}
+
+fn table_points(v: &mut V<'_>, t: &S<Vec<Vec<f64>>>, field: &str) -> Option<Vec<(f64, f64)>> {
+    let mut pts = Vec::new();
+    for p in t.get_ref() {
+        if p.len() != 2 || p[0] <= 0.0 || p[1] < 0.0 {
+            v.error(
+                t.span(),
+                format!("`{field}` is a list of `[freq_mhz, dB]` pairs with positive frequency and loss"),
+                Some(format!("e.g. `{field} = [[900, 4.0], [2400, 5.0]]`")),
+            );
+            return None;
+        }
+        pts.push((p[0], p[1]));
+    }
+    if pts.is_empty() || pts.windows(2).any(|w| w[1].0 <= w[0].0) {
+        v.error(t.span(), format!("`{field}` needs at least one point, frequencies ascending"), None);
+        return None;
+    }
+    Some(pts)
+}
+
+fn is_iso_date(s: &str) -> bool {
+    let b = s.as_bytes();
+    if b.len() != 10 || b[4] != b'-' || b[7] != b'-' {
+        return false;
+    }
+    let num = |r: Range<usize>| s.get(r).and_then(|x| x.parse::<u32>().ok());
+    matches!((num(0..4), num(5..7), num(8..10)), (Some(_), Some(m), Some(d)) if (1..=12).contains(&m) && (1..=31).contains(&d))
+}
+
+/// Splits a polyline into wall parts, with opening intervals (arc length from the first
+/// point) cut out and given their own material.
+fn split_polyline(pts: &[Point2], intervals: &[(f64, f64, WallPart)], wall: &WallPart) -> Vec<WallPart> {
+    let mut out = Vec::new();
+    let mut s0 = 0.0;
+    for w in pts.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        let len = a.distance(b);
+        if len <= 0.0 {
+            continue;
+        }
+        let s1 = s0 + len;
+        let mut cuts = vec![s0, s1];
+        for (o0, o1, _) in intervals {
+            for c in [*o0, *o1] {
+                if c > s0 && c < s1 {
+                    cuts.push(c);
+                }
+            }
+        }
+        cuts.sort_by(f64::total_cmp);
+        cuts.dedup_by(|x, y| (*x - *y).abs() < 1e-9);
+        for c in cuts.windows(2) {
+            let (c0, c1) = (c[0], c[1]);
+            let mid = 0.5 * (c0 + c1);
+            let at = |s: f64| {
+                let t = (s - s0) / len;
+                Point2::new(a.x + t * (b.x - a.x), a.y + t * (b.y - a.y))
+            };
+            let template = intervals
+                .iter()
+                .find(|(o0, o1, _)| mid > *o0 && mid < *o1)
+                .map(|(_, _, p)| p)
+                .unwrap_or(wall);
+            let mut part = template.clone();
+            part.segment = Segment { a: at(c0), b: at(c1) };
+            out.push(part);
+        }
+        s0 = s1;
+    }
+    out
+}

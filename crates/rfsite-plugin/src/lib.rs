@@ -1,0 +1,489 @@
+//! # rfsite-plugin
+//!
+//! The one interface every calculation in rfsite goes through. A [`Plugin`] has an id, a
+//! version, a [`Method`] (what it computes, citations, validity range), a list of plugins
+//! it runs after, a check of whether it applies to a site, and a run step that takes a
+//! [`Context`] and returns a [`PluginOutput`] or a [`PluginError`].
+//!
+//! Built-in plugins and the adapter that runs an external program implement the same
+//! trait; the engine sees only `Box<dyn Plugin>`. Output types here are also the wire
+//! types of the external-plugin protocol, so they are plain serde data.
+//!
+//! This crate never reads files and computes no physics.
+#![deny(missing_docs)]
+
+use std::fmt;
+
+use rfsite_model::Site;
+use serde::{Deserialize, Serialize};
+
+pub mod assessment;
+pub use assessment::*;
+
+/// What a plugin computes and on what authority.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Method {
+    /// One-line summary.
+    pub summary: String,
+    /// Published sources (document, edition, section).
+    pub citations: Vec<String>,
+    /// Where the method holds (frequency, distance, geometry).
+    pub validity: String,
+}
+
+/// Severity of a finding (findings.json contract).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize, Hash)]
+#[serde(rename_all = "lowercase")]
+pub enum Severity {
+    /// Fails a life-safety or contractual criterion.
+    Critical,
+    /// Fails a criterion.
+    Major,
+    /// Marginal or local.
+    Minor,
+    /// For information.
+    Info,
+}
+
+impl Severity {
+    /// Lowercase label.
+    pub fn label(&self) -> &'static str {
+        match self {
+            Severity::Critical => "critical",
+            Severity::Major => "major",
+            Severity::Minor => "minor",
+            Severity::Info => "info",
+        }
+    }
+}
+
+/// A regular grid of values (cell centres), in metres.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct GridSpec {
+    /// Lower-left corner x, m.
+    pub origin_x_m: f64,
+    /// Lower-left corner y, m.
+    pub origin_y_m: f64,
+    /// Step, m.
+    pub step_m: f64,
+    /// Columns.
+    pub nx: usize,
+    /// Rows.
+    pub ny: usize,
+}
+
+impl GridSpec {
+    /// As a geometry grid.
+    pub fn to_grid(&self) -> rfsite_geometry::Grid {
+        rfsite_geometry::Grid {
+            origin: rfsite_geometry::Point2::new(self.origin_x_m, self.origin_y_m),
+            step_m: self.step_m,
+            nx: self.nx,
+            ny: self.ny,
+        }
+    }
+    /// From a geometry grid.
+    pub fn from_grid(g: &rfsite_geometry::Grid) -> Self {
+        GridSpec {
+            origin_x_m: g.origin.x,
+            origin_y_m: g.origin.y,
+            step_m: g.step_m,
+            nx: g.nx,
+            ny: g.ny,
+        }
+    }
+}
+
+/// Predicted received level over one floor for one service.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CoverageLayer {
+    /// Floor id.
+    pub floor: String,
+    /// Service id.
+    pub service: String,
+    /// Model (plugin id) that produced it.
+    pub model: String,
+    /// Grid.
+    pub grid: GridSpec,
+    /// Level in dBm at each grid point, row-major; NaN outside the floor outline.
+    pub level_dbm: Vec<f32>,
+    /// Index into `servers` of the best server at each point (`u16::MAX`: none).
+    #[serde(default)]
+    pub best_server: Vec<u16>,
+    /// Transmitter ids.
+    #[serde(default)]
+    pub servers: Vec<String>,
+}
+
+/// One finding (findings.json contract: id, severity, floor, service, title, detail, plugin).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Finding {
+    /// Stable id, e.g. `coverage-ps700-L2`.
+    pub id: String,
+    /// Severity.
+    pub severity: Severity,
+    /// Floor id, if local to a floor.
+    pub floor: Option<String>,
+    /// Service id, if about one service.
+    pub service: Option<String>,
+    /// One line.
+    pub title: String,
+    /// The explanation.
+    pub detail: String,
+    /// Plugin id that raised it.
+    pub plugin: String,
+    /// Shortfall against the threshold, dB (positive = short), if any.
+    #[serde(default)]
+    pub shortfall_db: Option<f64>,
+    /// Plan location (m), if a point.
+    #[serde(default)]
+    pub location_m: Option<[f64; 2]>,
+    /// Likely causes, in words.
+    #[serde(default)]
+    pub causes: Vec<String>,
+    /// Remediation option ids that address it.
+    #[serde(default)]
+    pub remedies: Vec<String>,
+}
+
+/// Result per floor for one service.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FloorResult {
+    /// Floor id.
+    pub id: String,
+    /// Fraction of graded area (general + critical) at or above threshold + margin, 0..1.
+    pub predicted_area_fraction: f64,
+    /// Fraction of general area meeting it.
+    pub general_fraction: Option<f64>,
+    /// Fraction of critical area meeting it.
+    pub critical_fraction: Option<f64>,
+    /// Pass against the service targets.
+    pub pass: bool,
+    /// Lowest predicted level on the floor, dBm.
+    pub min_level_dbm: f64,
+    /// Median predicted level, dBm.
+    pub median_level_dbm: f64,
+    /// Extra margin needed so that the targets would be met, dB (0 when passing).
+    pub margin_needed_db: f64,
+    /// Points graded.
+    pub points: usize,
+}
+
+/// Result per service (findings.json contract: id, freq_mhz, threshold_dbm, floors).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ServiceResult {
+    /// Service id.
+    pub id: String,
+    /// Name.
+    pub name: String,
+    /// Centre frequency, MHz.
+    pub freq_mhz: f64,
+    /// Threshold, dBm.
+    pub threshold_dbm: f64,
+    /// Design margin applied, dB.
+    pub design_margin_db: f64,
+    /// Target fraction for general areas.
+    pub target_general: f64,
+    /// Target fraction for critical areas.
+    pub target_critical: f64,
+    /// Model graded.
+    pub model: String,
+    /// Per floor.
+    pub floors: Vec<FloorResult>,
+    /// Whole-service verdict.
+    pub pass: bool,
+}
+
+/// One remediation option.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Remediation {
+    /// Id, e.g. `indoor-antennas-L2-ps700`.
+    pub id: String,
+    /// Title.
+    pub title: String,
+    /// Service.
+    pub service: Option<String>,
+    /// Floors concerned.
+    pub floors: Vec<String>,
+    /// What to do and why.
+    pub detail: String,
+    /// Additional margin the option must deliver, dB.
+    pub margin_needed_db: f64,
+    /// What it is expected to achieve.
+    pub expected: String,
+    /// Caveats.
+    pub caveats: Vec<String>,
+    /// Plugin that proposed it.
+    pub plugin: String,
+}
+
+/// A safety or compliance caution.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Caution {
+    /// Id.
+    pub id: String,
+    /// Topic, e.g. "RF exposure".
+    pub topic: String,
+    /// Text.
+    pub text: String,
+}
+
+/// A warning from a plugin (validity range, assumptions, skipped data).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq, PartialOrd, Ord)]
+pub struct Warning {
+    /// Plugin id, or "engine".
+    pub plugin: String,
+    /// Message.
+    pub message: String,
+}
+
+/// A table for the report.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Table {
+    /// Id.
+    pub id: String,
+    /// Title.
+    pub title: String,
+    /// Column headings.
+    pub columns: Vec<String>,
+    /// Rows of cells, already formatted.
+    pub rows: Vec<Vec<String>>,
+}
+
+/// A data series for a figure.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Series {
+    /// Legend name.
+    pub name: String,
+    /// (x, y) points.
+    pub points: Vec<[f64; 2]>,
+}
+
+/// Data for a line or scatter chart; the report draws it.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Figure {
+    /// Id (file name).
+    pub id: String,
+    /// Title.
+    pub title: String,
+    /// "line" or "scatter".
+    pub kind: String,
+    /// X axis label with unit.
+    pub x_label: String,
+    /// Y axis label with unit.
+    pub y_label: String,
+    /// Series.
+    pub series: Vec<Series>,
+}
+
+/// A link budget line per transmitter.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct LinkBudget {
+    /// Transmitter id.
+    pub transmitter: String,
+    /// Service id.
+    pub service: String,
+    /// Floor id.
+    pub floor: String,
+    /// Conducted power, dBm.
+    pub power_dbm: f64,
+    /// Cable loss, dB.
+    pub cable_loss_db: f64,
+    /// Connector loss, dB.
+    pub connector_loss_db: f64,
+    /// Antenna gain, dBi.
+    pub antenna_gain_dbi: f64,
+    /// EIRP, dBm.
+    pub eirp_dbm: f64,
+    /// Free-space loss at 10 m, dB.
+    pub fspl_10m_db: f64,
+    /// Distance at which free space alone reaches threshold + margin, m.
+    pub free_space_range_m: f64,
+}
+
+/// Everything a plugin may return.
+#[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq)]
+pub struct PluginOutput {
+    /// Coverage layers.
+    #[serde(default)]
+    pub layers: Vec<CoverageLayer>,
+    /// Findings.
+    #[serde(default)]
+    pub findings: Vec<Finding>,
+    /// Per-service results (the grading plugin's).
+    #[serde(default)]
+    pub services: Vec<ServiceResult>,
+    /// Remediation options.
+    #[serde(default)]
+    pub remediation: Vec<Remediation>,
+    /// Cautions.
+    #[serde(default)]
+    pub cautions: Vec<Caution>,
+    /// Tables.
+    #[serde(default)]
+    pub tables: Vec<Table>,
+    /// Figures.
+    #[serde(default)]
+    pub figures: Vec<Figure>,
+    /// Warnings.
+    #[serde(default)]
+    pub warnings: Vec<Warning>,
+    /// Link budgets.
+    #[serde(default)]
+    pub link_budgets: Vec<LinkBudget>,
+    /// Free-form machine-readable results, merged into findings.json under `extra.<plugin>`.
+    #[serde(default)]
+    pub extra: serde_json::Map<String, serde_json::Value>,
+}
+
+/// A failure of a plugin.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PluginError {
+    /// A `[plugins.<id>]` option is wrong.
+    BadOption {
+        /// Option key.
+        key: String,
+        /// What is wrong.
+        message: String,
+    },
+    /// The plugin needs the output of another that did not run.
+    MissingInput(String),
+    /// Anything else.
+    Failed(String),
+}
+
+impl fmt::Display for PluginError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            PluginError::BadOption { key, message } => write!(f, "option `{key}`: {message}"),
+            PluginError::MissingInput(s) => write!(f, "missing input: {s}"),
+            PluginError::Failed(s) => write!(f, "{s}"),
+        }
+    }
+}
+
+impl std::error::Error for PluginError {}
+
+/// One measured point of a survey.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Measurement {
+    /// Floor id.
+    pub floor: String,
+    /// Service id.
+    pub service: String,
+    /// Plan x, m.
+    pub x_m: f64,
+    /// Plan y, m.
+    pub y_m: f64,
+    /// Level, dBm.
+    pub level_dbm: f64,
+    /// Source file (as named in the site).
+    pub file: String,
+    /// 1-based line in that file.
+    pub line: usize,
+}
+
+/// A row of a survey file that was not used, and why.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
+pub struct RejectedRow {
+    /// File.
+    pub file: String,
+    /// 1-based line.
+    pub line: usize,
+    /// Reason class: `missing-value`, `not-a-number`, `off-plan`, `unknown-service`, `unknown-floor`, `malformed`.
+    pub reason: String,
+    /// Detail.
+    pub detail: String,
+}
+
+/// All survey data of a site, as read by the engine's world.
+#[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq)]
+pub struct SurveyData {
+    /// Accepted points.
+    pub points: Vec<Measurement>,
+    /// Rejected rows (every one of them).
+    pub rejected: Vec<RejectedRow>,
+    /// Rows read per file (accepted + rejected).
+    pub rows_per_file: Vec<(String, usize)>,
+}
+
+/// What a plugin gets to work with.
+pub struct Context<'a> {
+    /// The validated site.
+    pub site: &'a Site,
+    /// The plugin's own `[plugins.<id>]` table (empty when absent).
+    pub options: &'a toml::Table,
+    /// Outputs of the plugins that ran before, by plugin id, in run order.
+    pub earlier: &'a [(String, PluginOutput)],
+    /// Survey measurements.
+    pub surveys: &'a SurveyData,
+}
+
+impl<'a> Context<'a> {
+    /// The output of an earlier plugin.
+    pub fn output_of(&self, id: &str) -> Option<&'a PluginOutput> {
+        self.earlier.iter().find(|(i, _)| i == id).map(|(_, o)| o)
+    }
+    /// All layers produced so far by `model`.
+    pub fn layers_of(&self, model: &str) -> Vec<&'a CoverageLayer> {
+        self.earlier
+            .iter()
+            .flat_map(|(_, o)| o.layers.iter())
+            .filter(|l| l.model == model)
+            .collect()
+    }
+    /// A number option, with a default.
+    pub fn option_f64(&self, key: &str, default: f64) -> Result<f64, PluginError> {
+        match self.options.get(key) {
+            None => Ok(default),
+            Some(toml::Value::Float(f)) => Ok(*f),
+            Some(toml::Value::Integer(i)) => Ok(*i as f64),
+            Some(other) => Err(PluginError::BadOption {
+                key: key.into(),
+                message: format!("expected a number, found {}", other.type_str()),
+            }),
+        }
+    }
+    /// A string option, with a default.
+    pub fn option_str(&self, key: &str, default: &str) -> Result<String, PluginError> {
+        match self.options.get(key) {
+            None => Ok(default.into()),
+            Some(toml::Value::String(s)) => Ok(s.clone()),
+            Some(other) => Err(PluginError::BadOption {
+                key: key.into(),
+                message: format!("expected a string, found {}", other.type_str()),
+            }),
+        }
+    }
+    /// A boolean option, with a default.
+    pub fn option_bool(&self, key: &str, default: bool) -> Result<bool, PluginError> {
+        match self.options.get(key) {
+            None => Ok(default),
+            Some(toml::Value::Boolean(b)) => Ok(*b),
+            Some(other) => Err(PluginError::BadOption {
+                key: key.into(),
+                message: format!("expected true or false, found {}", other.type_str()),
+            }),
+        }
+    }
+}
+
+/// A calculation plugin.
+pub trait Plugin: Send + Sync {
+    /// Stable id, kebab-case; also the `[plugins.<id>]` table name.
+    fn id(&self) -> &str;
+    /// Version of the plugin.
+    fn version(&self) -> &str;
+    /// What it computes and on what authority.
+    fn method(&self) -> Method;
+    /// Plugins it must run after (ids).
+    fn after(&self) -> Vec<String> {
+        Vec::new()
+    }
+    /// Whether it has anything to do on this site.
+    fn applies(&self, _site: &Site) -> bool {
+        true
+    }
+    /// Runs it.
+    fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError>;
+}

@@ -1,0 +1,373 @@
+//! # multi-wall plugin
+//!
+//! COST 231 multi-wall prediction: free-space loss (ITU-R P.525) over the 3D distance, plus
+//! the loss of every wall, door and window the straight transmitter-receiver line crosses
+//! (each at its own incidence angle for slab materials), plus the non-linear floor term
+//! n^((n+2)/(n+1) - b) L_f for paths through n floor slabs.
+//!
+//! For a path between storeys, the 3D line is cut where it passes each slab; the part of it
+//! inside each storey is tested against that storey's walls only.
+
+use rfsite_geometry::{Crossing, Point2, Scratch, Segment, WallIndex};
+use rfsite_model::{MaterialClass, Site};
+use rfsite_physics::cost231;
+use rfsite_physics::p2040::Polarization;
+use rfsite_plugin::*;
+use rfsite_plugin_free_space::{predict, PathLoss, P3};
+use serde::Serialize;
+
+const ANGLE_SAMPLES: usize = 32;
+
+/// Loss of one crossing as a function of |cos(incidence)|.
+#[derive(Debug, Clone)]
+enum LossFn {
+    Const(f32),
+    Angle(Box<[f32; ANGLE_SAMPLES + 1]>),
+}
+
+impl LossFn {
+    fn eval(&self, cos: f64) -> f64 {
+        match self {
+            LossFn::Const(l) => *l as f64,
+            LossFn::Angle(t) => {
+                let x = cos.clamp(0.0, 1.0) * ANGLE_SAMPLES as f64;
+                let i = (x as usize).min(ANGLE_SAMPLES - 1);
+                let f = x - i as f64;
+                t[i] as f64 * (1.0 - f) + t[i + 1] as f64 * f
+            }
+        }
+    }
+}
+
+struct FloorScene {
+    index: WallIndex,
+    bottom_m: f64,
+    top_m: f64,
+}
+
+/// Precomputed geometry and losses of a site for the multi-wall model.
+pub struct Scene {
+    floors: Vec<FloorScene>,
+    /// [service][floor][part]
+    wall_loss: Vec<Vec<Vec<LossFn>>>,
+    /// [service][floor]: slab under the floor.
+    slab_loss: Vec<Vec<LossFn>>,
+    b: f64,
+    max_crossing_db: f64,
+    /// Notes on materials used outside their ranges.
+    pub notes: Vec<String>,
+}
+
+fn loss_fn(
+    site: &Site,
+    material: &str,
+    freq_mhz: f64,
+    thickness_m: f64,
+    pol: Polarization,
+    cap: f64,
+    notes: &mut Vec<String>,
+) -> LossFn {
+    let Some(m) = site.materials.get(material) else {
+        return LossFn::Const(0.0);
+    };
+    let first = m.crossing_loss(freq_mhz, thickness_m, 1.0, pol);
+    if let Some(n) = first.note {
+        notes.push(format!("material `{}`: {}", m.id, n.message()));
+    }
+    if !m.model.angle_dependent() {
+        return LossFn::Const(first.loss_db.min(cap) as f32);
+    }
+    let mut t = Box::new([0f32; ANGLE_SAMPLES + 1]);
+    for (i, v) in t.iter_mut().enumerate() {
+        let cos = (i as f64 / ANGLE_SAMPLES as f64).max(1e-3);
+        *v = m.crossing_loss(freq_mhz, thickness_m, cos, pol).loss_db.min(cap) as f32;
+    }
+    LossFn::Angle(t)
+}
+
+impl Scene {
+    /// Builds the scene: one wall index per floor, loss tables per service.
+    pub fn new(site: &Site, b: f64, max_crossing_db: f64) -> Scene {
+        let n = site.floors.len();
+        let floors = (0..n)
+            .map(|i| {
+                let f = &site.floors[i];
+                let segs: Vec<Segment> = f.parts.iter().map(|p| p.segment).collect();
+                let top = if i + 1 < n {
+                    site.floors[i + 1].elevation_m
+                } else {
+                    f.elevation_m + f.height_m
+                };
+                FloorScene {
+                    index: WallIndex::new(&segs),
+                    bottom_m: f.elevation_m,
+                    top_m: top,
+                }
+            })
+            .collect();
+        let mut notes = Vec::new();
+        let mut wall_loss = Vec::new();
+        let mut slab_loss = Vec::new();
+        for svc in &site.services {
+            wall_loss.push(
+                site.floors
+                    .iter()
+                    .map(|f| {
+                        f.parts
+                            .iter()
+                            .map(|p| {
+                                loss_fn(site, &p.material, svc.freq_mhz, p.thickness_m, Polarization::Te, max_crossing_db, &mut notes)
+                            })
+                            .collect()
+                    })
+                    .collect(),
+            );
+            slab_loss.push(
+                site.floors
+                    .iter()
+                    .map(|f| loss_fn(site, &f.slab_material, svc.freq_mhz, f.slab_thickness_m, Polarization::Tm, max_crossing_db, &mut notes))
+                    .collect(),
+            );
+        }
+        notes.sort();
+        notes.dedup();
+        Scene {
+            floors,
+            wall_loss,
+            slab_loss,
+            b,
+            max_crossing_db,
+            notes,
+        }
+    }
+
+    /// Calls `f(floor, crossing)` for every wall crossing of the path.
+    fn for_each_crossing(
+        &self,
+        scratch: &mut (Scratch, Vec<Crossing>),
+        tx: P3,
+        tx_floor: usize,
+        rx: P3,
+        rx_floor: usize,
+        mut f: impl FnMut(usize, &Crossing),
+    ) {
+        let (sc, out) = scratch;
+        if tx_floor == rx_floor {
+            out.clear();
+            self.floors[rx_floor]
+                .index
+                .crossings_with(sc, tx.p, rx.p, out);
+            for c in out.iter() {
+                f(rx_floor, c);
+            }
+            return;
+        }
+        let (lo, hi) = (tx_floor.min(rx_floor), tx_floor.max(rx_floor));
+        let dz = rx.z - tx.z;
+        for k in lo..=hi {
+            let fs = &self.floors[k];
+            let (mut t0, mut t1) = if dz.abs() < 1e-12 {
+                (0.0, 1.0)
+            } else {
+                ((fs.bottom_m - tx.z) / dz, (fs.top_m - tx.z) / dz)
+            };
+            if t0 > t1 {
+                std::mem::swap(&mut t0, &mut t1);
+            }
+            let (t0, t1) = (t0.max(0.0), t1.min(1.0));
+            if t1 <= t0 {
+                continue;
+            }
+            let at = |t: f64| Point2::new(tx.p.x + t * (rx.p.x - tx.p.x), tx.p.y + t * (rx.p.y - tx.p.y));
+            out.clear();
+            fs.index.crossings_with(sc, at(t0), at(t1), out);
+            for c in out.iter() {
+                f(k, c);
+            }
+        }
+    }
+
+    fn floor_db(&self, service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> (u32, f64) {
+        if tx_floor == rx_floor {
+            return (0, 0.0);
+        }
+        let (lo, hi) = (tx_floor.min(rx_floor), tx_floor.max(rx_floor));
+        let d = ((rx.p.x - tx.p.x).powi(2) + (rx.p.y - tx.p.y).powi(2) + (rx.z - tx.z).powi(2)).sqrt();
+        let cos = if d > 0.0 { (rx.z - tx.z).abs() / d } else { 1.0 };
+        let n = (hi - lo) as u32;
+        let mean: f64 = ((lo + 1)..=hi).map(|j| self.slab_loss[service][j].eval(cos)).sum::<f64>() / n as f64;
+        (n, cost231::floor_term_db(n, mean, self.b))
+    }
+}
+
+impl PathLoss for Scene {
+    type Scratch = (Scratch, Vec<Crossing>);
+    fn scratch(&self) -> Self::Scratch {
+        (Scratch::new(), Vec::new())
+    }
+    fn extra_db(&self, scratch: &mut Self::Scratch, service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> f64 {
+        let mut walls = 0.0;
+        let table = &self.wall_loss[service];
+        self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
+            walls += table[k][c.wall].eval(c.cos_incidence);
+        });
+        walls + self.floor_db(service, tx, tx_floor, rx, rx_floor).1
+    }
+}
+
+/// What one path's loss is made of, for the findings ("why").
+#[derive(Debug, Clone, Serialize)]
+pub struct Breakdown {
+    /// Floor of the receiver point.
+    pub floor: String,
+    /// Service.
+    pub service: String,
+    /// Point, m.
+    pub point_m: [f64; 2],
+    /// Predicted level there, dBm.
+    pub level_dbm: f64,
+    /// Best server.
+    pub server: String,
+    /// Free-space loss, dB.
+    pub fspl_db: f64,
+    /// Walls crossed, grouped by material.
+    pub walls: Vec<WallGroup>,
+    /// Floor slabs crossed.
+    pub floors_crossed: u32,
+    /// Floor term, dB.
+    pub floor_loss_db: f64,
+    /// Total path loss, dB (free space + walls + floors).
+    pub total_loss_db: f64,
+}
+
+/// Crossings of one material on a path.
+#[derive(Debug, Clone, Serialize)]
+pub struct WallGroup {
+    /// Material id.
+    pub material: String,
+    /// Material name.
+    pub name: String,
+    /// Class label.
+    pub class: String,
+    /// Number of crossings.
+    pub count: usize,
+    /// Their loss, dB.
+    pub loss_db: f64,
+}
+
+/// Breaks down the path from transmitter `tx_id` to point `p` on floor `rx_floor`.
+pub fn breakdown(site: &Site, scene: &Scene, service: usize, tx_id: &str, rx_floor: usize, p: Point2, level_dbm: f64) -> Option<Breakdown> {
+    let t = site.transmitters.iter().find(|t| t.id == tx_id)?;
+    let tf = site.floor_index(&t.floor)?;
+    let tx = P3 { p: t.position, z: site.floors[tf].elevation_m + t.height_m };
+    let rx = P3 { p, z: site.floors[rx_floor].elevation_m + site.prediction.receiver_height_m };
+    let mut groups: std::collections::BTreeMap<String, (usize, f64)> = Default::default();
+    let mut scratch = scene.scratch();
+    scene.for_each_crossing(&mut scratch, tx, tf, rx, rx_floor, |k, c| {
+        let part = &site.floors[k].parts[c.wall];
+        let e = groups.entry(part.material.clone()).or_default();
+        e.0 += 1;
+        e.1 += scene.wall_loss[service][k][c.wall].eval(c.cos_incidence);
+    });
+    let (n, fl) = scene.floor_db(service, tx, tf, rx, rx_floor);
+    let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2)).sqrt().max(rfsite_plugin_free_space::MIN_DISTANCE_M);
+    let fspl_db = rfsite_physics::fspl::fspl_db(site.services[service].freq_mhz, d);
+    let mut walls: Vec<WallGroup> = groups
+        .into_iter()
+        .map(|(m, (count, loss_db))| {
+            let mat = site.materials.get(&m);
+            WallGroup {
+                name: mat.map(|x| x.name.clone()).unwrap_or_else(|| m.clone()),
+                class: mat.map(|x| x.class).unwrap_or(MaterialClass::Other).label().to_string(),
+                material: m,
+                count,
+                loss_db,
+            }
+        })
+        .collect();
+    walls.sort_by(|a, b| b.loss_db.total_cmp(&a.loss_db).then(a.material.cmp(&b.material)));
+    let wl: f64 = walls.iter().map(|w| w.loss_db).sum();
+    Some(Breakdown {
+        floor: site.floors[rx_floor].id.clone(),
+        service: site.services[service].id.clone(),
+        point_m: [p.x, p.y],
+        level_dbm,
+        server: tx_id.to_string(),
+        fspl_db,
+        walls,
+        floors_crossed: n,
+        floor_loss_db: fl,
+        total_loss_db: fspl_db + wl + fl,
+    })
+}
+
+/// The multi-wall plugin.
+pub struct MultiWall;
+
+impl Plugin for MultiWall {
+    fn id(&self) -> &str {
+        "multi-wall"
+    }
+    fn version(&self) -> &str {
+        env!("CARGO_PKG_VERSION")
+    }
+    fn method(&self) -> Method {
+        Method {
+            summary: "COST 231 multi-wall: free-space loss plus the loss of each wall, door and window crossed by the direct path (slab materials at the actual incidence angle), plus the non-linear floor term".into(),
+            citations: vec![
+                "COST 231 Final Report (1999), section 4.7, multi-wall model".into(),
+                "ITU-R P.525-4 (08/2019) free-space loss".into(),
+                "ITU-R P.2040-3 (08/2023) section 3 and Table 3: slab transmission".into(),
+            ],
+            validity: "indoor paths of a few to about 100 m; the floor term was fitted near 1.8 GHz; reflections and diffraction around walls are not modelled".into(),
+        }
+    }
+    fn after(&self) -> Vec<String> {
+        vec!["free-space".into()]
+    }
+    fn applies(&self, site: &Site) -> bool {
+        !site.transmitters.is_empty()
+    }
+    fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
+        let b = ctx.option_f64("floor_b", cost231::COST231_DEFAULT_B)?;
+        if !(0.0..=2.0).contains(&b) {
+            return Err(PluginError::BadOption { key: "floor_b".into(), message: "must be between 0 and 2 (COST 231 fitted 0.46)".into() });
+        }
+        let cap = ctx.option_f64("max_crossing_loss_db", 60.0)?;
+        if cap <= 0.0 {
+            return Err(PluginError::BadOption { key: "max_crossing_loss_db".into(), message: "must be positive".into() });
+        }
+        let site = ctx.site;
+        let scene = Scene::new(site, b, cap);
+        let layers = predict(site, self.id(), &scene);
+        let mut out = PluginOutput { warnings: scene.notes.iter().map(|n| Warning { plugin: self.id().into(), message: n.clone() }).collect(), ..Default::default() };
+        out.warnings.push(Warning {
+            plugin: self.id().into(),
+            message: format!("a single crossing is capped at {cap:.0} dB: leakage and diffraction around real walls bound what one crossing costs (common practice)"),
+        });
+        // Worst point of every layer, explained.
+        let mut bds = Vec::new();
+        for l in &layers {
+            let (Some(si), Some(fi)) = (site.services.iter().position(|s| s.id == l.service), site.floor_index(&l.floor)) else { continue };
+            let worst = l
+                .level_dbm
+                .iter()
+                .enumerate()
+                .filter(|(_, v)| v.is_finite())
+                .min_by(|a, b| a.1.total_cmp(b.1).then(a.0.cmp(&b.0)));
+            if let Some((i, v)) = worst {
+                let g = l.grid.to_grid();
+                let server = l.best_server.get(i).and_then(|&s| l.servers.get(s as usize));
+                if let Some(server) = server {
+                    if let Some(bd) = breakdown(site, &scene, si, server, fi, g.point(i), *v as f64) {
+                        bds.push(bd);
+                    }
+                }
+            }
+        }
+        out.extra.insert("worst_points".into(), serde_json::to_value(&bds).map_err(|e| PluginError::Failed(e.to_string()))?);
+        let _ = scene.max_crossing_db;
+        out.layers = layers;
+        Ok(out)
+    }
+}
