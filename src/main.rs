@@ -1,1 +1,63 @@
-fn main(){}
+//! `rfsite`: the command line. Thin by design: parse, dispatch one module per subcommand,
+//! map the outcome to an exit code (0 done, 2 bad input, 1 any other failure).
+
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+mod calc;
+mod check;
+mod init;
+mod materials;
+mod plugins;
+mod report;
+
+/// Exit status of a subcommand.
+pub enum Outcome {
+    /// Done.
+    Ok,
+    /// Bad input: nothing written, every problem listed.
+    BadInput,
+    /// Anything else went wrong.
+    Failed,
+}
+
+#[derive(Parser)]
+#[command(name = "rfsite", version, about = "Radio coverage assessment of buildings: a site project in, a signed-off report out")]
+struct Cli {
+    #[command(subcommand)]
+    cmd: Cmd,
+}
+
+#[derive(Subcommand)]
+enum Cmd {
+    /// Scaffold a new site project that passes `check`.
+    Init(init::Args),
+    /// Validate a site project; every problem as file:line:column with a hint.
+    Check(check::Args),
+    /// Run the pipeline and write report.pdf, findings.json and figures/.
+    Report(report::Args),
+    /// One published calculation, for quick what-ifs.
+    Calc(calc::Args),
+    /// The material library with sources and validity ranges.
+    Materials(materials::Args),
+    /// The plugins, their methods and run order.
+    Plugins(plugins::Args),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let outcome = match cli.cmd {
+        Cmd::Init(a) => init::run(a),
+        Cmd::Check(a) => check::run(a),
+        Cmd::Report(a) => report::run(a),
+        Cmd::Calc(a) => calc::run(a),
+        Cmd::Materials(a) => materials::run(a),
+        Cmd::Plugins(a) => plugins::run(a),
+    };
+    match outcome {
+        Outcome::Ok => ExitCode::SUCCESS,
+        Outcome::BadInput => ExitCode::from(2),
+        Outcome::Failed => ExitCode::from(1),
+    }
+}

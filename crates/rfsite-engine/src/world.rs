@@ -92,3 +92,65 @@ impl World {
         self.hashes.iter().map(|(p, h)| InputFile { path: p.clone(), sha256: h.clone() }).collect()
     }
 }
+
+/// Reads every file below `dir` (relative names with `/`), for template folders.
+pub fn read_dir_files(dir: &Path) -> Result<BTreeMap<String, Vec<u8>>, String> {
+    fn walk(base: &Path, d: &Path, out: &mut BTreeMap<String, Vec<u8>>, depth: usize) -> Result<(), String> {
+        if depth > 4 {
+            return Ok(());
+        }
+        let rd = std::fs::read_dir(d).map_err(|e| format!("{}: {e}", display_path(d)))?;
+        for entry in rd {
+            let entry = entry.map_err(|e| e.to_string())?;
+            let p = entry.path();
+            if p.is_dir() {
+                walk(base, &p, out, depth + 1)?;
+            } else if p.is_file() {
+                let rel = p.strip_prefix(base).map_err(|e| e.to_string())?.to_string_lossy().replace('\\', "/");
+                out.insert(rel, std::fs::read(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?);
+            }
+        }
+        Ok(())
+    }
+    let mut out = BTreeMap::new();
+    walk(dir, dir, &mut out, 0)?;
+    Ok(out)
+}
+
+/// Writes output files below `out` atomically: each file goes to a temporary name in the
+/// same folder and is renamed into place, so an interrupted run never leaves a half-written
+/// report. Refuses to write over any input file of `world`.
+pub fn write_outputs(out: &Path, files: &[(String, Vec<u8>)], world: &World) -> Result<(), String> {
+    let inputs: Vec<PathBuf> = world
+        .hashes
+        .keys()
+        .map(|k| world.root.join(k))
+        .chain(std::iter::once(world.site_file.clone()))
+        .filter_map(|p| p.canonicalize().ok())
+        .collect();
+    std::fs::create_dir_all(out).map_err(|e| format!("{}: {e}", display_path(out)))?;
+    // Remove figures of an earlier run so the folder holds exactly this run's outputs.
+    let figs = out.join("figures");
+    if figs.is_dir() {
+        for e in std::fs::read_dir(&figs).map_err(|e| e.to_string())?.flatten() {
+            if e.path().extension().is_some_and(|x| x == "svg") {
+                let _ = std::fs::remove_file(e.path());
+            }
+        }
+    }
+    for (rel, bytes) in files {
+        let dest = out.join(rel);
+        if let Some(parent) = dest.parent() {
+            std::fs::create_dir_all(parent).map_err(|e| format!("{}: {e}", display_path(parent)))?;
+        }
+        if let Ok(c) = dest.canonicalize() {
+            if inputs.contains(&c) {
+                return Err(format!("{}: refusing to overwrite an input file; choose another output folder with -o", display_path(&dest)));
+            }
+        }
+        let tmp = dest.with_file_name(format!(".{}.tmp-{}", dest.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(), std::process::id()));
+        std::fs::write(&tmp, bytes).map_err(|e| format!("{}: {e}", display_path(&tmp)))?;
+        std::fs::rename(&tmp, &dest).map_err(|e| format!("{}: {e}", display_path(&dest)))?;
+    }
+    Ok(())
+}

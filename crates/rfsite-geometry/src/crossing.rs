@@ -65,7 +65,7 @@ impl Ray {
         }
         let d = q - p;
         let len = d.length();
-        if !(len > 2.0 * EPS_M) || !len.is_finite() {
+        if len <= 2.0 * EPS_M || !len.is_finite() {
             return None;
         }
         let inv_len = 1.0 / len;

@@ -334,8 +334,9 @@ fn margin_m(extent_m: f64) -> f64 {
 
 /// Cell size from the wall density: about one wall's share of the area.
 fn auto_cell_m(w: f64, h: f64, n_walls: usize) -> f64 {
-    if n_walls == 0 || !(w * h > 0.0) {
+    let area = w * h;
+    if n_walls == 0 || area <= 0.0 || !area.is_finite() {
         return w.max(h).max(1.0);
     }
-    CELL_FACTOR * (w * h / n_walls as f64).sqrt()
+    CELL_FACTOR * (area / n_walls as f64).sqrt()
 }

@@ -1,0 +1,286 @@
+//! `rfsite calc NAME [FLAGS] [--json]`: one published calculation.
+
+use rfsite_model::MaterialLibrary;
+use rfsite_physics::p2040::Polarization;
+use rfsite_physics::{antenna, cost231, exposure, fspl, p1238, p2109, standing_wave, stats};
+use serde_json::{json, Map, Value};
+
+use crate::Outcome;
+
+/// Arguments of `calc`.
+#[derive(clap::Args)]
+pub struct Args {
+    #[command(subcommand)]
+    pub what: What,
+    /// Print one JSON object.
+    #[arg(long, global = true)]
+    pub json: bool,
+}
+
+/// The calculations.
+#[derive(clap::Subcommand)]
+pub enum What {
+    /// Free-space loss, ITU-R P.525.
+    Fspl {
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long)]
+        distance_m: f64,
+    },
+    /// Loss and reflection of one material, ITU-R P.2040 or the empirical library.
+    Material {
+        #[arg(long)]
+        material: String,
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long, default_value_t = 100.0)]
+        thickness_mm: f64,
+        #[arg(long, default_value_t = 0.0)]
+        incidence_deg: f64,
+        #[arg(long, default_value = "te")]
+        polarization: String,
+    },
+    /// Building entry loss, ITU-R P.2109.
+    Bel {
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long)]
+        building: String,
+        #[arg(long)]
+        probability: f64,
+        #[arg(long, default_value_t = 0.0)]
+        elevation_deg: f64,
+    },
+    /// Standing wave in front of a reflector.
+    StandingWave {
+        #[arg(long)]
+        material: String,
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long, default_value_t = 100.0)]
+        thickness_mm: f64,
+        #[arg(long, default_value_t = 2.0)]
+        max_distance_m: f64,
+    },
+    /// Compliance distance from EIRP against an exposure limit.
+    Exposure {
+        #[arg(long)]
+        eirp_w: f64,
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long)]
+        limit: String,
+    },
+    /// Field strength from received power (isotropic antenna).
+    FieldStrength {
+        #[arg(long)]
+        dbm: f64,
+        #[arg(long)]
+        freq_mhz: f64,
+    },
+    /// Fraction of a cell area above threshold (Jakes, after Reudink).
+    AreaCoverage {
+        #[arg(long)]
+        sigma_db: f64,
+        #[arg(long)]
+        exponent: f64,
+        #[arg(long)]
+        edge_probability: f64,
+    },
+    /// Indoor site-general loss, ITU-R P.1238.
+    Indoor {
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long)]
+        distance_m: f64,
+        #[arg(long, default_value_t = 0)]
+        floors: u32,
+        #[arg(long, default_value = "office")]
+        environment: String,
+    },
+    /// COST 231 multi-wall loss.
+    Multiwall {
+        #[arg(long)]
+        freq_mhz: f64,
+        #[arg(long)]
+        distance_m: f64,
+        /// Wall losses in dB, comma separated.
+        #[arg(long, value_delimiter = ',', default_value = "")]
+        walls_db: Vec<String>,
+        #[arg(long, default_value_t = 0)]
+        floors: u32,
+        #[arg(long, default_value_t = 18.3)]
+        floor_loss_db: f64,
+        #[arg(long, default_value_t = 0.46)]
+        b: f64,
+    },
+    /// 3GPP TR 38.901 sector element gain.
+    Pattern {
+        /// Zenith angle, degrees (90 = horizon).
+        #[arg(long, default_value_t = 90.0)]
+        theta_deg: f64,
+        /// Azimuth from boresight, degrees.
+        #[arg(long, default_value_t = 0.0)]
+        phi_deg: f64,
+        #[arg(long, default_value_t = 8.0)]
+        gain_dbi: f64,
+    },
+}
+
+fn bad(msg: String) -> Result<Value, String> {
+    Err(msg)
+}
+
+fn positive(name: &str, v: f64) -> Result<(), String> {
+    if v.is_finite() && v > 0.0 {
+        Ok(())
+    } else {
+        Err(format!("--{name} must be a positive number (got {v})"))
+    }
+}
+
+fn material_of(lib: &MaterialLibrary, id: &str) -> Result<rfsite_model::Material, String> {
+    lib.get(id).cloned().ok_or_else(|| format!("unknown material `{id}`\n  = hint: {}", rfsite_model::diag::unknown_name_hint("material", id, lib.ids())))
+}
+
+fn compute(w: &What) -> Result<Value, String> {
+    let lib = MaterialLibrary::builtin();
+    match w {
+        What::Fspl { freq_mhz, distance_m } => {
+            positive("freq-mhz", *freq_mhz)?;
+            positive("distance-m", *distance_m)?;
+            let note = fspl::fspl_range_note(*freq_mhz, *distance_m);
+            Ok(json!({"loss_db": fspl::fspl_db(*freq_mhz, *distance_m), "extrapolated": note.is_some(), "warning": note.map(|n| n.message()), "source": "ITU-R P.525-4 eq. (1)"}))
+        }
+        What::Material { material, freq_mhz, thickness_mm, incidence_deg, polarization } => {
+            positive("freq-mhz", *freq_mhz)?;
+            positive("thickness-mm", *thickness_mm)?;
+            if !(0.0..90.0).contains(incidence_deg) {
+                return bad(format!("--incidence-deg must be from 0 to below 90 (got {incidence_deg})"));
+            }
+            let pol = match polarization.as_str() {
+                "te" => Polarization::Te,
+                "tm" => Polarization::Tm,
+                p => return bad(format!("--polarization must be te or tm (got {p})")),
+            };
+            let m = material_of(&lib, material)?;
+            let t = thickness_mm / 1000.0;
+            let cos = incidence_deg.to_radians().cos();
+            let l = m.crossing_loss(*freq_mhz, t, cos, pol);
+            let r = m.reflection_coefficient(*freq_mhz, t);
+            let (eps, sigma) = match &m.model {
+                rfsite_model::MaterialModel::Itu(i) => (Some(i.permittivity_real(freq_mhz / 1000.0)), Some(i.conductivity_s_per_m(freq_mhz / 1000.0))),
+                rfsite_model::MaterialModel::CustomSlab { eps_real, sigma_s_per_m } => (Some(*eps_real), Some(*sigma_s_per_m)),
+                _ => (None, None),
+            };
+            let refl_db = if r.norm() > 0.0 { -20.0 * r.norm().log10() } else { f64::INFINITY };
+            Ok(json!({"material": m.id, "model": m.model_label(), "permittivity_real": eps, "conductivity_s_per_m": sigma,
+                "transmission_loss_db": l.loss_db, "reflection_loss_db": if refl_db.is_finite() { Some(refl_db) } else { None },
+                "extrapolated": l.note.is_some(), "warning": l.note.map(|n| n.message()), "source": m.source}))
+        }
+        What::Bel { freq_mhz, building, probability, elevation_deg } => {
+            positive("freq-mhz", *freq_mhz)?;
+            let b = match building.as_str() {
+                "traditional" => p2109::BuildingType::Traditional,
+                "thermally-efficient" => p2109::BuildingType::ThermallyEfficient,
+                x => return bad(format!("--building must be traditional or thermally-efficient (got {x})")),
+            };
+            let f = freq_mhz / 1000.0;
+            let l = p2109::building_entry_loss_db(f, *probability, *elevation_deg, b).map_err(|e| e.to_string())?;
+            let note = p2109::bel_range_note(f);
+            Ok(json!({"loss_db": l, "extrapolated": note.is_some(), "warning": note.map(|n| n.message()), "source": "ITU-R P.2109-2"}))
+        }
+        What::StandingWave { material, freq_mhz, thickness_mm, max_distance_m } => {
+            positive("freq-mhz", *freq_mhz)?;
+            positive("max-distance-m", *max_distance_m)?;
+            let m = material_of(&lib, material)?;
+            let g = m.reflection_coefficient(*freq_mhz, thickness_mm / 1000.0);
+            let depth = standing_wave::peak_to_null_db(g.norm());
+            let depth = if depth.is_finite() { Some(depth) } else { None };
+            Ok(json!({"gamma_abs": g.norm(), "gamma_phase_deg": g.arg().to_degrees(), "nulls_m": standing_wave::nulls_m(g, *freq_mhz, *max_distance_m),
+                "peaks_m": standing_wave::peaks_m(g, *freq_mhz, *max_distance_m), "peak_to_null_db": depth,
+                "quarter_wave_m": standing_wave::quarter_wave_spacing_m(*freq_mhz)}))
+        }
+        What::Exposure { eirp_w, freq_mhz, limit } => {
+            positive("eirp-w", *eirp_w)?;
+            positive("freq-mhz", *freq_mhz)?;
+            let lim = exposure::ExposureLimit::from_id(limit).ok_or_else(|| format!("--limit must be one of fcc-general, fcc-occupational, icnirp-general, icnirp-occupational (got {limit})"))?;
+            let s = exposure::limit_w_per_m2(lim, *freq_mhz).map_err(|e| e.to_string())?;
+            Ok(json!({"limit_w_per_m2": s, "distance_m": exposure::compliance_distance_m(*eirp_w, s), "source": lim.source(), "note": "far-field estimate; near-field and multiple sources need a full evaluation"}))
+        }
+        What::FieldStrength { dbm, freq_mhz } => {
+            positive("freq-mhz", *freq_mhz)?;
+            Ok(json!({"dbuv_per_m": fspl::dbm_to_dbuv_per_m(*dbm, *freq_mhz)}))
+        }
+        What::AreaCoverage { sigma_db, exponent, edge_probability } => {
+            let f = stats::area_coverage_fraction(*sigma_db, *exponent, *edge_probability).map_err(|e| e.to_string())?;
+            Ok(json!({"area_fraction": f, "source": "Jakes (1974) section 2.3, after Reudink"}))
+        }
+        What::Indoor { freq_mhz, distance_m, floors, environment } => {
+            positive("freq-mhz", *freq_mhz)?;
+            positive("distance-m", *distance_m)?;
+            let env = match environment.as_str() {
+                "residential" => p1238::IndoorEnvironment::Residential,
+                "office" => p1238::IndoorEnvironment::Office,
+                "commercial" => p1238::IndoorEnvironment::Commercial,
+                x => return bad(format!("--environment must be residential, office or commercial (got {x})")),
+            };
+            let r = p1238::indoor_loss_db(*freq_mhz, *distance_m, *floors, env).map_err(|e| e.to_string())?;
+            Ok(json!({"loss_db": r.loss_db, "extrapolated": !r.range_notes.is_empty(), "notes": r.notes, "source": "ITU-R P.1238 site-general model"}))
+        }
+        What::Multiwall { freq_mhz, distance_m, walls_db, floors, floor_loss_db, b } => {
+            positive("freq-mhz", *freq_mhz)?;
+            positive("distance-m", *distance_m)?;
+            let mut walls = Vec::new();
+            for w in walls_db.iter().filter(|w| !w.trim().is_empty()) {
+                let v: f64 = w.trim().parse().map_err(|_| format!("--walls-db: `{w}` is not a number"))?;
+                if v < 0.0 {
+                    return bad(format!("--walls-db: a wall loss cannot be negative (got {v})"));
+                }
+                walls.push(v);
+            }
+            let l0 = fspl::fspl_db(*freq_mhz, *distance_m);
+            let l = cost231::multiwall_loss_db(l0, 0.0, &walls, *floors, *floor_loss_db, *b);
+            Ok(json!({"loss_db": l, "free_space_db": l0, "walls_db": walls.iter().sum::<f64>(), "floor_term_db": cost231::floor_term_db(*floors, *floor_loss_db, *b), "source": "COST 231 Final Report (1999) section 4.7"}))
+        }
+        What::Pattern { theta_deg, phi_deg, gain_dbi } => {
+            if !(0.0..=180.0).contains(theta_deg) {
+                return bad(format!("--theta-deg must be from 0 to 180 (got {theta_deg})"));
+            }
+            let p = antenna::ElementPattern { g_max_dbi: *gain_dbi, ..Default::default() };
+            Ok(json!({"gain_dbi": p.gain_dbi(*theta_deg, *phi_deg), "source": "3GPP TR 38.901 Table 7.3-1"}))
+        }
+    }
+}
+
+/// Runs `calc`.
+pub fn run(a: Args) -> Outcome {
+    match compute(&a.what) {
+        Ok(v) => {
+            if a.json {
+                println!("{}", serde_json::to_string(&v).unwrap_or_default());
+            } else if let Value::Object(m) = v {
+                print_plain(&m);
+            }
+            Outcome::Ok
+        }
+        Err(e) => {
+            eprintln!("error: {e}");
+            Outcome::BadInput
+        }
+    }
+}
+
+fn print_plain(m: &Map<String, Value>) {
+    for (k, v) in m {
+        match v {
+            Value::Null => {}
+            Value::Number(n) => println!("{k}: {:.4}", n.as_f64().unwrap_or(0.0)),
+            Value::String(s) => println!("{k}: {s}"),
+            other => println!("{k}: {other}"),
+        }
+    }
+    if let Some(Value::String(w)) = m.get("warning") {
+        eprintln!("warning: {w}");
+    }
+}
