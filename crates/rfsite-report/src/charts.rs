@@ -50,19 +50,19 @@ fn rgb(c: (u8, u8, u8)) -> RGBColor {
 /// Line colour and width of a wall class on the map.
 pub fn wall_style(class: MaterialClass, kind: PartKind) -> (RGBColor, u32) {
     match kind {
-        PartKind::Door => return (RGBColor(150, 90, 30), 2),
+        PartKind::Door => return (RGBColor(150, 90, 30), 4),
         PartKind::Window => {}
         PartKind::Wall => {}
     }
     match class {
-        MaterialClass::Metal => (RGBColor(0, 0, 0), 5),
-        MaterialClass::Concrete => (RGBColor(70, 70, 70), 4),
-        MaterialClass::Masonry => (RGBColor(120, 90, 60), 3),
-        MaterialClass::CoatedGlass => (RGBColor(176, 40, 125), 4),
-        MaterialClass::Glass => (RGBColor(60, 170, 200), 2),
-        MaterialClass::Wood => (RGBColor(150, 90, 30), 2),
-        MaterialClass::Light => (RGBColor(140, 140, 150), 2),
-        _ => (RGBColor(110, 110, 110), 2),
+        MaterialClass::Metal => (RGBColor(0, 0, 0), 8),
+        MaterialClass::Concrete => (RGBColor(70, 70, 70), 6),
+        MaterialClass::Masonry => (RGBColor(120, 90, 60), 5),
+        MaterialClass::CoatedGlass => (RGBColor(176, 40, 125), 6),
+        MaterialClass::Glass => (RGBColor(60, 170, 200), 4),
+        MaterialClass::Wood => (RGBColor(150, 90, 30), 4),
+        MaterialClass::Light => (RGBColor(140, 140, 150), 3),
+        _ => (RGBColor(110, 110, 110), 3),
     }
 }
 
@@ -218,7 +218,7 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
         let nice = [1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0, 200.0, 500.0];
         let bar = nice.iter().copied().filter(|n| *n <= span / 4.0).fold(1.0, f64::max);
         let bx = x0 + span * 0.03;
-        let by = y0 + (y1 - y0) * 0.025;
+        let by = y0 + (y1 - y0) * 0.045;
         chart.draw_series(std::iter::once(Rectangle::new([(bx, by), (bx + bar, by + (y1 - y0) * 0.008)], BLACK.filled()))).map_err(e)?;
         let style = TextStyle::from((CHART_FONT, 13).into_font()).color(&BLACK).pos(Pos::new(HPos::Left, VPos::Bottom));
         chart.draw_series(std::iter::once(Text::new(format!("{bar} {unit}"), (bx, by + (y1 - y0) * 0.015), style))).map_err(e)?;

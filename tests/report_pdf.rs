@@ -1,0 +1,45 @@
+//! The demo report renders, and a PDF text extractor finds what a reader needs.
+
+use crate::util::{pdf_pages, pdf_text, rfsite, root};
+
+#[test]
+fn demo_report_has_the_sections_verdicts_and_audit_trail() {
+    let out_dir = tempfile::tempdir().unwrap();
+    let site = root().join("examples/kestrel-quay-clinic");
+    let out = rfsite().arg("report").arg(&site).arg("-o").arg(out_dir.path()).output().unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let pdf = out_dir.path().join("report.pdf");
+    assert!(pdf_pages(&pdf) >= 6);
+    let text = pdf_text(&pdf);
+    for s in ["Executive summary", "Scope and method", "Site description", "Coverage by floor and service", "Findings", "Remediation options", "Safety and compliance cautions", "Audit trail", "authority having jurisdiction"] {
+        assert!(text.contains(s), "PDF lacks `{s}`");
+    }
+    assert!(text.contains("PASS") || text.contains("FAIL"));
+    // findings.json essentials (DESIGN.md contract).
+    let f: serde_json::Value = serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap()).unwrap();
+    assert_eq!(f["schema"], "rfsite-findings/1");
+    assert_eq!(f["tool"]["name"], "rfsite");
+    assert!(f["site"]["id"].is_string() && f["site"]["name"].is_string());
+    for s in f["services"].as_array().unwrap() {
+        assert!(s["freq_mhz"].is_number() && s["threshold_dbm"].is_number());
+        for fl in s["floors"].as_array().unwrap() {
+            let a = fl["predicted_area_fraction"].as_f64().unwrap();
+            assert!((0.0..=1.0).contains(&a));
+            assert!(fl["pass"].is_boolean() && fl["id"].is_string());
+        }
+    }
+    for x in f["findings"].as_array().unwrap() {
+        assert!(["critical", "major", "minor", "info"].contains(&x["severity"].as_str().unwrap()));
+        for k in ["id", "title", "detail", "plugin"] {
+            assert!(x[k].is_string(), "finding lacks {k}");
+        }
+    }
+    // Audit trail: the SHA-256 of every input appears in the PDF (pdftotext may wrap).
+    let flat: String = text.split_whitespace().collect();
+    for i in f["inputs"].as_array().unwrap() {
+        let h = i["sha256"].as_str().unwrap();
+        assert_eq!(h.len(), 64);
+        assert!(flat.contains(h), "hash of {} missing from the PDF", i["path"]);
+    }
+    assert!(out_dir.path().join("figures").read_dir().unwrap().count() >= 2);
+}

@@ -1,0 +1,37 @@
+//! Shared helpers for the CLI tests.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// The rfsite binary built for these tests.
+pub fn rfsite() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_rfsite"))
+}
+
+/// The repository root.
+pub fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// Runs rfsite with args from the repository root.
+pub fn run(args: &[&str]) -> Output {
+    rfsite().current_dir(root()).args(args).output().expect("rfsite runs")
+}
+
+/// Text of a PDF, through poppler's pdftotext (a real PDF text extractor).
+pub fn pdf_text(pdf: &Path) -> String {
+    let out = Command::new("pdftotext").arg("-layout").arg(pdf).arg("-").output().expect(
+        "pdftotext (poppler-utils) is needed by the report tests: apt-get install -y poppler-utils",
+    );
+    assert!(out.status.success(), "pdftotext failed on {}", pdf.display());
+    String::from_utf8_lossy(&out.stdout).to_string()
+}
+
+/// Page count of a PDF through poppler's pdfinfo.
+pub fn pdf_pages(pdf: &Path) -> usize {
+    let out = Command::new("pdfinfo").arg(pdf).output().expect("pdfinfo (poppler-utils) is needed");
+    let text = String::from_utf8_lossy(&out.stdout).to_string();
+    text.lines()
+        .find_map(|l| l.strip_prefix("Pages:").map(|n| n.trim().parse().unwrap_or(0)))
+        .unwrap_or(0)
+}
