@@ -43,3 +43,46 @@ fn demo_report_has_the_sections_verdicts_and_audit_trail() {
     }
     assert!(out_dir.path().join("figures").read_dir().unwrap().count() >= 2);
 }
+
+#[test]
+fn typst_special_characters_print_literally() {
+    let dir = tempfile::tempdir().unwrap();
+    let starter = std::fs::read_to_string(root().join("templates/starter/site.toml")).unwrap();
+    let nasty = r#"Block #7 $cost *bold* _under_ @ref <tag> [x] back\slash `tick`"#;
+    let text = starter
+        .replace("name = \"New site\"", &format!("name = {}", toml_str(nasty)))
+        .replace("client = \"Client name\"", "client = \"=== heading? #set page(width: 1cm)\"");
+    std::fs::write(dir.path().join("site.toml"), text).unwrap();
+    let out = rfsite().arg("report").arg(dir.path()).arg("-o").arg(dir.path().join("out")).output().unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let t = pdf_text(&dir.path().join("out/report.pdf"));
+    for piece in ["Block #7", "$cost", "*bold*", "_under_", "@ref", "<tag>", "[x]", "back\\slash", "`tick`", "#set page(width: 1cm)"] {
+        assert!(t.contains(piece), "PDF text lacks `{piece}`");
+    }
+}
+
+fn toml_str(s: &str) -> String {
+    format!("'{s}'")
+}
+
+#[test]
+fn second_template_renders_and_looks_different() {
+    let dir = tempfile::tempdir().unwrap();
+    let site = root().join("templates/starter/site.toml");
+    let a = dir.path().join("default");
+    let b = dir.path().join("classic");
+    for (out, tpl) in [(&a, None), (&b, Some(root().join("templates/classic")))] {
+        let mut cmd = rfsite();
+        cmd.arg("report").arg(&site).arg("-o").arg(out);
+        if let Some(t) = tpl {
+            cmd.arg("--template").arg(t);
+        }
+        let o = cmd.output().unwrap();
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    }
+    let ta = pdf_text(&a.join("report.pdf"));
+    let tb = pdf_text(&b.join("report.pdf"));
+    assert!(ta.contains("Radio Coverage Assessment"));
+    assert!(tb.contains("Meridian & Vale Radio Engineering"));
+    assert!(!ta.contains("Meridian & Vale"));
+}
