@@ -1,8 +1,4 @@
-//! CLI integration tests: one test binary, each test in its own temporary folder.
+//! CLI integration tests: one test binary (modules under `tests/cli/`), each test in its own
+//! temporary folder.
 
-mod util;
-
-mod check_broken;
-mod determinism;
-mod report_pdf;
-mod calc_cli;
+mod cli;

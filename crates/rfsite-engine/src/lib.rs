@@ -102,6 +102,11 @@ impl Registry {
                 (Box::new(rfsite_plugin_free_space::FreeSpace), "built-in".into()),
                 (Box::new(rfsite_plugin_multi_wall::MultiWall), "built-in".into()),
                 (Box::new(rfsite_plugin_link_budget::LinkBudgetPlugin), "built-in".into()),
+                (Box::new(rfsite_plugin_reflection_nulls::ReflectionNulls), "built-in".into()),
+                (Box::new(rfsite_plugin_building_entry::BuildingEntry), "built-in".into()),
+                (Box::new(rfsite_plugin_survey_compare::SurveyCompare), "built-in".into()),
+                (Box::new(rfsite_plugin_calibration::Calibration), "built-in".into()),
+                (Box::new(rfsite_plugin_grading::Grading), "built-in".into()),
             ],
         }
     }
@@ -238,7 +243,9 @@ fn collect(site: &Site, loaded: &LoadedSite, plugins: Vec<PluginRun>, outputs: V
     };
     a.services.sort_by(|x, y| x.id.cmp(&y.id));
     a.findings.sort_by(|x, y| x.severity.cmp(&y.severity).then(x.id.cmp(&y.id)));
-    a.remediation.sort_by(|x, y| y.margin_needed_db.total_cmp(&x.margin_needed_db).then(x.id.cmp(&y.id)));
+    // Life-safety services first, then the largest shortfall.
+    let life = |r: &Remediation| r.service.as_ref().and_then(|s| site.service(s)).is_some_and(|s| s.life_safety);
+    a.remediation.sort_by(|x, y| life(y).cmp(&life(x)).then(y.margin_needed_db.total_cmp(&x.margin_needed_db)).then(x.id.cmp(&y.id)));
     a.warnings.sort();
     a.warnings.dedup();
     inputs.sort();
@@ -260,16 +267,41 @@ pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
     site.materials_used
         .iter()
         .filter_map(|id| site.materials.get(id))
-        .map(|m| {
+        .map(|probed| {
+            // A probed material shows its library values, with the probe value beside them.
+            let lib = site.materials.before_probes.get(&probed.id);
+            let m = lib.unwrap_or(probed);
+            let probe_pts: Vec<(f64, f64)> = site
+                .probes
+                .iter()
+                .filter(|p| p.material == m.id)
+                .map(|p| (p.freq_mhz, rfsite_model::material::probe_loss_db(p.clear_dbm, p.through_dbm)))
+                .collect();
+            let probe_loss_db = lib.and_then(|_| {
+                let at = |f: f64| probed.crossing_loss(f, 0.1, 1.0, Polarization::Te).loss_db;
+                site.services
+                    .iter()
+                    .find(|s| probe_pts.iter().any(|(pf, _)| (pf - s.freq_mhz).abs() <= rfsite_model::material::PROBE_FREQ_TOLERANCE * s.freq_mhz))
+                    .map(|s| at(s.freq_mhz))
+                    .or_else(|| probe_pts.first().map(|p| at(p.0)))
+            });
             let t = thickness.get(m.id.as_str()).copied().unwrap_or(0.1);
             let empirical = !m.model.angle_dependent();
             MaterialRow {
                 id: m.id.clone(),
                 name: m.name.clone(),
                 class: m.class.label().into(),
-                model: m.model_label().into(),
+                model: match (lib, probe_loss_db) {
+                    (Some(_), Some(pl)) => format!(
+                        "{}; overridden by site probe: {:.1} dB at {} MHz (library values shown)",
+                        m.model_label(),
+                        pl,
+                        probe_pts.iter().map(|p| format!("{}", p.0)).collect::<Vec<_>>().join(", ")
+                    ),
+                    _ => m.model_label().into(),
+                },
                 source: m.source.clone(),
-                confidence: m.confidence.clone(),
+                confidence: if lib.is_some() { format!("{}; site probe", m.confidence) } else { m.confidence.clone() },
                 losses: site
                     .services
                     .iter()
@@ -278,7 +310,7 @@ pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
                         MaterialLoss { service: s.id.clone(), freq_mhz: s.freq_mhz, thickness_m: (!empirical).then_some(t), loss_db: l.loss_db, extrapolated: l.note.is_some() }
                     })
                     .collect(),
-                probe_loss_db: None,
+                probe_loss_db,
             }
         })
         .collect()

@@ -35,6 +35,13 @@ pub(crate) struct Touch {
     left: bool,
 }
 
+/// The outcome of one wall for one path.
+enum Event {
+    None,
+    Cross(Crossing),
+    Touch(Touch),
+}
+
 /// Per-query event buffers, reused across queries.
 #[derive(Debug, Default, Clone)]
 pub(crate) struct Collector {
@@ -83,6 +90,26 @@ impl Ray {
     /// corner touch in `c`. `w` must be finite.
     #[inline]
     pub(crate) fn classify(&self, wall: usize, w: &Segment, c: &mut Collector) {
+        match self.event(wall, w) {
+            Event::None => {}
+            Event::Cross(x) => c.crosses.push(x),
+            Event::Touch(t) => c.touches.push(t),
+        }
+    }
+
+    /// The crossing of a wall that is not a corner touch, if any (used where
+    /// the wall is known to cross cleanly).
+    #[inline]
+    pub(crate) fn crossing(&self, wall: usize, w: &Segment) -> Option<Crossing> {
+        match self.event(wall, w) {
+            Event::Cross(x) => Some(x),
+            _ => None,
+        }
+    }
+
+    /// What one wall does to the path under the crossing rules.
+    #[inline]
+    fn event(&self, wall: usize, w: &Segment) -> Event {
         // Signed perpendicular distances of the wall ends from the path line;
         // positive = left of p → q.
         let da = self.u.cross(w.a - self.p);
@@ -92,21 +119,21 @@ impl Ray {
         if a_on || b_on {
             if a_on && b_on {
                 // Collinear with the path (or degenerate): grazing, never a crossing.
-                return;
+                return Event::None;
             }
             let (v, other) = if a_on { (w.a, db) } else { (w.b, da) };
             let t = self.u.dot(v - self.p) * self.inv_len;
             if t > self.t_eps && t < 1.0 - self.t_eps {
-                c.touches.push(Touch {
+                return Event::Touch(Touch {
                     wall,
                     t,
                     left: other > 0.0,
                 });
             }
-            return;
+            return Event::None;
         }
         if (da > 0.0) == (db > 0.0) {
-            return;
+            return Event::None;
         }
         // The wall strictly straddles the path line; find where along the path.
         let e = w.b - w.a;
@@ -114,15 +141,16 @@ impl Ray {
         let dq = e.cross(self.q - w.a);
         let t = dp / (dp - dq);
         if t > self.t_eps && t < 1.0 - self.t_eps {
-            c.crosses.push(Crossing {
+            return Event::Cross(Crossing {
                 wall,
                 t,
                 cos_incidence: self.cos_incidence(w),
             });
         }
+        Event::None
     }
 
-    fn cos_incidence(&self, w: &Segment) -> f64 {
+    pub(crate) fn cos_incidence(&self, w: &Segment) -> f64 {
         let e = w.b - w.a;
         let len = e.length();
         if len > 0.0 {

@@ -83,6 +83,7 @@ mod grid;
 mod index;
 mod point;
 mod polygon;
+pub mod shadow;
 pub mod synth;
 
 pub use crossing::{crossings_brute_force, Crossing, EPS_M};

@@ -314,6 +314,30 @@ impl Material {
 pub struct MaterialLibrary {
     /// By id, sorted.
     pub materials: BTreeMap<String, Material>,
+    /// Materials as they were before a site's `[[probes]]` overrode them (library values,
+    /// kept for display beside the probe values), by id.
+    pub before_probes: BTreeMap<String, Material>,
+}
+
+/// Relative frequency tolerance within which a probe measurement stands for a service
+/// frequency (an rfsite choice: 10 %; beyond it the library value is kept).
+pub const PROBE_FREQ_TOLERANCE: f64 = 0.10;
+
+/// Loss of a material from a probe measurement: level with a clear path minus level
+/// through the material, dB (same antennas, same separation).
+pub fn probe_loss_db(clear_dbm: f64, through_dbm: f64) -> f64 {
+    clear_dbm - through_dbm
+}
+
+/// One probe-derived loss point.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ProbePoint {
+    /// Material id.
+    pub material: String,
+    /// Frequency, MHz.
+    pub freq_mhz: f64,
+    /// Measured loss, dB.
+    pub loss_db: f64,
 }
 
 /// One entry of a library TOML file.
@@ -410,6 +434,74 @@ impl MaterialLibrary {
         self.materials.get(id)
     }
 
+    /// Applies a site's probe measurements: each probed material becomes a measured-loss
+    /// table (origin "probe") built from its probe points (several probes at one frequency
+    /// are averaged; several frequencies make a table, interpolated in log-frequency). At a
+    /// service frequency farther than [`PROBE_FREQ_TOLERANCE`] from every probe and outside
+    /// the probed span, the library's normal-incidence value at `thickness_m` is kept in the
+    /// table, so a probe overrides the material only at the frequencies it was made at.
+    /// The library entry is kept in `before_probes`. Returns notes for the report.
+    pub fn apply_probes(&mut self, probes: &[ProbePoint], service_freqs_mhz: &[f64], thickness_m: &BTreeMap<String, f64>) -> Vec<String> {
+        let mut notes = Vec::new();
+        let mut by_mat: BTreeMap<&str, Vec<(f64, f64)>> = BTreeMap::new();
+        for p in probes {
+            by_mat.entry(p.material.as_str()).or_default().push((p.freq_mhz, p.loss_db));
+        }
+        for (id, mut pts) in by_mat {
+            let Some(orig) = self.materials.get(id).cloned() else { continue };
+            pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+            // Average probes at the same frequency.
+            let mut table: Vec<(f64, f64)> = Vec::new();
+            let mut i = 0;
+            while i < pts.len() {
+                let f = pts[i].0;
+                let same: Vec<f64> = pts[i..].iter().take_while(|p| (p.0 - f).abs() < 1e-9).map(|p| p.1).collect();
+                let n = same.len();
+                let mean = same.iter().sum::<f64>() / n as f64;
+                if mean < 0.0 {
+                    notes.push(format!("probe of `{id}` at {f} MHz measured more through the material than with a clear path ({mean:.1} dB): taken as 0 dB"));
+                }
+                table.push((f, mean.max(0.0)));
+                i += n;
+            }
+            let (lo, hi) = (table[0].0, table[table.len() - 1].0);
+            let t = thickness_m.get(id).copied().unwrap_or(0.1);
+            let mut extra = Vec::new();
+            for &fs in service_freqs_mhz {
+                if fs >= lo && fs <= hi {
+                    continue;
+                }
+                let (fn_, ln) = if fs < lo { table[0] } else { table[table.len() - 1] };
+                if (fs - fn_).abs() <= PROBE_FREQ_TOLERANCE * fs {
+                    extra.push((fs, ln));
+                } else {
+                    let l = orig.crossing_loss(fs, t, 1.0, Polarization::Te).loss_db;
+                    extra.push((fs, l));
+                    notes.push(format!("probe of `{id}` ({} MHz) is not used at {fs} MHz (more than {:.0} % away): the library value {l:.1} dB is kept there", table.iter().map(|p| format!("{}", p.0)).collect::<Vec<_>>().join(", "), 100.0 * PROBE_FREQ_TOLERANCE));
+                }
+            }
+            table.extend(extra);
+            table.sort_by(|a, b| a.0.total_cmp(&b.0));
+            table.dedup_by(|a, b| (a.0 - b.0).abs() < 1e-9);
+            let reflection_loss_db = match &orig.model {
+                MaterialModel::Empirical { reflection_loss_db, .. } => reflection_loss_db.clone(),
+                _ => Vec::new(),
+            };
+            let probed = Material {
+                id: orig.id.clone(),
+                name: orig.name.clone(),
+                class: orig.class,
+                source: format!("site probe measurement (clear-path minus through level); library: {}", orig.source),
+                confidence: "site probe".into(),
+                model: MaterialModel::Empirical { loss_db: table, reflection_loss_db },
+                origin: "probe".into(),
+            };
+            self.before_probes.insert(id.to_string(), orig);
+            self.materials.insert(id.to_string(), probed);
+        }
+        notes
+    }
+
     /// All ids, sorted.
     pub fn ids(&self) -> impl Iterator<Item = &str> + Clone {
         self.materials.keys().map(String::as_str)
@@ -433,6 +525,31 @@ pub fn itu_class(id: &str) -> MaterialClass {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn probe_overrides_only_at_its_frequency() {
+        // Hand numbers: clear -40 dBm, through -66 dBm gives 26 dB (issue 4 item 2:
+        // loss = clear - through). A 2400 MHz service keeps the library value.
+        let mut lib = MaterialLibrary::builtin();
+        let lib_2400 = lib.get("concrete").unwrap().crossing_loss(2400.0, 0.2, 1.0, Polarization::Te).loss_db;
+        let probes = vec![
+            ProbePoint { material: "concrete".into(), freq_mhz: 900.0, loss_db: probe_loss_db(-40.0, -66.0) },
+            ProbePoint { material: "concrete".into(), freq_mhz: 900.0, loss_db: probe_loss_db(-40.0, -68.0) },
+        ];
+        let th: BTreeMap<String, f64> = [("concrete".to_string(), 0.2)].into();
+        let notes = lib.apply_probes(&probes, &[900.0, 2400.0], &th);
+        let m = lib.get("concrete").unwrap();
+        assert_eq!(m.origin, "probe");
+        assert!((m.crossing_loss(900.0, 0.2, 0.3, Polarization::Te).loss_db - 27.0).abs() < 1e-12);
+        assert!((m.crossing_loss(2400.0, 0.2, 1.0, Polarization::Te).loss_db - lib_2400).abs() < 1e-9);
+        assert!(lib.before_probes.contains_key("concrete"));
+        assert_eq!(notes.len(), 1);
+        // 850 MHz lies within 10 % of the 900 MHz probe: the probe value holds there.
+        let mut lib2 = MaterialLibrary::builtin();
+        lib2.apply_probes(&probes[..1], &[850.0], &th);
+        let l = lib2.get("concrete").unwrap().crossing_loss(850.0, 0.2, 1.0, Polarization::Te);
+        assert!((l.loss_db - 26.0).abs() < 1e-12 && l.note.is_none());
+    }
 
     #[test]
     fn log_frequency_interpolation_midpoint() {

@@ -1112,6 +1112,26 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         }
     }
 
+    // ---- probe overrides: a probed material becomes a site measured-loss table at the
+    // probe frequencies (the library entry is kept for display).
+    if !probes.is_empty() {
+        let mut thickness: BTreeMap<String, f64> = BTreeMap::new();
+        for f in &floors {
+            thickness.entry(f.slab_material.clone()).or_insert(f.slab_thickness_m);
+            for p in &f.parts {
+                thickness.entry(p.material.clone()).or_insert(p.thickness_m);
+            }
+        }
+        let pts: Vec<crate::material::ProbePoint> = probes
+            .iter()
+            .map(|p| crate::material::ProbePoint { material: p.material.clone(), freq_mhz: p.freq_mhz, loss_db: crate::material::probe_loss_db(p.clear_dbm, p.through_dbm) })
+            .collect();
+        let freqs: Vec<f64> = services.iter().map(|s| s.freq_mhz).collect();
+        for note in lib.apply_probes(&pts, &freqs, &thickness) {
+            v.warn(whole.clone(), note, None);
+        }
+    }
+
     // ---- plugin tables
     let mut plugin_options = BTreeMap::new();
     if let Some(p) = &raw.plugins {

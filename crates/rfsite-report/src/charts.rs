@@ -165,6 +165,17 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
         for ed in edges {
             chart.draw_series(std::iter::once(PathElement::new(ed, BLACK.stroke_width(2)))).map_err(e)?;
         }
+        // Outline and walls, each with a white halo.
+        let mut outline: Vec<(f64, f64)> = floor.outline.iter().map(|p| (u.from_m(p.x), u.from_m(p.y))).collect();
+        outline.push(outline[0]);
+        chart.draw_series(std::iter::once(PathElement::new(outline, BLACK.stroke_width(1)))).map_err(e)?;
+        for part in &floor.parts {
+            let class = site.materials.get(&part.material).map(|m| m.class).unwrap_or(MaterialClass::Other);
+            let (col, wdt) = wall_style(class, part.kind);
+            let seg = vec![(u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)), (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y))];
+            chart.draw_series(std::iter::once(PathElement::new(seg.clone(), WHITE.stroke_width(wdt + 2)))).map_err(e)?;
+            chart.draw_series(std::iter::once(PathElement::new(seg, col.stroke_width(wdt)))).map_err(e)?;
+        }
         // Zones.
         for z in &floor.zones {
             let mut pts: Vec<(f64, f64)> = z.polygon.iter().map(|p| (u.from_m(p.x), u.from_m(p.y))).collect();
@@ -178,20 +189,10 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
             chart.draw_series(DashedLineSeries::new(pts.clone(), 9, 5, col.stroke_width(wdt))).map_err(e)?;
             let cx = pts[..pts.len() - 1].iter().map(|p| p.0).sum::<f64>() / (pts.len() - 1) as f64;
             let cy = pts[..pts.len() - 1].iter().map(|p| p.1).sum::<f64>() / (pts.len() - 1) as f64;
-            let label = if z.kind == ZoneKind::Critical { format!("{} (critical)", z.id) } else { z.id.clone() };
+            let name = if z.name.is_empty() { z.id.clone() } else { z.name.clone() };
+            let label = if z.kind == ZoneKind::Critical { format!("{name} (critical)") } else { name };
             let style = TextStyle::from((CHART_FONT, 13).into_font()).color(&BLACK).pos(Pos::new(HPos::Center, VPos::Center));
             chart.draw_series(std::iter::once(Text::new(label, (cx, cy), style))).map_err(e)?;
-        }
-        // Outline and walls, each with a white halo.
-        let mut outline: Vec<(f64, f64)> = floor.outline.iter().map(|p| (u.from_m(p.x), u.from_m(p.y))).collect();
-        outline.push(outline[0]);
-        chart.draw_series(std::iter::once(PathElement::new(outline, BLACK.stroke_width(1)))).map_err(e)?;
-        for part in &floor.parts {
-            let class = site.materials.get(&part.material).map(|m| m.class).unwrap_or(MaterialClass::Other);
-            let (col, wdt) = wall_style(class, part.kind);
-            let seg = vec![(u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)), (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y))];
-            chart.draw_series(std::iter::once(PathElement::new(seg.clone(), WHITE.stroke_width(wdt + 2)))).map_err(e)?;
-            chart.draw_series(std::iter::once(PathElement::new(seg, col.stroke_width(wdt)))).map_err(e)?;
         }
         // Measured points: filled circle = meets threshold, cross = below.
         for m in measured {
@@ -253,7 +254,7 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
             right.draw(&Text::new(label, (40, y + 3), font.clone())).map_err(e)?;
             if i == 4 {
                 right.draw(&PathElement::new(vec![(4, y + 19), (180, y + 19)], BLACK.stroke_width(3))).map_err(e)?;
-                right.draw(&Text::new(format!("threshold {threshold_dbm:.0}"), (40, y + 23), font.clone().style(FontStyle::Bold))).map_err(e)?;
+                right.draw(&Text::new(format!("required {threshold_dbm:.0}"), (40, y + 23), font.clone().style(FontStyle::Bold))).map_err(e)?;
                 y += 18;
             }
             y += 22;

@@ -20,6 +20,7 @@ use typst::foundations::{Bytes, Dict, IntoValue};
 use typst_as_lib::TypstEngine;
 
 pub mod charts;
+pub mod grading_map;
 
 /// Fonts shipped with the templates (Lato, SIL OFL 1.1; licence beside the files).
 pub const FONTS: &[&[u8]] = &[
@@ -158,14 +159,15 @@ pub fn figures(site: &Site, a: &Assessment, measured: &[Measurement]) -> Result<
         let Some(svc) = site.service(&s.id) else { continue };
         for l in a.layers.iter().filter(|l| l.service == s.id && l.model == s.model) {
             let pts: Vec<&Measurement> = measured.iter().filter(|m| m.floor == l.floor && m.service == l.service).collect();
-            let svg = charts::coverage_map(site, l, svc.threshold_dbm, &pts).map_err(ReportError)?;
+            let svg = charts::coverage_map(site, l, svc.threshold_dbm + svc.design_margin_db, &pts).map_err(ReportError)?;
             out.insert(figure_name(&l.floor, &l.service), svg);
         }
     }
-    for f in &a.figures {
+    for f in a.figures.iter().filter(|f| f.kind != "grading-map") {
         let svg = charts::figure(f).map_err(ReportError)?;
         out.insert(format!("{}.svg", f.id), svg);
     }
+    out.extend(grading_map::grading_maps(site, a).map_err(ReportError)?);
     Ok(out)
 }
 
@@ -304,7 +306,7 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
                 f1(l.cable_loss_db + l.connector_loss_db),
                 f1(l.antenna_gain_dbi),
                 f1(l.eirp_dbm),
-                format!("{} {ul}", f1(u.from_m(l.free_space_range_m))),
+                if l.free_space_range_m > 1000.0 { "> 1 km".to_string() } else { format!("{} {ul}", f1(u.from_m(l.free_space_range_m))) },
             ]
         })
         .collect();
@@ -345,8 +347,8 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
             "floors": floors, "materials": {"columns": mat_cols, "rows": mat_rows}, "transmitters": txs, "donors": donors,
         },
         "pages": pages,
-        "findings": a.findings.iter().filter(|f| f.severity != Severity::Info).map(finding_view).collect::<Vec<_>>(),
-        "passing": a.findings.iter().filter(|f| f.severity == Severity::Info).map(finding_view).collect::<Vec<_>>(),
+        "findings": a.findings.iter().filter(|f| !(f.severity == Severity::Info && f.id.starts_with("coverage-"))).map(finding_view).collect::<Vec<_>>(),
+        "passing": a.findings.iter().filter(|f| f.severity == Severity::Info && f.id.starts_with("coverage-")).map(finding_view).collect::<Vec<_>>(),
         "remediation": a.remediation.iter().map(|r| json!({"title": r.title, "detail": r.detail, "expected": r.expected, "caveats": r.caveats,
             "margin": f1(r.margin_needed_db), "floors": r.floors.iter().map(|f| site.floor(f).map(|x| x.name.clone()).unwrap_or(f.clone())).collect::<Vec<_>>().join(", "),
             "service": r.service.as_ref().and_then(|s| site.service(s)).map(|s| s.name.clone()).unwrap_or_default()})).collect::<Vec<_>>(),

@@ -24,7 +24,8 @@ pub fn uplift_needed_db(levels: &mut [f64], thr: f64, target: f64) -> f64 {
     }
     levels.sort_by(f64::total_cmp);
     // The level that `target` of the points are at or above.
-    let k = (((1.0 - target) * levels.len() as f64).floor() as usize).min(levels.len() - 1);
+    // How many points may stay below (the epsilon absorbs 1 - 0.9 = 0.0999...).
+    let k = (((1.0 - target) * levels.len() as f64 + 1e-9).floor() as usize).min(levels.len() - 1);
     (thr - levels[k]).max(0.0)
 }
 

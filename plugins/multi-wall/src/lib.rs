@@ -200,6 +200,46 @@ impl Scene {
     }
 }
 
+impl Scene {
+    /// Wall crossings of the direct path from transmitter `tx_id` to point `p` on floor
+    /// `rx_floor`, counted per material id, and the 3D path length (m). Used to fit
+    /// per-material losses to measurements.
+    pub fn crossings_by_material(&self, site: &Site, tx_id: &str, rx_floor: usize, p: Point2) -> Option<(std::collections::BTreeMap<String, usize>, f64)> {
+        let t = site.transmitters.iter().find(|t| t.id == tx_id)?;
+        let tf = site.floor_index(&t.floor)?;
+        let tx = P3 { p: t.position, z: site.floors[tf].elevation_m + t.height_m };
+        let rx = P3 { p, z: site.floors.get(rx_floor)?.elevation_m + site.prediction.receiver_height_m };
+        let mut counts: std::collections::BTreeMap<String, usize> = Default::default();
+        let mut scratch = self.scratch();
+        self.for_each_crossing(&mut scratch, tx, tf, rx, rx_floor, |k, c| {
+            *counts.entry(site.floors[k].parts[c.wall].material.clone()).or_default() += 1;
+        });
+        let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2)).sqrt().max(rfsite_plugin_free_space::MIN_DISTANCE_M);
+        Some((counts, d))
+    }
+
+    /// Adds `delta_db` to the loss of every wall crossing of `material` for service index
+    /// `service`, keeping each crossing between 0 dB and the crossing cap. Used by
+    /// calibration.
+    pub fn adjust_material(&mut self, site: &Site, service: usize, material: &str, delta_db: f64) {
+        let cap = self.max_crossing_db;
+        let adj = |v: f64| (v + delta_db).clamp(0.0, cap);
+        if let Some(svc) = self.wall_loss.get_mut(service) {
+            for (fi, parts) in svc.iter_mut().enumerate() {
+                for (pi, lf) in parts.iter_mut().enumerate() {
+                    if site.floors[fi].parts[pi].material != material {
+                        continue;
+                    }
+                    match lf {
+                        LossFn::Const(l) => *l = adj(*l as f64) as f32,
+                        LossFn::Angle(t) => t.iter_mut().for_each(|l| *l = adj(*l as f64) as f32),
+                    }
+                }
+            }
+        }
+    }
+}
+
 impl PathLoss for Scene {
     type Scratch = (Scratch, Vec<Crossing>);
     fn scratch(&self) -> Self::Scratch {

@@ -1,7 +1,7 @@
 //! `rfsite check` on a folder of broken sites: each gives its file:line:column message and
 //! exit 2, never a panic.
 
-use crate::util::run;
+use crate::cli::util::run;
 
 fn check(case: &str) -> (i32, String) {
     let dir = format!("tests/fixtures/broken/{case}");
@@ -70,12 +70,12 @@ fn unknown_key_is_a_warning_with_location() {
 #[test]
 fn several_problems_are_reported_at_once() {
     let dir = tempfile::tempdir().unwrap();
-    let text = std::fs::read_to_string(crate::util::root().join("tests/fixtures/broken/unknown-material/site.toml"))
+    let text = std::fs::read_to_string(crate::cli::util::root().join("tests/fixtures/broken/unknown-material/site.toml"))
         .unwrap()
         .replace("thickness = 0.1", "thickness = -1.0")
         .replace("floor = \"L1\"\nmaterial", "floor = \"L9\"\nmaterial");
     std::fs::write(dir.path().join("site.toml"), text).unwrap();
-    let out = crate::util::rfsite().arg("check").arg(dir.path()).output().unwrap();
+    let out = crate::cli::util::rfsite().arg("check").arg(dir.path()).output().unwrap();
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("3 error(s)"), "{err}");
@@ -85,11 +85,11 @@ fn several_problems_are_reported_at_once() {
 fn init_writes_a_site_that_passes_check() {
     let dir = tempfile::tempdir().unwrap();
     let site = dir.path().join("new-site");
-    let out = crate::util::rfsite().arg("init").arg(&site).output().unwrap();
+    let out = crate::cli::util::rfsite().arg("init").arg(&site).output().unwrap();
     assert!(out.status.success());
-    let out = crate::util::rfsite().arg("check").arg(&site).output().unwrap();
+    let out = crate::cli::util::rfsite().arg("check").arg(&site).output().unwrap();
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     // init never overwrites.
-    let out = crate::util::rfsite().arg("init").arg(&site).output().unwrap();
+    let out = crate::cli::util::rfsite().arg("init").arg(&site).output().unwrap();
     assert_eq!(out.status.code(), Some(2));
 }

@@ -1,6 +1,6 @@
 //! `rfsite calc` against published values (source beside each check).
 
-use crate::util::run;
+use crate::cli::util::run;
 
 fn calc_json(args: &[&str]) -> serde_json::Value {
     let mut a = vec!["calc"];

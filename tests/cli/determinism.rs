@@ -1,6 +1,6 @@
 //! The same inputs give byte-identical outputs (the report date comes from the site file).
 
-use crate::util::{rfsite, root};
+use crate::cli::util::{rfsite, root};
 
 #[test]
 fn two_runs_give_byte_identical_pdf_and_findings() {

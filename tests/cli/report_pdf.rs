@@ -1,6 +1,6 @@
 //! The demo report renders, and a PDF text extractor finds what a reader needs.
 
-use crate::util::{pdf_pages, pdf_text, rfsite, root};
+use crate::cli::util::{pdf_pages, pdf_text, rfsite, root};
 
 #[test]
 fn demo_report_has_the_sections_verdicts_and_audit_trail() {
