@@ -2,8 +2,8 @@
 
 use std::path::PathBuf;
 
-use rfsite_engine::{EngineError, World};
-use rfsite_model::MaterialLibrary;
+use rfsite_engine::{EngineError, LoadedSite, World};
+use rfsite_model::{Diagnostic, MaterialLibrary};
 
 use crate::Outcome;
 
@@ -14,31 +14,60 @@ pub struct Args {
     pub site: PathBuf,
 }
 
-/// Loads a site or prints every problem; shared by `check` and `report`.
-pub fn load(site: &std::path::Path) -> Result<(World, rfsite_engine::LoadedSite), Outcome> {
-    let mut world = match World::open(site) {
-        Ok(w) => w,
-        Err(e) => {
-            eprintln!("error: {e}");
-            return Err(Outcome::BadInput);
+/// Why a site could not be loaded.
+pub enum LoadError {
+    /// The input has problems: every one, errors first.
+    BadInput(Vec<Diagnostic>, String),
+    /// Anything else (the message).
+    Failed(String),
+}
+
+impl LoadError {
+    /// The problems as `file:line:column: message` lines (a located problem per line).
+    pub fn lines(&self) -> Vec<String> {
+        match self {
+            LoadError::BadInput(d, text) if d.is_empty() => text.lines().next().map(|l| vec![l.to_string()]).unwrap_or_default(),
+            LoadError::BadInput(d, _) => d.iter().map(|x| format!("{}:{}:{}: {}", x.file, x.line, x.column, x.message)).collect(),
+            LoadError::Failed(m) => m.lines().next().map(|l| vec![l.to_string()]).unwrap_or_default(),
         }
-    };
+    }
+}
+
+/// Loads a site without printing anything (for `portfolio`, where many run at once).
+pub fn load_quiet(site: &std::path::Path) -> Result<(World, LoadedSite), LoadError> {
+    let mut world = World::open(site).map_err(|e| LoadError::BadInput(Vec::new(), e))?;
     match rfsite_engine::load(&mut world, &MaterialLibrary::builtin()) {
-        Ok(l) => {
-            for w in &l.warnings.items {
-                eprint!("{w}");
-            }
-            Ok((world, l))
-        }
+        Ok(l) => Ok((world, l)),
         Err(EngineError::BadInput(d)) => {
-            for x in &d.items {
+            let mut items = d.items.clone();
+            items.sort_by_key(|x| x.severity);
+            let text = format!("{}{} error(s), {} warning(s)", d.items.iter().map(|x| x.to_string()).collect::<String>(), d.error_count(), d.warning_count());
+            Err(LoadError::BadInput(items.into_iter().filter(|x| x.severity == rfsite_model::Severity::Error).collect(), text))
+        }
+        Err(e) => Err(LoadError::Failed(e.to_string())),
+    }
+}
+
+/// Loads a site or prints every problem; shared by `check`, `report` and `plugins`.
+pub fn load(site: &std::path::Path) -> Result<(World, LoadedSite), Outcome> {
+    match load_quiet(site) {
+        Ok((w, l)) => {
+            for x in &l.warnings.items {
                 eprint!("{x}");
             }
-            eprintln!("{} error(s), {} warning(s): nothing was written", d.error_count(), d.warning_count());
+            Ok((w, l))
+        }
+        Err(LoadError::BadInput(d, text)) => {
+            if d.is_empty() {
+                eprintln!("error: {text}");
+            } else {
+                eprint!("{text}");
+                eprintln!(": nothing was written");
+            }
             Err(Outcome::BadInput)
         }
-        Err(e) => {
-            eprintln!("error: {e}");
+        Err(LoadError::Failed(m)) => {
+            eprintln!("error: {m}");
             Err(Outcome::Failed)
         }
     }

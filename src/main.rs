@@ -10,6 +10,7 @@ mod check;
 mod init;
 mod materials;
 mod plugins;
+mod portfolio;
 mod report;
 
 /// Exit status of a subcommand.
@@ -43,6 +44,9 @@ enum Cmd {
     Materials(materials::Args),
     /// The plugins, their methods and run order.
     Plugins(plugins::Args),
+    /// Run every site below a folder; write one folder per site and a portfolio summary.
+    /// `rfsite portfolio merge OUT... -o MERGED` combines the outputs of shards.
+    Portfolio(portfolio::Args),
 }
 
 fn main() -> ExitCode {
@@ -54,6 +58,7 @@ fn main() -> ExitCode {
         Cmd::Calc(a) => calc::run(a),
         Cmd::Materials(a) => materials::run(a),
         Cmd::Plugins(a) => plugins::run(a),
+        Cmd::Portfolio(a) => portfolio::run(a),
     };
     match outcome {
         Outcome::Ok => ExitCode::SUCCESS,

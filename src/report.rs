@@ -1,8 +1,12 @@
-//! `rfsite report SITE [-o OUT] [--template DIR]`
+//! `rfsite report SITE [-o OUT] [--template DIR] [--plugins DIR]`, and the per-site run that
+//! `portfolio` shares.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
 
-use rfsite_engine::{findings_json, Registry};
+use rfsite_engine::external::{self, ExternalSpec};
+use rfsite_engine::{findings_json, LoadedSite, Registry, World};
+use rfsite_plugin::Assessment;
 use rfsite_report::Template;
 
 use crate::Outcome;
@@ -18,10 +22,17 @@ pub struct Args {
     /// A template folder (template.toml, report.typ, snippets/*.hbs, logo).
     #[arg(long)]
     pub template: Option<PathBuf>,
+    /// A folder of `*.toml` external plugin declarations (`[plugins.<id>]` with `command`).
+    #[arg(long)]
+    pub plugins: Option<PathBuf>,
 }
 
+/// The marker file written into every site output folder; `portfolio` never looks for
+/// sites below a folder holding one.
+pub const OUTPUT_MARKER: &str = ".rfsite-output";
+
 /// Loads a template folder (missing snippets fall back to the built-in wording).
-pub fn load_template(dir: &std::path::Path) -> Result<Template, String> {
+pub fn load_template(dir: &Path) -> Result<Template, String> {
     let files = rfsite_engine::world::read_dir_files(dir)?;
     let text = |name: &str| -> Result<String, String> {
         let b = files.get(name).ok_or_else(|| format!("{}: template folder has no {name}", dir.display()))?;
@@ -37,57 +48,145 @@ pub fn load_template(dir: &std::path::Path) -> Result<Template, String> {
     Ok(t.with_default_snippets())
 }
 
+/// What every site of a run shares: the template and the plugin folder's declarations.
+pub struct Settings {
+    /// Report template.
+    pub template: Template,
+    /// External plugins declared in the `--plugins` folder.
+    pub plugin_folder: Vec<ExternalSpec>,
+    /// SHA-256 over the template and the plugin declarations (not the site).
+    pub fingerprint: String,
+}
+
+/// Reads `--template` and `--plugins`; an error here is bad input.
+pub fn load_settings(template: Option<&Path>, plugins: Option<&Path>) -> Result<Settings, String> {
+    let mut fp = String::new();
+    let template = match template {
+        Some(d) => {
+            for (k, v) in rfsite_engine::world::read_dir_files(d)? {
+                fp.push_str(&format!("template/{k}={}\n", rfsite_engine::world::sha256_hex(&v)));
+            }
+            load_template(d)?
+        }
+        None => Template::builtin(),
+    };
+    let mut plugin_folder = Vec::new();
+    if let Some(d) = plugins {
+        for (path, text) in rfsite_engine::world::read_plugin_folder(d)? {
+            let shown = rfsite_engine::world::display_path(&path);
+            let specs = external::parse_declarations(&shown, &text, d)?;
+            for s in specs {
+                plugin_folder.retain(|x: &ExternalSpec| x.id != s.id);
+                plugin_folder.push(s);
+            }
+        }
+    }
+    Ok(Settings { template, plugin_folder, fingerprint: rfsite_engine::world::sha256_hex(fp.as_bytes()) })
+}
+
+/// The registry for one site: the built-ins, the folder's plugins and the site's own.
+pub fn registry_for(world: &World, loaded: &LoadedSite, settings: &Settings) -> Result<(Registry, Vec<ExternalSpec>), String> {
+    let specs = external::site_plugins(&loaded.site, &world.root, &world.display_site_path(), &settings.plugin_folder)?;
+    Ok((Registry::with_external(specs.clone())?, specs))
+}
+
+/// The fingerprint of what, besides the site's input files, shapes a site's outputs.
+pub fn fingerprint(settings: &Settings, specs: &[ExternalSpec]) -> String {
+    let mut s = format!("rfsite {}\nsettings {}\n", rfsite_engine::VERSION, settings.fingerprint);
+    for x in specs {
+        s.push_str(&format!("plugin {} {}\n", x.id, x.fingerprint()));
+    }
+    rfsite_engine::world::sha256_hex(s.as_bytes())
+}
+
+/// A site run that could not finish.
+pub enum SiteError {
+    /// The site's input (or its plugin declarations) is wrong: `file:line:column` lines.
+    BadInput(Vec<String>),
+    /// A plugin, the report or the write failed.
+    Failed(String),
+}
+
+/// A finished site run.
+pub struct SiteDone {
+    /// The assessment.
+    pub assessment: Assessment,
+    /// findings.json text as written.
+    pub findings_json: String,
+    /// Figures written.
+    pub figures: usize,
+    /// Time in the plugins.
+    pub predict: Duration,
+    /// Time rendering the report.
+    pub render: Duration,
+}
+
+/// Runs the pipeline on a loaded site and writes OUT/report.pdf, findings.json, figures/ and
+/// the output marker, atomically.
+pub fn run_site(world: &World, loaded: &LoadedSite, settings: &Settings, out: &Path) -> Result<SiteDone, SiteError> {
+    let (registry, specs) = registry_for(world, loaded, settings).map_err(|e| SiteError::BadInput(vec![e]))?;
+    let t0 = Instant::now();
+    let assessment = rfsite_engine::run(loaded, &registry, world.inputs()).map_err(|e| SiteError::Failed(e.to_string()))?;
+    let predict = t0.elapsed();
+    let rendered = rfsite_report::render(&loaded.site, &assessment, &settings.template, &loaded.surveys.points).map_err(|e| SiteError::Failed(e.to_string()))?;
+    let findings = findings_json(&assessment);
+    let marker = serde_json::json!({
+        "schema": "rfsite-output/1",
+        "site": loaded.site.meta.id,
+        "tool_version": rfsite_engine::VERSION,
+        "settings_sha256": fingerprint(settings, &specs),
+    });
+    let mut files: Vec<(String, Vec<u8>)> = vec![
+        ("report.pdf".into(), rendered.pdf),
+        ("findings.json".into(), findings.clone().into_bytes()),
+        (OUTPUT_MARKER.into(), format!("{}\n", serde_json::to_string_pretty(&marker).unwrap_or_default()).into_bytes()),
+    ];
+    let figures = rendered.figures.len();
+    for (name, svg) in rendered.figures {
+        files.push((format!("figures/{name}"), svg.into_bytes()));
+    }
+    rfsite_engine::world::write_outputs(out, &files, world).map_err(SiteError::Failed)?;
+    Ok(SiteDone { assessment, findings_json: findings, figures, predict, render: t0.elapsed() - predict })
+}
+
 /// Runs `report`.
 pub fn run(a: Args) -> Outcome {
+    let settings = match load_settings(a.template.as_deref(), a.plugins.as_deref()) {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return Outcome::BadInput;
+        }
+    };
     let (world, loaded) = match crate::check::load(&a.site) {
         Ok(x) => x,
         Err(o) => return o,
     };
-    let template = match &a.template {
-        Some(d) => match load_template(d) {
-            Ok(t) => t,
-            Err(e) => {
-                eprintln!("error: {e}");
-                return Outcome::BadInput;
-            }
-        },
-        None => Template::builtin(),
-    };
     let out = a.out.clone().unwrap_or_else(|| PathBuf::from("out").join(&loaded.site.meta.id));
-    let t0 = std::time::Instant::now();
-    let assessment = match rfsite_engine::run(&loaded, &Registry::builtin(), world.inputs()) {
-        Ok(x) => x,
-        Err(e) => {
-            eprintln!("error: {e}");
-            return Outcome::Failed;
+    match run_site(&world, &loaded, &settings, &out) {
+        Ok(d) => {
+            let fails = d.assessment.services.iter().filter(|s| !s.pass).count();
+            println!(
+                "{}: wrote {}/report.pdf, findings.json and {} figure(s) — {} service(s), {} failing; prediction {:.2} s, report {:.2} s",
+                loaded.site.meta.id,
+                out.display(),
+                d.figures,
+                d.assessment.services.len(),
+                fails,
+                d.predict.as_secs_f64(),
+                d.render.as_secs_f64()
+            );
+            Outcome::Ok
         }
-    };
-    let t1 = t0.elapsed();
-    let rendered = match rfsite_report::render(&loaded.site, &assessment, &template, &loaded.surveys.points) {
-        Ok(r) => r,
-        Err(e) => {
-            eprintln!("error: {e}");
-            return Outcome::Failed;
+        Err(SiteError::BadInput(lines)) => {
+            for l in lines {
+                eprintln!("error: {l}");
+            }
+            Outcome::BadInput
         }
-    };
-    let mut files: Vec<(String, Vec<u8>)> = vec![("report.pdf".into(), rendered.pdf), ("findings.json".into(), findings_json(&assessment).into_bytes())];
-    for (name, svg) in rendered.figures {
-        files.push((format!("figures/{name}"), svg.into_bytes()));
+        Err(SiteError::Failed(m)) => {
+            eprintln!("error: {m}");
+            Outcome::Failed
+        }
     }
-    if let Err(e) = rfsite_engine::world::write_outputs(&out, &files, &world) {
-        eprintln!("error: {e}");
-        return Outcome::Failed;
-    }
-    let fails = assessment.services.iter().filter(|s| !s.pass).count();
-    println!(
-        "{}: wrote {}/report.pdf, findings.json and {} figure(s) — {} service(s), {} failing; prediction {:.2} s, report {:.2} s",
-        loaded.site.meta.id,
-        out.display(),
-        files.len() - 2,
-        assessment.services.len(),
-        fails,
-        t1.as_secs_f64(),
-        (t0.elapsed() - t1).as_secs_f64()
-    );
-    Outcome::Ok
 }

@@ -3,4 +3,6 @@ pub mod util;
 mod calc_cli;
 mod check_broken;
 mod determinism;
+mod external;
+mod portfolio;
 mod report_pdf;

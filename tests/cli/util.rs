@@ -35,3 +35,33 @@ pub fn pdf_pages(pdf: &Path) -> usize {
         .find_map(|l| l.strip_prefix("Pages:").map(|n| n.trim().parse().unwrap_or(0)))
         .unwrap_or(0)
 }
+
+/// Copies a folder tree (files and folders only).
+pub fn copy_dir(src: &Path, dst: &Path) {
+    std::fs::create_dir_all(dst).unwrap();
+    for e in std::fs::read_dir(src).unwrap() {
+        let e = e.unwrap();
+        let to = dst.join(e.file_name());
+        if e.file_type().unwrap().is_dir() {
+            copy_dir(&e.path(), &to);
+        } else {
+            std::fs::copy(e.path(), &to).unwrap();
+        }
+    }
+}
+
+/// Writes the starter site into `dir` with `extra` TOML appended (e.g. a plugin table).
+pub fn starter_site_with(dir: &Path, extra: &str) {
+    let starter = std::fs::read_to_string(root().join("templates/starter/site.toml")).unwrap();
+    std::fs::write(dir.join("site.toml"), format!("{starter}\n{extra}\n")).unwrap();
+}
+
+/// A fixture of `tests/fixtures/external/`, as an absolute path for a plugin's `args`.
+pub fn external_fixture(name: &str) -> String {
+    root().join("tests/fixtures/external").join(name).display().to_string()
+}
+
+/// stdout and stderr of a run, as text.
+pub fn texts(out: &Output) -> (String, String) {
+    (String::from_utf8_lossy(&out.stdout).to_string(), String::from_utf8_lossy(&out.stderr).to_string())
+}

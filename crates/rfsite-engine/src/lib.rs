@@ -3,7 +3,8 @@
 //! The pipeline. The [`world::World`] is the only place that reads input files (and it
 //! hashes each one); [`load`] turns a site folder into a validated site; [`Registry`]
 //! holds the plugins and orders them by their `after` lists; [`run`] runs them and
-//! collects an [`Assessment`], which [`findings_json`] serialises.
+//! collects an [`Assessment`], which [`findings_json`] serialises. [`external`] is the
+//! adapter that runs an external program as a plugin.
 #![deny(missing_docs)]
 
 use std::collections::{BTreeMap, BTreeSet};
@@ -13,6 +14,7 @@ use rfsite_model::{Diagnostics, MaterialLibrary, Site, SourceFile};
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 
+pub mod external;
 pub mod survey;
 pub mod world;
 
@@ -109,6 +111,22 @@ impl Registry {
                 (Box::new(rfsite_plugin_grading::Grading), "built-in".into()),
             ],
         }
+    }
+
+    /// The built-in plugins plus external ones. An external plugin may not take the id of
+    /// a built-in one.
+    pub fn with_external(specs: Vec<external::ExternalSpec>) -> Result<Self, String> {
+        let mut r = Registry::builtin();
+        for s in specs {
+            if r.plugins.iter().any(|(p, _)| p.id() == s.id) {
+                return Err(format!(
+                    "{}: [plugins.{}] declares a `command`, but `{}` is a built-in plugin\n  = hint: give the external plugin another id",
+                    s.declared_in, s.id, s.id
+                ));
+            }
+            r.add(Box::new(external::ExternalPlugin::new(s)), "external");
+        }
+        Ok(r)
     }
 
     /// Adds a plugin (e.g. an external one).

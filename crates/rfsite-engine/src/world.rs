@@ -93,6 +93,29 @@ impl World {
     }
 }
 
+/// SHA-256 of a file, when it is a readable file (for fingerprints of external plugins'
+/// scripts; absent files are simply not part of the fingerprint).
+pub fn hash_file_if_exists(p: &Path) -> Option<String> {
+    if !p.is_file() {
+        return None;
+    }
+    std::fs::read(p).ok().map(|b| sha256_hex(&b))
+}
+
+/// The `*.toml` files of a plugin folder, sorted by name: (path, text).
+pub fn read_plugin_folder(dir: &Path) -> Result<Vec<(PathBuf, String)>, String> {
+    let rd = std::fs::read_dir(dir).map_err(|e| format!("{}: {e}\n  = hint: --plugins names a folder of *.toml plugin declarations", display_path(dir)))?;
+    let mut files: Vec<PathBuf> = rd.flatten().map(|e| e.path()).filter(|p| p.is_file() && p.extension().is_some_and(|x| x == "toml")).collect();
+    files.sort();
+    files
+        .into_iter()
+        .map(|p| {
+            let text = std::fs::read_to_string(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?;
+            Ok((p, text))
+        })
+        .collect()
+}
+
 /// Reads every file below `dir` (relative names with `/`), for template folders.
 pub fn read_dir_files(dir: &Path) -> Result<BTreeMap<String, Vec<u8>>, String> {
     fn walk(base: &Path, d: &Path, out: &mut BTreeMap<String, Vec<u8>>, depth: usize) -> Result<(), String> {
@@ -115,6 +138,20 @@ pub fn read_dir_files(dir: &Path) -> Result<BTreeMap<String, Vec<u8>>, String> {
     let mut out = BTreeMap::new();
     walk(dir, dir, &mut out, 0)?;
     Ok(out)
+}
+
+/// Writes files below `out`, each through a temporary name renamed into place (for
+/// summaries and copies, which have no input files to protect).
+pub fn write_atomic(out: &Path, files: &[(String, Vec<u8>)]) -> Result<(), String> {
+    for (rel, bytes) in files {
+        let dest = out.join(rel);
+        let parent = dest.parent().unwrap_or(out);
+        std::fs::create_dir_all(parent).map_err(|e| format!("{}: {e}", display_path(parent)))?;
+        let tmp = dest.with_file_name(format!(".{}.tmp-{}", dest.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(), std::process::id()));
+        std::fs::write(&tmp, bytes).map_err(|e| format!("{}: {e}", display_path(&tmp)))?;
+        std::fs::rename(&tmp, &dest).map_err(|e| format!("{}: {e}", display_path(&dest)))?;
+    }
+    Ok(())
 }
 
 /// Writes output files below `out` atomically: each file goes to a temporary name in the

@@ -46,6 +46,12 @@
 //! same `t`) by walking a uniform cell grid, so its cost grows with the cells
 //! a path visits rather than with the number of walls.
 //!
+//! [`shadow`] answers the same question for one transmitter and *every*
+//! point of a [`Grid`] at once: each wall's shadow is added to per-row
+//! difference arrays, so a transmitter costs about `walls × rows + points`.
+//! Its results equal the brute force at every grid point (shadow edges,
+//! corners and in-line transmitters are resolved with the same classifier).
+//!
 //! # Example
 //!
 //! ```

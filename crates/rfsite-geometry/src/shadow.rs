@@ -61,6 +61,8 @@ pub const MARGIN_EPS: f64 = 100.0;
 /// Counters of the last call, for benchmarks and tests.
 #[derive(Debug, Default, Clone, Copy, PartialEq, Eq)]
 pub struct ShadowStats {
+    /// Wall–row pairs examined.
+    pub rows_visited: u64,
     /// Wall–row runs added to the difference arrays.
     pub runs: u64,
     /// Grid points covered by those runs (= clean crossings).
@@ -75,6 +77,7 @@ pub struct ShadowStats {
 
 impl std::ops::AddAssign for ShadowStats {
     fn add_assign(&mut self, o: ShadowStats) {
+        self.rows_visited += o.rows_visited;
         self.runs += o.runs;
         self.run_points += o.run_points;
         self.boundary_pairs += o.boundary_pairs;
@@ -110,6 +113,9 @@ impl ShadowScratch {
     }
 }
 
+/// Loss of an angle-dependent wall, `f(wall, cos_incidence)` in dB.
+pub type AngleLoss<'a> = &'a (dyn Fn(usize, f64) -> f32 + Sync);
+
 /// Losses of the walls for [`accumulate_path_part`].
 #[derive(Clone, Copy)]
 pub struct WallLosses<'a> {
@@ -120,7 +126,7 @@ pub struct WallLosses<'a> {
     /// loss `f(wall, cos_incidence)` in dB, `cos_incidence` as in
     /// [`Crossing::cos_incidence`](crate::Crossing). These walls cost one
     /// call per crossed grid point instead of one per row.
-    pub by_angle: Option<(&'a [bool], &'a (dyn Fn(usize, f64) -> f32 + Sync))>,
+    pub by_angle: Option<(&'a [bool], AngleLoss<'a>)>,
 }
 
 impl std::fmt::Debug for WallLosses<'_> {
@@ -393,36 +399,109 @@ fn crossing_of(tx: Point2, q: Point2, wall: usize, w: &Segment) -> Option<Crossi
     Ray::new(tx, q)?.crossing(wall, w)
 }
 
-/// The three tests of one wall, as `f(X) = s X + c` along a row, with their
-/// margin `m`: inside needs `f > m` for all three, outside `f < -m` for one.
+/// One of the three tests of a wall, `f(X) = s X + c0 + c1 Y` with `X, Y`
+/// relative to the transmitter, and its margin `m`: inside needs `f > m` for
+/// all three tests, outside `f < -m` for one. The column where `f = ±m` on
+/// a row is linear in `Y`; it is kept as `k± + l Y` when that is finite.
 #[derive(Clone, Copy)]
-struct Test {
+struct RowTest {
     s: f64,
-    c: f64,
+    c0: f64,
+    c1: f64,
     m: f64,
+    k_lo: f64,
+    k_hi: f64,
+    l: f64,
+    linear: bool,
 }
 
-/// Columns of one test on one row: `[n0, n1]` not outside, `[i0, i1]` inside.
-#[inline]
-fn columns(t: Test, col_of: impl Fn(f64) -> f64, nx: i64) -> (i64, i64, i64, i64) {
-    const ALL: (i64, i64) = (i64::MIN / 4, i64::MAX / 4);
-    const NONE: (i64, i64) = (1, 0);
-    let clamp = |v: f64| v.clamp(-2.0, nx as f64 + 2.0);
-    let ((n0, n1), (i0, i1)) = if t.s > 0.0 {
-        let lo = clamp(col_of((-t.m - t.c) / t.s));
-        let hi = clamp(col_of((t.m - t.c) / t.s));
-        ((lo.ceil() as i64, ALL.1), (hi.floor() as i64 + 1, ALL.1))
-    } else if t.s < 0.0 {
-        let lo = clamp(col_of((-t.m - t.c) / t.s));
-        let hi = clamp(col_of((t.m - t.c) / t.s));
-        ((ALL.0, lo.floor() as i64), (ALL.0, hi.ceil() as i64 - 1))
-    } else {
-        (
-            if t.c >= -t.m { ALL } else { NONE },
-            if t.c > t.m { ALL } else { NONE },
-        )
-    };
-    (n0, n1, i0, i1)
+impl RowTest {
+    fn new(s: f64, c0: f64, c1: f64, m: f64, ox: f64, step: f64) -> Self {
+        let k_lo = (ox + (-m - c0) / s) / step - 0.5;
+        let k_hi = (ox + (m - c0) / s) / step - 0.5;
+        let l = -c1 / (s * step);
+        let linear = s != 0.0 && k_lo.is_finite() && k_hi.is_finite() && l.is_finite();
+        RowTest {
+            s,
+            c0,
+            c1,
+            m,
+            k_lo,
+            k_hi,
+            l,
+            linear,
+        }
+    }
+
+    /// Columns on the row at `yy`: `[n0, n1]` not outside, `[i0, i1]` inside
+    /// (unclamped; empty when the first bound exceeds the second).
+    #[inline]
+    fn columns(&self, yy: f64, ox: f64, step: f64, nx: i64) -> (i64, i64, i64, i64) {
+        const ALL: (i64, i64) = (i64::MIN / 4, i64::MAX / 4);
+        const NONE: (i64, i64) = (1, 0);
+        if self.s == 0.0 {
+            let c = self.c0 + self.c1 * yy;
+            let n = if c >= -self.m { ALL } else { NONE };
+            let i = if c > self.m { ALL } else { NONE };
+            return (n.0, n.1, i.0, i.1);
+        }
+        let (lo, hi) = if self.linear {
+            (self.k_lo + self.l * yy, self.k_hi + self.l * yy)
+        } else {
+            let c = self.c0 + self.c1 * yy;
+            let col = |x: f64| (ox + x) / step - 0.5;
+            (col((-self.m - c) / self.s), col((self.m - c) / self.s))
+        };
+        // `lo` is where f = -m, `hi` where f = +m.
+        let clamp = |v: f64| v.clamp(-2.0, nx as f64 + 2.0);
+        let (lo, hi) = (clamp(lo), clamp(hi));
+        if self.s > 0.0 {
+            (lo.ceil() as i64, ALL.1, hi.floor() as i64 + 1, ALL.1)
+        } else {
+            (ALL.0, lo.floor() as i64, ALL.0, hi.ceil() as i64 - 1)
+        }
+    }
+}
+
+/// The `Y` range of the box `bx × by` clipped by the half-planes
+/// `α X + β Y + γ >= 0`, or `None` if nothing is left.
+fn clip_box_y(bx: (f64, f64), by: (f64, f64), planes: &[(f64, f64, f64); 3]) -> Option<(f64, f64)> {
+    let mut poly = [Point2::default(); 8];
+    let mut next = [Point2::default(); 8];
+    poly[..4].copy_from_slice(&[
+        Point2::new(bx.0, by.0),
+        Point2::new(bx.1, by.0),
+        Point2::new(bx.1, by.1),
+        Point2::new(bx.0, by.1),
+    ]);
+    let mut n = 4;
+    for &(al, be, ga) in planes {
+        let g = |p: Point2| al * p.x + be * p.y + ga;
+        let mut k = 0;
+        for i in 0..n {
+            let (p, q) = (poly[i], poly[(i + 1) % n]);
+            let (gp, gq) = (g(p), g(q));
+            if gp >= 0.0 {
+                next[k] = p;
+                k += 1;
+            }
+            if (gp >= 0.0) != (gq >= 0.0) {
+                next[k] = p + (q - p) * (gp / (gp - gq));
+                k += 1;
+            }
+        }
+        if k == 0 {
+            return None;
+        }
+        n = k.min(8);
+        poly[..n].copy_from_slice(&next[..n]);
+    }
+    let ys = poly[..n].iter().map(|p| p.y);
+    let ymin = ys.clone().fold(f64::INFINITY, f64::min);
+    let ymax = ys.fold(f64::NEG_INFINITY, f64::max);
+    // Guard against rounding at the ends: a hair of slack.
+    let slack = 1e-9 * (1.0 + ymin.abs().max(ymax.abs()));
+    Some((ymin - slack, ymax + slack))
 }
 
 /// Walk every wall's shadow: `run(wall, iy, ix0, ix1)` for each clean run of
@@ -458,7 +537,16 @@ fn cast(
         .fold(0.0f64, f64::max);
     let m = MARGIN_EPS * EPS_M + 1e-13 * size;
     let ox = tx.x - lo.x;
-    let col_of = |x: f64| (ox + x) / step - 0.5;
+    // Box of the grid centres relative to the transmitter, padded a little.
+    let pad = 1e-6 * (1.0 + size);
+    let bx = (
+        lo.x + 0.5 * step - tx.x - pad,
+        lo.x + (nx as f64 - 0.5) * step - tx.x + pad,
+    );
+    let by = (
+        lo.y + 0.5 * step - tx.y - pad,
+        lo.y + (ny as f64 - 0.5) * step - tx.y + pad,
+    );
     let row_of = |y: f64| (tx.y + y - lo.y) / step - 0.5;
     let nxi = nx as i64;
     let mut stats = ShadowStats::default();
@@ -476,7 +564,7 @@ fn cast(
             continue;
         }
         let cr = a.cross(e); // = a × b, twice the signed area of (tx, a, b)
-        if !(cr.abs() > m * len_e) {
+        if cr.abs() <= m * len_e {
             // The transmitter lies (nearly) on the wall's line.
             scratch.inline.push(wi as u32);
             stats.inline_walls += 1;
@@ -488,56 +576,30 @@ fn cast(
         let e = b - a;
         let (m12, m3) = (m * r, m * len_e);
 
-        // Rows that the grown shadow can reach: bounded below (above) by its
-        // corners when both edge rays go up (down); otherwise every row.
-        let (mut iy0, mut iy1) = (0i64, ny as i64 - 1);
-        if (a.y >= 0.0 && b.y >= 0.0) || (a.y <= 0.0 && b.y <= 0.0) {
-            let solve = |a11: f64, a12: f64, r1: f64, a21: f64, a22: f64, r2: f64| {
-                (a11 * r2 - a21 * r1) / (a11 * a22 - a12 * a21)
-            };
-            let axe = a.cross(e);
-            let ys = [
-                solve(-a.y, a.x, -m12, b.y, -b.x, -m12),
-                solve(-a.y, a.x, -m12, e.y, -e.x, -m3 + axe),
-                solve(b.y, -b.x, -m12, e.y, -e.x, -m3 + axe),
-            ];
-            if ys.iter().all(|y| y.is_finite()) {
-                let slack = 1e-9 * (1.0 + ys.iter().fold(0.0f64, |s, y| s.max(y.abs())));
-                if a.y >= 0.0 && b.y >= 0.0 {
-                    let y = ys.iter().copied().fold(f64::INFINITY, f64::min) - slack;
-                    iy0 = iy0.max(row_of(y).clamp(-2.0, ny as f64 + 2.0).floor() as i64 - 1);
-                } else {
-                    let y = ys.iter().copied().fold(f64::NEG_INFINITY, f64::max) + slack;
-                    iy1 = iy1.min(row_of(y).clamp(-2.0, ny as f64 + 2.0).ceil() as i64 + 1);
-                }
-            }
-        }
+        // Rows that the grown shadow can reach inside the box of grid
+        // centres: clip the box by the three grown half-planes.
+        let axe = a.cross(e);
+        let planes = [(-a.y, a.x, m12), (b.y, -b.x, m12), (e.y, -e.x, m3 - axe)];
+        let Some((ymin, ymax)) = clip_box_y(bx, by, &planes) else {
+            continue;
+        };
+        let iy0 = (row_of(ymin).clamp(-2.0, ny as f64 + 2.0) - 1e-6).ceil() as i64;
+        let iy1 = (row_of(ymax).clamp(-2.0, ny as f64 + 2.0) + 1e-6).floor() as i64;
+        let tests = [
+            // a × P: left of the ray through a.
+            RowTest::new(-a.y, 0.0, a.x, m12, ox, step),
+            // P × b: right of the ray through b.
+            RowTest::new(b.y, 0.0, -b.x, m12, ox, step),
+            // (P - a) × e: beyond the wall's line.
+            RowTest::new(e.y, a.y * e.x - a.x * e.y, -e.x, m3, ox, step),
+        ];
         for iy in iy0.max(0)..=iy1.min(ny as i64 - 1) {
+            stats.rows_visited += 1;
             let iy = iy as usize;
             let yy = lo.y + (iy as f64 + 0.5) * step - tx.y;
-            let tests = [
-                // a × P: left of the ray through a.
-                Test {
-                    s: -a.y,
-                    c: a.x * yy,
-                    m: m12,
-                },
-                // P × b: right of the ray through b.
-                Test {
-                    s: b.y,
-                    c: -yy * b.x,
-                    m: m12,
-                },
-                // (P - a) × e: beyond the wall's line.
-                Test {
-                    s: e.y,
-                    c: -a.x * e.y - (yy - a.y) * e.x,
-                    m: m3,
-                },
-            ];
             let (mut n0, mut n1, mut i0, mut i1) = (0i64, nxi - 1, 0i64, nxi - 1);
-            for t in tests {
-                let (a0, a1, b0, b1) = columns(t, col_of, nxi);
+            for t in &tests {
+                let (a0, a1, b0, b1) = t.columns(yy, ox, step, nxi);
                 n0 = n0.max(a0);
                 n1 = n1.min(a1);
                 i0 = i0.max(b0);
@@ -620,7 +682,10 @@ fn resolve(
             }
             at(
                 i,
-                &mut boundary[j0..k].iter().map(|b| b.1).chain(inline.iter().copied()),
+                &mut boundary[j0..k]
+                    .iter()
+                    .map(|b| b.1)
+                    .chain(inline.iter().copied()),
             );
         }
     }

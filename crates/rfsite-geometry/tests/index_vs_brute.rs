@@ -7,7 +7,7 @@ use rfsite_geometry::{Point2, Segment};
 
 /// Coordinates mixing exact lattice values (shared corners, collinear
 /// walls), decimals that are inexact in binary, and arbitrary values.
-fn coord() -> impl Strategy<Value = f64> {
+pub fn coord() -> impl Strategy<Value = f64> {
     prop_oneof![
         (0i32..=20).prop_map(f64::from),
         (0i32..=40).prop_map(|v| f64::from(v) * 0.5),
@@ -16,13 +16,13 @@ fn coord() -> impl Strategy<Value = f64> {
     ]
 }
 
-fn random_wall() -> impl Strategy<Value = Segment> {
+pub fn random_wall() -> impl Strategy<Value = Segment> {
     (coord(), coord(), coord(), coord()).prop_map(|(a, b, c, d)| seg(a, b, c, d))
 }
 
 /// Axis-aligned rectangles on an integer lattice, optionally split into
 /// unit-length collinear pieces, plus stray lattice walls.
-fn room_plan() -> impl Strategy<Value = Vec<Segment>> {
+pub fn room_plan() -> impl Strategy<Value = Vec<Segment>> {
     let rect = (0i32..10, 0i32..10, 1i32..6, 1i32..6, any::<bool>());
     let stray = (0i32..=12, 0i32..=12, any::<bool>(), 1i32..5);
     (

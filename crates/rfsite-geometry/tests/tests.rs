@@ -4,5 +4,6 @@ mod geo_crosscheck;
 mod grid_polygon;
 mod hand_plan;
 mod index_vs_brute;
+mod shadow;
 mod synth;
 mod util;

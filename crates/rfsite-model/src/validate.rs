@@ -1086,9 +1086,13 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
 
     // ---- probes
     let mut probes = Vec::new();
+    let mut probe_spans: Vec<(String, Range<usize>)> = Vec::new();
     for rp in &raw.probes {
         let p = rp.get_ref();
         let span = rp.span();
+        if let Some(m) = &p.material {
+            probe_spans.push((m.get_ref().clone(), span.clone()));
+        }
         let Some(m) = &p.material else {
             v.error(span, "`[[probes]]` entry is missing `material`", None);
             continue;
@@ -1128,7 +1132,8 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             .collect();
         let freqs: Vec<f64> = services.iter().map(|s| s.freq_mhz).collect();
         for note in lib.apply_probes(&pts, &freqs, &thickness) {
-            v.warn(whole.clone(), note, None);
+            let span = probe_spans.iter().find(|(m, _)| note.contains(&format!("`{m}`"))).map(|(_, s)| s.clone()).unwrap_or(whole.clone());
+            v.warn(span, note, Some("add a probe at that frequency to override the library there too".into()));
         }
     }
 

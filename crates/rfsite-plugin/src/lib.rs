@@ -18,7 +18,13 @@ use rfsite_model::Site;
 use serde::{Deserialize, Serialize};
 
 pub mod assessment;
+pub mod wire;
 pub use assessment::*;
+
+fn nan_from_null<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Vec<f32>, D::Error> {
+    let v: Vec<Option<f32>> = Vec::deserialize(d)?;
+    Ok(v.into_iter().map(|x| x.unwrap_or(f32::NAN)).collect())
+}
 
 /// What a plugin computes and on what authority.
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
@@ -105,7 +111,9 @@ pub struct CoverageLayer {
     pub model: String,
     /// Grid.
     pub grid: GridSpec,
-    /// Level in dBm at each grid point, row-major; NaN outside the floor outline.
+    /// Level in dBm at each grid point, row-major; NaN outside the floor outline (JSON
+    /// writes NaN as `null`, and `null` reads back as NaN).
+    #[serde(deserialize_with = "nan_from_null")]
     pub level_dbm: Vec<f32>,
     /// Index into `servers` of the best server at each point (`u16::MAX`: none).
     #[serde(default)]

@@ -21,6 +21,7 @@ use typst_as_lib::TypstEngine;
 
 pub mod charts;
 pub mod grading_map;
+pub mod portfolio;
 
 /// Fonts shipped with the templates (Lato, SIL OFL 1.1; licence beside the files).
 pub const FONTS: &[&[u8]] = &[

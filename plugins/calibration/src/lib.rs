@@ -58,7 +58,10 @@ impl Term {
         match s {
             "offset" => Some(Term::Offset),
             "distance-exponent" => Some(Term::DistanceExponent),
-            _ => s.strip_prefix("material:").filter(|m| !m.is_empty()).map(|m| Term::Material(m.to_string())),
+            _ => s
+                .strip_prefix("material:")
+                .filter(|m| !m.is_empty())
+                .map(|m| Term::Material(m.to_string())),
         }
     }
     /// The option name.
@@ -111,7 +114,11 @@ pub fn design_row(terms: &[Term], info: &PathInfo) -> Vec<f64> {
 pub fn moments(v: &[f64]) -> (f64, f64, f64) {
     let n = v.len().max(1) as f64;
     let mean = v.iter().sum::<f64>() / n;
-    let std = if v.len() > 1 { (v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt() } else { 0.0 };
+    let std = if v.len() > 1 {
+        (v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt()
+    } else {
+        0.0
+    };
     let rms = (v.iter().map(|x| x * x).sum::<f64>() / n).sqrt();
     (mean, std, rms)
 }
@@ -119,16 +126,32 @@ pub fn moments(v: &[f64]) -> (f64, f64, f64) {
 /// Builds the scene the multi-wall plugin builds, from its options in the site.
 pub fn scene_for(site: &Site) -> Scene {
     let mw = site.plugin_options.get("multi-wall");
-    let num = |k: &str, d: f64| mw.and_then(|t| t.get(k)).and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64))).unwrap_or(d);
-    Scene::new(site, num("floor_b", rfsite_physics::cost231::COST231_DEFAULT_B), num("max_crossing_loss_db", 60.0))
+    let num = |k: &str, d: f64| {
+        mw.and_then(|t| t.get(k))
+            .and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64)))
+            .unwrap_or(d)
+    };
+    Scene::new(
+        site,
+        num("floor_b", rfsite_physics::cost231::COST231_DEFAULT_B),
+        num("max_crossing_loss_db", 60.0),
+    )
 }
 
 /// The observations of one service: (design row inputs, residual measured - predicted),
 /// and how many points had no prediction or server.
-pub fn observations(site: &Site, scene: &Scene, layers: &[&CoverageLayer], points: &[&Measurement]) -> (Vec<(PathInfo, f64)>, usize) {
+pub fn observations(
+    site: &Site,
+    scene: &Scene,
+    layers: &[&CoverageLayer],
+    points: &[&Measurement],
+) -> (Vec<(PathInfo, f64)>, usize) {
     let mut out = Vec::new();
     let mut skipped = 0;
-    let interps: BTreeMap<&str, (Interp, &CoverageLayer)> = layers.iter().map(|l| (l.floor.as_str(), (Interp::new(l), *l))).collect();
+    let interps: BTreeMap<&str, (Interp, &CoverageLayer)> = layers
+        .iter()
+        .map(|l| (l.floor.as_str(), (Interp::new(l), *l)))
+        .collect();
     for m in points {
         let p = Point2::new(m.x_m, m.y_m);
         let Some((ip, l)) = interps.get(m.floor.as_str()) else {
@@ -136,8 +159,12 @@ pub fn observations(site: &Site, scene: &Scene, layers: &[&CoverageLayer], point
             continue;
         };
         let g = l.grid.to_grid();
-        let server = g.cell_of(p).and_then(|(ix, iy)| l.best_server.get(iy * g.nx + ix)).and_then(|s| l.servers.get(*s as usize));
-        let (Some(pred), Some(server), Some(fi)) = (ip.at(p), server, site.floor_index(&m.floor)) else {
+        let server = g
+            .cell_of(p)
+            .and_then(|(ix, iy)| l.best_server.get(iy * g.nx + ix))
+            .and_then(|s| l.servers.get(*s as usize));
+        let (Some(pred), Some(server), Some(fi)) = (ip.at(p), server, site.floor_index(&m.floor))
+        else {
             skipped += 1;
             continue;
         };
@@ -145,7 +172,13 @@ pub fn observations(site: &Site, scene: &Scene, layers: &[&CoverageLayer], point
             skipped += 1;
             continue;
         };
-        out.push((PathInfo { crossings, distance_m }, m.level_dbm - pred));
+        out.push((
+            PathInfo {
+                crossings,
+                distance_m,
+            },
+            m.level_dbm - pred,
+        ));
     }
     (out, skipped)
 }
@@ -180,15 +213,26 @@ pub struct ServiceFit {
 }
 
 /// Fits `terms` to observations, dropping terms no observation informs.
-pub fn fit_terms(service: &str, obs: &[(PathInfo, f64)], skipped: usize, terms: &[Term], bounds: &[(f64, f64)]) -> Result<ServiceFit, String> {
+pub fn fit_terms(
+    service: &str,
+    obs: &[(PathInfo, f64)],
+    skipped: usize,
+    terms: &[Term],
+    bounds: &[(f64, f64)],
+) -> Result<ServiceFit, String> {
     let mut notes = Vec::new();
     let mut keep = Vec::new();
     for (t, b) in terms.iter().zip(bounds) {
-        let used = obs.iter().any(|(i, _)| design_row(std::slice::from_ref(t), i)[0] != 0.0);
+        let used = obs
+            .iter()
+            .any(|(i, _)| design_row(std::slice::from_ref(t), i)[0] != 0.0);
         if used {
             keep.push((t.clone(), *b));
         } else {
-            notes.push(format!("`{}` not fitted: no measured path crosses it", t.key()));
+            notes.push(format!(
+                "`{}` not fitted: no measured path crosses it",
+                t.key()
+            ));
         }
     }
     let ts: Vec<Term> = keep.iter().map(|k| k.0.clone()).collect();
@@ -197,7 +241,11 @@ pub fn fit_terms(service: &str, obs: &[(PathInfo, f64)], skipped: usize, terms: 
     let lo: Vec<f64> = keep.iter().map(|k| k.1 .0).collect();
     let hi: Vec<f64> = keep.iter().map(|k| k.1 .1).collect();
     let f = bounded_lstsq(&x, &y, &lo, &hi)?;
-    let after: Vec<f64> = x.iter().zip(&y).map(|(r, yy)| yy - r.iter().zip(&f.beta).map(|(a, b)| a * b).sum::<f64>()).collect();
+    let after: Vec<f64> = x
+        .iter()
+        .zip(&y)
+        .map(|(r, yy)| yy - r.iter().zip(&f.beta).map(|(a, b)| a * b).sum::<f64>())
+        .collect();
     Ok(ServiceFit {
         service: service.into(),
         points: obs.len(),
@@ -228,10 +276,23 @@ impl PathLoss for Calibrated<'_> {
     fn scratch(&self) -> Self::Scratch {
         self.scene.scratch()
     }
-    fn extra_db(&self, scratch: &mut Self::Scratch, service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> f64 {
+    fn extra_db(
+        &self,
+        scratch: &mut Self::Scratch,
+        service: usize,
+        tx: P3,
+        tx_floor: usize,
+        rx: P3,
+        rx_floor: usize,
+    ) -> f64 {
         let (o, dn) = self.terms.get(service).copied().unwrap_or((0.0, 0.0));
-        let d = ((rx.p.x - tx.p.x).powi(2) + (rx.p.y - tx.p.y).powi(2) + (rx.z - tx.z).powi(2)).sqrt().max(rfsite_plugin_free_space::MIN_DISTANCE_M);
-        self.scene.extra_db(scratch, service, tx, tx_floor, rx, rx_floor) - o + dn * 10.0 * d.log10()
+        let d = ((rx.p.x - tx.p.x).powi(2) + (rx.p.y - tx.p.y).powi(2) + (rx.z - tx.z).powi(2))
+            .sqrt()
+            .max(rfsite_plugin_free_space::MIN_DISTANCE_M);
+        self.scene
+            .extra_db(scratch, service, tx, tx_floor, rx, rx_floor)
+            - o
+            + dn * 10.0 * d.log10()
     }
 }
 
@@ -252,7 +313,11 @@ fn f2(x: f64) -> String {
 }
 
 fn opt_enabled(site: &Site) -> bool {
-    site.plugin_options.get("calibration").and_then(|t| t.get("enabled")).and_then(|v| v.as_bool()).unwrap_or(false)
+    site.plugin_options
+        .get("calibration")
+        .and_then(|t| t.get("enabled"))
+        .and_then(|v| v.as_bool())
+        .unwrap_or(false)
 }
 
 impl Plugin for Calibration {
@@ -273,7 +338,11 @@ impl Plugin for Calibration {
         }
     }
     fn after(&self) -> Vec<String> {
-        vec!["free-space".into(), "multi-wall".into(), "survey-compare".into()]
+        vec![
+            "free-space".into(),
+            "multi-wall".into(),
+            "survey-compare".into(),
+        ]
     }
     fn applies(&self, site: &Site) -> bool {
         opt_enabled(site) && !site.transmitters.is_empty()
@@ -281,19 +350,42 @@ impl Plugin for Calibration {
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let mut out = PluginOutput::default();
-        let bad = |key: &str, message: String| PluginError::BadOption { key: key.into(), message };
+        let bad = |key: &str, message: String| PluginError::BadOption {
+            key: key.into(),
+            message,
+        };
         let terms: Vec<Term> = match ctx.options.get("fit") {
             None => vec![Term::Offset],
             Some(toml::Value::Array(a)) => a
                 .iter()
-                .map(|v| v.as_str().and_then(Term::parse).ok_or_else(|| bad("fit", format!("`{v}` is not `offset`, `material:<id>` or `distance-exponent`"))))
+                .map(|v| {
+                    v.as_str().and_then(Term::parse).ok_or_else(|| {
+                        bad(
+                            "fit",
+                            format!(
+                                "`{v}` is not `offset`, `material:<id>` or `distance-exponent`"
+                            ),
+                        )
+                    })
+                })
                 .collect::<Result<_, _>>()?,
-            Some(v) => return Err(bad("fit", format!("expected a list, found {}", v.type_str()))),
+            Some(v) => {
+                return Err(bad(
+                    "fit",
+                    format!("expected a list, found {}", v.type_str()),
+                ))
+            }
         };
         for t in &terms {
             if let Term::Material(m) = t {
                 if !site.materials_used.contains(m) {
-                    return Err(bad("fit", format!("material `{m}` is not used on this site (used: {})", site.materials_used.join(", "))));
+                    return Err(bad(
+                        "fit",
+                        format!(
+                            "material `{m}` is not used on this site (used: {})",
+                            site.materials_used.join(", ")
+                        ),
+                    ));
                 }
             }
         }
@@ -308,7 +400,12 @@ impl Plugin for Calibration {
                     let n = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64));
                     match (n(&a[0]), n(&a[1])) {
                         (Some(lo), Some(hi)) if lo <= hi => (lo, hi),
-                        _ => return Err(bad("bounds", format!("`{}` needs [low, high] numbers, low <= high", t.key()))),
+                        _ => {
+                            return Err(bad(
+                                "bounds",
+                                format!("`{}` needs [low, high] numbers, low <= high", t.key()),
+                            ))
+                        }
                     }
                 }
                 Some(_) => return Err(bad("bounds", format!("`{}` needs [low, high]", t.key()))),
@@ -318,14 +415,26 @@ impl Plugin for Calibration {
         let base = ctx.option_str("model", "multi-wall")?;
         let layers = ctx.layers_of(&base);
         if layers.is_empty() {
-            out.warnings.push(Warning { plugin: self.id().into(), message: format!("no `{base}` layers to calibrate") });
+            out.warnings.push(Warning {
+                plugin: self.id().into(),
+                message: format!("no `{base}` layers to calibrate"),
+            });
             return Ok(out);
         }
         let scene = scene_for(site);
         let mut fits = Vec::new();
         for svc in &site.services {
-            let pts: Vec<&Measurement> = ctx.surveys.points.iter().filter(|m| m.service == svc.id).collect();
-            let ls: Vec<&CoverageLayer> = layers.iter().copied().filter(|l| l.service == svc.id).collect();
+            let pts: Vec<&Measurement> = ctx
+                .surveys
+                .points
+                .iter()
+                .filter(|m| m.service == svc.id)
+                .collect();
+            let ls: Vec<&CoverageLayer> = layers
+                .iter()
+                .copied()
+                .filter(|l| l.service == svc.id)
+                .collect();
             if pts.is_empty() || ls.is_empty() {
                 continue;
             }
@@ -337,20 +446,39 @@ impl Plugin for Calibration {
             match fit_terms(&svc.id, &obs, skipped, &terms, &bounds) {
                 Ok(f) => {
                     for n in &f.notes {
-                        out.warnings.push(Warning { plugin: self.id().into(), message: format!("service `{}`: {n}", svc.id) });
+                        out.warnings.push(Warning {
+                            plugin: self.id().into(),
+                            message: format!("service `{}`: {n}", svc.id),
+                        });
                     }
                     fits.push(f);
                 }
-                Err(e) => out.warnings.push(Warning { plugin: self.id().into(), message: format!("service `{}`: not calibrated: {e}", svc.id) }),
+                Err(e) => out.warnings.push(Warning {
+                    plugin: self.id().into(),
+                    message: format!("service `{}`: not calibrated: {e}", svc.id),
+                }),
             }
         }
         // Tables.
-        let name = |sid: &str| site.service(sid).map(|s| s.name.clone()).unwrap_or_else(|| sid.to_string());
+        let name = |sid: &str| {
+            site.service(sid)
+                .map(|s| s.name.clone())
+                .unwrap_or_else(|| sid.to_string())
+        };
         let base_loss = |svc: &str, m: &str| -> Option<f64> {
             let s = site.service(svc)?;
             let mat = site.materials.get(m)?;
-            let t = site.floors.iter().flat_map(|f| f.parts.iter()).find(|p| p.material == m).map(|p| p.thickness_m).unwrap_or(0.1);
-            Some(mat.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te).loss_db)
+            let t = site
+                .floors
+                .iter()
+                .flat_map(|f| f.parts.iter())
+                .find(|p| p.material == m)
+                .map(|p| p.thickness_m)
+                .unwrap_or(0.1);
+            Some(
+                mat.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te)
+                    .loss_db,
+            )
         };
         let mut rows = Vec::new();
         for f in &fits {
@@ -359,15 +487,28 @@ impl Plugin for Calibration {
                     Term::Offset => ("constant offset".to_string(), String::new(), String::new()),
                     Term::Material(m) => {
                         let b = base_loss(&f.service, m);
-                        (format!("loss per crossing of {m}"), b.map(f1).unwrap_or_default(), b.map(|b| f1((b + f.values[i]).max(0.0))).unwrap_or_default())
+                        (
+                            format!("loss per crossing of {m}"),
+                            b.map(f1).unwrap_or_default(),
+                            b.map(|b| f1((b + f.values[i]).max(0.0)))
+                                .unwrap_or_default(),
+                        )
                     }
-                    Term::DistanceExponent => ("distance exponent change".into(), "2.0 (free space)".into(), f2(2.0 + f.values[i])),
+                    Term::DistanceExponent => (
+                        "distance exponent change".into(),
+                        "2.0 (free space)".into(),
+                        f2(2.0 + f.values[i]),
+                    ),
                 };
                 rows.push(vec![
                     name(&f.service),
                     desc,
                     format!("{} {}", f2(f.values[i]), t.unit()),
-                    if f.at_bound[i] { "at bound".into() } else { format!("± {}", f2(f.std_errors[i])) },
+                    if f.at_bound[i] {
+                        "at bound".into()
+                    } else {
+                        format!("± {}", f2(f.std_errors[i]))
+                    },
                     format!("[{}, {}]", f1(f.bounds[i].0), f1(f.bounds[i].1)),
                     base_v,
                     new_v,
@@ -377,17 +518,49 @@ impl Plugin for Calibration {
         if !fits.is_empty() {
             out.tables.push(Table {
                 id: "calibration-parameters".into(),
-                title: "Calibration: fitted parameters (change from the model, standard error 1 sigma)".into(),
-                columns: vec!["Service".into(), "Parameter".into(), "Fitted change".into(), "Std error".into(), "Bounds".into(), "Model dB".into(), "Calibrated dB".into()],
+                title:
+                    "Calibration: fitted parameters (change from the model, standard error 1 sigma)"
+                        .into(),
+                columns: vec![
+                    "Service".into(),
+                    "Parameter".into(),
+                    "Fitted change".into(),
+                    "Std error".into(),
+                    "Bounds".into(),
+                    "Model dB".into(),
+                    "Calibrated dB".into(),
+                ],
                 rows,
             });
             out.tables.push(Table {
                 id: "calibration-residuals".into(),
                 title: "Calibration: residual measured - predicted before and after (dB)".into(),
-                columns: vec!["Service".into(), "Points".into(), "Mean before".into(), "Std before".into(), "RMS before".into(), "Mean after".into(), "Std after".into(), "RMS after".into(), "Fit sigma".into()],
+                columns: vec![
+                    "Service".into(),
+                    "Points".into(),
+                    "Mean before".into(),
+                    "Std before".into(),
+                    "RMS before".into(),
+                    "Mean after".into(),
+                    "Std after".into(),
+                    "RMS after".into(),
+                    "Fit sigma".into(),
+                ],
                 rows: fits
                     .iter()
-                    .map(|f| vec![name(&f.service), f.points.to_string(), f1(f.before.0), f1(f.before.1), f1(f.before.2), f1(f.after.0), f1(f.after.1), f1(f.after.2), f1(f.sigma_db)])
+                    .map(|f| {
+                        vec![
+                            name(&f.service),
+                            f.points.to_string(),
+                            f1(f.before.0),
+                            f1(f.before.1),
+                            f1(f.before.2),
+                            f1(f.after.0),
+                            f1(f.after.1),
+                            f1(f.after.2),
+                            f1(f.sigma_db),
+                        ]
+                    })
                     .collect(),
             });
         }
@@ -407,13 +580,17 @@ impl Plugin for Calibration {
                 })
             })
             .collect();
-        out.extra.insert("services".into(), serde_json::Value::Array(extra));
-        out.extra.insert("applied".into(), (apply && !fits.is_empty()).into());
+        out.extra
+            .insert("services".into(), serde_json::Value::Array(extra));
+        out.extra
+            .insert("applied".into(), (apply && !fits.is_empty()).into());
         if apply && !fits.is_empty() {
             let mut scene = scene_for(site);
             let mut st = vec![(0.0, 0.0); site.services.len()];
             for f in &fits {
-                let Some(si) = site.services.iter().position(|s| s.id == f.service) else { continue };
+                let Some(si) = site.services.iter().position(|s| s.id == f.service) else {
+                    continue;
+                };
                 for (i, t) in f.terms.iter().enumerate() {
                     match t {
                         Term::Offset => st[si].0 = f.values[i],
@@ -422,7 +599,14 @@ impl Plugin for Calibration {
                     }
                 }
             }
-            out.layers = predict(site, "calibrated", &Calibrated { scene: &scene, terms: st });
+            out.layers = predict(
+                site,
+                "calibrated",
+                &Calibrated {
+                    scene: &scene,
+                    terms: st,
+                },
+            );
             out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters".into() });
         }
         Ok(out)

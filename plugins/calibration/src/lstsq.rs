@@ -22,7 +22,10 @@ pub struct Fit {
 fn cholesky(a: &[Vec<f64>]) -> Option<Vec<Vec<f64>>> {
     let n = a.len();
     let mut l = vec![vec![0.0; n]; n];
-    let scale = (0..n).map(|i| a[i][i].abs()).fold(0.0, f64::max).max(1e-300);
+    let scale = (0..n)
+        .map(|i| a[i][i].abs())
+        .fold(0.0, f64::max)
+        .max(1e-300);
     for i in 0..n {
         for j in 0..=i {
             let s: f64 = (0..j).map(|k| l[i][k] * l[j][k]).sum();
@@ -72,7 +75,13 @@ pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Resul
         let free: Vec<usize> = (0..p).filter(|j| fixed[*j].is_none()).collect();
         let q = free.len();
         // Observations less the contribution of held parameters.
-        let yr: Vec<f64> = (0..n).map(|i| y[i] - (0..p).filter_map(|j| fixed[j].map(|v| v * x[i][j])).sum::<f64>()).collect();
+        let yr: Vec<f64> = (0..n)
+            .map(|i| {
+                y[i] - (0..p)
+                    .filter_map(|j| fixed[j].map(|v| v * x[i][j]))
+                    .sum::<f64>()
+            })
+            .collect();
         let mut a = vec![vec![0.0; q]; q];
         let mut b = vec![0.0; q];
         for i in 0..n {
@@ -87,7 +96,9 @@ pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Resul
             return Err(format!("{n} observations cannot fit {q} parameters"));
         }
         let (bf, l) = if q > 0 {
-            let l = cholesky(&a).ok_or("the parameters cannot be told apart by these measurements (X^T X is singular)")?;
+            let l = cholesky(&a).ok_or(
+                "the parameters cannot be told apart by these measurements (X^T X is singular)",
+            )?;
             (chol_solve(&l, &b), Some(l))
         } else {
             (vec![], None)
@@ -96,7 +107,13 @@ pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Resul
         let mut worst: Option<(usize, f64, f64)> = None;
         for (r, &j) in free.iter().enumerate() {
             let v = bf[r];
-            let (viol, bound) = if v < lo[j] { (lo[j] - v, lo[j]) } else if v > hi[j] { (v - hi[j], hi[j]) } else { (0.0, 0.0) };
+            let (viol, bound) = if v < lo[j] {
+                (lo[j] - v, lo[j])
+            } else if v > hi[j] {
+                (v - hi[j], hi[j])
+            } else {
+                (0.0, 0.0)
+            };
             if viol > 0.0 && worst.is_none_or(|w| viol > w.1) {
                 worst = Some((j, viol, bound));
             }
@@ -114,7 +131,9 @@ pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Resul
         for (r, &j) in free.iter().enumerate() {
             beta[j] = bf[r];
         }
-        let rss: f64 = (0..n).map(|i| (y[i] - (0..p).map(|j| x[i][j] * beta[j]).sum::<f64>()).powi(2)).sum();
+        let rss: f64 = (0..n)
+            .map(|i| (y[i] - (0..p).map(|j| x[i][j] * beta[j]).sum::<f64>()).powi(2))
+            .sum();
         let dof = n - q;
         let sigma2 = rss / dof as f64;
         let mut se = vec![f64::NAN; p];
@@ -126,7 +145,14 @@ pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Resul
                 se[j] = (sigma2 * col[r]).sqrt();
             }
         }
-        return Ok(Fit { beta, se, at_bound: fixed.iter().map(|f| f.is_some()).collect(), rss, dof, sigma: sigma2.sqrt() });
+        return Ok(Fit {
+            beta,
+            se,
+            at_bound: fixed.iter().map(|f| f.is_some()).collect(),
+            rss,
+            dof,
+            sigma: sigma2.sqrt(),
+        });
     }
 }
 

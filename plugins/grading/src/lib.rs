@@ -68,7 +68,10 @@ fn inside_fraction(outline: &[Point2], c: &CellRect) -> f64 {
     let mut k = 0;
     for i in 0..n {
         for j in 0..n {
-            let p = Point2::new(c.min[0] + (i as f64 + 0.5) / n as f64 * (c.max[0] - c.min[0]), c.min[1] + (j as f64 + 0.5) / n as f64 * (c.max[1] - c.min[1]));
+            let p = Point2::new(
+                c.min[0] + (i as f64 + 0.5) / n as f64 * (c.max[0] - c.min[0]),
+                c.min[1] + (j as f64 + 0.5) / n as f64 * (c.max[1] - c.min[1]),
+            );
             if rfsite_geometry::point_in_polygon(p, outline) {
                 k += 1;
             }
@@ -78,8 +81,18 @@ fn inside_fraction(outline: &[Point2], c: &CellRect) -> f64 {
 }
 
 fn grid_for(w: f64, h: f64, k: usize, min_side: f64, max_side: f64) -> (usize, usize) {
-    let mut nx = ((k as f64 * w / h).sqrt().round() as usize).max(1);
-    let mut ny = k.div_ceil(nx).max(1);
+    // The column and row counts whose product is nearest `k`, cells as square as possible.
+    let (mut nx, mut ny) = (1, k.max(1));
+    let mut best = f64::INFINITY;
+    for cx in 1..=k.max(1) {
+        let cy = ((k as f64 / cx as f64).round() as usize).max(1);
+        let score =
+            (cx * cy).abs_diff(k) as f64 * 10.0 + ((w / cx as f64) / (h / cy as f64)).ln().abs();
+        if score < best - 1e-12 {
+            best = score;
+            (nx, ny) = (cx, cy);
+        }
+    }
     let fix = |n: &mut usize, span: f64| {
         if span / (*n as f64) < min_side * (1.0 - 1e-9) {
             *n = ((span / min_side + 1e-9).floor() as usize).max(1);
@@ -105,7 +118,12 @@ pub fn cell_layout(outline: &[Point2], n: usize, min_side_m: f64, max_side_m: f6
         let mut cells = Vec::new();
         for iy in 0..ny {
             for ix in 0..nx {
-                let c = CellRect { ix, iy, min: [min.x + ix as f64 * sx, min.y + iy as f64 * sy], max: [min.x + (ix + 1) as f64 * sx, min.y + (iy + 1) as f64 * sy] };
+                let c = CellRect {
+                    ix,
+                    iy,
+                    min: [min.x + ix as f64 * sx, min.y + iy as f64 * sy],
+                    max: [min.x + (ix + 1) as f64 * sx, min.y + (iy + 1) as f64 * sy],
+                };
                 if inside_fraction(outline, &c) > 0.0 {
                     cells.push(c);
                 }
@@ -119,12 +137,22 @@ pub fn cell_layout(outline: &[Point2], n: usize, min_side_m: f64, max_side_m: f6
         let cells = build(nx, ny);
         let enough = cells.len() >= n;
         let at_min = w / nx as f64 <= min_side_m * 1.0001 || h / ny as f64 <= min_side_m * 1.0001;
-        best = Some(CellLayout { nx, ny, side_m: [w / nx as f64, h / ny as f64], cells });
+        best = Some(CellLayout {
+            nx,
+            ny,
+            side_m: [w / nx as f64, h / ny as f64],
+            cells,
+        });
         if enough || at_min {
             break;
         }
     }
-    best.unwrap_or(CellLayout { nx: 0, ny: 0, side_m: [0.0, 0.0], cells: vec![] })
+    best.unwrap_or(CellLayout {
+        nx: 0,
+        ny: 0,
+        side_m: [0.0, 0.0],
+        cells: vec![],
+    })
 }
 
 /// A graded test cell.
@@ -202,7 +230,12 @@ pub struct FloorGrade {
     pub critical_zone_fraction: Option<f64>,
 }
 
-fn verdict_of(cells: &[GradedCell], pick: impl Fn(&GradedCell) -> Option<bool>, rule: &Rule, critical_zone: Option<f64>) -> Verdict {
+fn verdict_of(
+    cells: &[GradedCell],
+    pick: impl Fn(&GradedCell) -> Option<bool>,
+    rule: &Rule,
+    critical_zone: Option<f64>,
+) -> Verdict {
     let mut area = BTreeMap::<&str, (f64, f64, usize)>::new();
     let mut failed = Vec::new();
     for c in cells {
@@ -210,7 +243,13 @@ fn verdict_of(cells: &[GradedCell], pick: impl Fn(&GradedCell) -> Option<bool>, 
         if c.kind == "excluded" {
             continue;
         }
-        let e = area.entry(if c.kind == "critical" { "critical" } else { "general" }).or_default();
+        let e = area
+            .entry(if c.kind == "critical" {
+                "critical"
+            } else {
+                "general"
+            })
+            .or_default();
         e.0 += c.inside_fraction;
         if p {
             e.1 += c.inside_fraction;
@@ -232,22 +271,39 @@ fn verdict_of(cells: &[GradedCell], pick: impl Fn(&GradedCell) -> Option<bool>, 
     let (gf, cf) = (frac("general"), frac("critical"));
     let mut reasons = Vec::new();
     if let Some(g) = gf.filter(|g| *g < rule.target_general) {
-        reasons.push(format!("{:.1} % of general cells pass, target {:.0} %", 100.0 * g, 100.0 * rule.target_general));
+        reasons.push(format!(
+            "{:.1} % of general cells pass, target {:.0} %",
+            100.0 * g,
+            100.0 * rule.target_general
+        ));
     }
     match cf {
-        Some(c) if c < rule.target_critical => reasons.push(format!("{:.1} % of critical cells pass, target {:.0} %", 100.0 * c, 100.0 * rule.target_critical)),
+        Some(c) if c < rule.target_critical => reasons.push(format!(
+            "{:.1} % of critical cells pass, target {:.0} %",
+            100.0 * c,
+            100.0 * rule.target_critical
+        )),
         None => {
             if let Some(z) = critical_zone.filter(|z| *z < rule.target_critical) {
-                reasons.push(format!("{:.1} % of the critical zones' predicted area meets the level, target {:.0} %", 100.0 * z, 100.0 * rule.target_critical));
+                reasons.push(format!(
+                    "{:.1} % of the critical zones' predicted area meets the level, target {:.0} %",
+                    100.0 * z,
+                    100.0 * rule.target_critical
+                ));
             }
         }
         _ => {}
     }
     if let Some(m) = rule.max_failed_cells.filter(|m| failed.len() > *m) {
-        reasons.push(format!("{} failed cells, at most {m} tolerated", failed.len()));
+        reasons.push(format!(
+            "{} failed cells, at most {m} tolerated",
+            failed.len()
+        ));
     }
     if !rule.failed_cells_may_be_adjacent && adjacent > 0 {
-        reasons.push(format!("{adjacent} pair(s) of failed cells are adjacent, which the rule does not allow"));
+        reasons.push(format!(
+            "{adjacent} pair(s) of failed cells are adjacent, which the rule does not allow"
+        ));
     }
     let judged = count("general") + count("critical");
     Verdict {
@@ -266,9 +322,20 @@ fn verdict_of(cells: &[GradedCell], pick: impl Fn(&GradedCell) -> Option<bool>, 
 /// (point, level dBm) (NaN outside the outline; empty when nothing serves the floor, which
 /// fails every cell on the prediction); `measured` the survey points on it; `pred_thr_dbm`
 /// the level a predicted point must reach (threshold + design and shadowing margins).
-pub fn grade_floor(floor: &Floor, levels: &[(Point2, f64)], measured: &[(Point2, f64)], rule: &Rule, pred_thr_dbm: f64) -> FloorGrade {
+pub fn grade_floor(
+    floor: &Floor,
+    levels: &[(Point2, f64)],
+    measured: &[(Point2, f64)],
+    rule: &Rule,
+    pred_thr_dbm: f64,
+) -> FloorGrade {
     let to_m = rule.side_to_m();
-    let layout = cell_layout(&floor.outline, rule.cells_per_floor, rule.min_cell_side * to_m, rule.max_cell_side * to_m);
+    let layout = cell_layout(
+        &floor.outline,
+        rule.cells_per_floor,
+        rule.min_cell_side * to_m,
+        rule.max_cell_side * to_m,
+    );
     let mut cells = Vec::new();
     let mut crit_pts = (0usize, 0usize);
     for (p, v) in levels {
@@ -285,7 +352,10 @@ pub fn grade_floor(floor: &Floor, levels: &[(Point2, f64)], measured: &[(Point2,
         let (mut inside, mut crit, mut excl) = (0usize, 0usize, 0usize);
         for i in 0..n {
             for j in 0..n {
-                let p = Point2::new(c.min[0] + (i as f64 + 0.5) / n as f64 * (c.max[0] - c.min[0]), c.min[1] + (j as f64 + 0.5) / n as f64 * (c.max[1] - c.min[1]));
+                let p = Point2::new(
+                    c.min[0] + (i as f64 + 0.5) / n as f64 * (c.max[0] - c.min[0]),
+                    c.min[1] + (j as f64 + 0.5) / n as f64 * (c.max[1] - c.min[1]),
+                );
                 if !rfsite_geometry::point_in_polygon(p, &floor.outline) {
                     continue;
                 }
@@ -326,7 +396,11 @@ pub fn grade_floor(floor: &Floor, levels: &[(Point2, f64)], measured: &[(Point2,
         };
         let _ = any_layer;
         // Measurements: mean of the dBm readings in the cell.
-        let ms: Vec<f64> = measured.iter().filter(|(p, _)| c.contains(*p)).map(|(_, l)| *l).collect();
+        let ms: Vec<f64> = measured
+            .iter()
+            .filter(|(p, _)| c.contains(*p))
+            .map(|(_, l)| *l)
+            .collect();
         let mm = (!ms.is_empty()).then(|| ms.iter().sum::<f64>() / ms.len() as f64);
         let meas_pass = mm.map(|m| m >= rule.threshold_dbm);
         let (judged_by, pass) = match (rule.judge, meas_pass, pred_pass) {
@@ -335,7 +409,11 @@ pub fn grade_floor(floor: &Floor, levels: &[(Point2, f64)], measured: &[(Point2,
             (Judge::MeasuredElsePredicted, Some(m), _) => ("measured", Some(m)),
             (Judge::MeasuredElsePredicted, None, p) => ("predicted", p),
         };
-        let judged_by = if pass.is_none() || kind == ZoneKind::Excluded { "not judged" } else { judged_by };
+        let judged_by = if pass.is_none() || kind == ZoneKind::Excluded {
+            "not judged"
+        } else {
+            judged_by
+        };
         cells.push(GradedCell {
             ix: c.ix,
             iy: c.iy,
@@ -349,14 +427,37 @@ pub fn grade_floor(floor: &Floor, levels: &[(Point2, f64)], measured: &[(Point2,
             measured_mean_dbm: mm,
             measured_pass: meas_pass,
             judged_by: judged_by.into(),
-            pass: if kind == ZoneKind::Excluded { None } else { pass },
+            pass: if kind == ZoneKind::Excluded {
+                None
+            } else {
+                pass
+            },
         });
     }
     let cz = (crit_pts.0 > 0).then(|| crit_pts.1 as f64 / crit_pts.0 as f64);
     let on_predictions = verdict_of(&cells, |c| c.predicted_pass, rule, cz);
     let on_measurements = verdict_of(&cells, |c| c.measured_pass, rule, None);
-    let verdict = verdict_of(&cells, |c| c.pass, rule, if rule.judge == Judge::Measured { None } else { cz });
-    FloorGrade { floor: floor.id.clone(), nx: layout.nx, ny: layout.ny, cell_side_m: layout.side_m, cells, on_predictions, on_measurements, verdict, critical_zone_fraction: cz }
+    let verdict = verdict_of(
+        &cells,
+        |c| c.pass,
+        rule,
+        if rule.judge == Judge::Measured {
+            None
+        } else {
+            cz
+        },
+    );
+    FloorGrade {
+        floor: floor.id.clone(),
+        nx: layout.nx,
+        ny: layout.ny,
+        cell_side_m: layout.side_m,
+        cells,
+        on_predictions,
+        on_measurements,
+        verdict,
+        critical_zone_fraction: cz,
+    }
 }
 
 fn f1(x: f64) -> String {
@@ -368,7 +469,8 @@ fn f1(x: f64) -> String {
 }
 
 fn pct(x: Option<f64>) -> String {
-    x.map(|v| format!("{:.0} %", 100.0 * v)).unwrap_or_else(|| "n/a".into())
+    x.map(|v| format!("{:.0} %", 100.0 * v))
+        .unwrap_or_else(|| "n/a".into())
 }
 
 fn yes_no(x: Option<bool>) -> String {
@@ -383,9 +485,18 @@ fn yes_no(x: Option<bool>) -> String {
 /// else one built from the service's own threshold and targets on the 20-cell grid.
 pub fn rule_for(svc: &rfsite_model::Service, all: &BTreeMap<String, Rule>) -> Result<Rule, String> {
     if let Some(id) = &svc.rules {
-        return all.get(id).cloned().ok_or_else(|| format!("service `{}` names rule set `{id}`, which does not exist (known: {})", svc.id, all.keys().cloned().collect::<Vec<_>>().join(", ")));
+        return all.get(id).cloned().ok_or_else(|| {
+            format!(
+                "service `{}` names rule set `{id}`, which does not exist (known: {})",
+                svc.id,
+                all.keys().cloned().collect::<Vec<_>>().join(", ")
+            )
+        });
     }
-    let base = all.get("public-safety-95-99").cloned().ok_or("built-in rule set public-safety-95-99 is missing")?;
+    let base = all
+        .get("public-safety-95-99")
+        .cloned()
+        .ok_or("built-in rule set public-safety-95-99 is missing")?;
     if svc.life_safety {
         return Ok(base);
     }
@@ -422,7 +533,13 @@ impl Plugin for Grading {
         }
     }
     fn after(&self) -> Vec<String> {
-        vec!["free-space".into(), "multi-wall".into(), "link-budget".into(), "survey-compare".into(), "calibration".into()]
+        vec![
+            "free-space".into(),
+            "multi-wall".into(),
+            "link-budget".into(),
+            "survey-compare".into(),
+            "calibration".into(),
+        ]
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
@@ -430,29 +547,53 @@ impl Plugin for Grading {
         // Rule sets: built in, then the site's `[plugins.grading.rule_sets.<id>]`.
         let mut all = builtin_rules();
         if let Some(v) = ctx.options.get("rule_sets") {
-            let t = v.as_table().ok_or(PluginError::BadOption { key: "rule_sets".into(), message: "must be a table of rule sets".into() })?;
+            let t = v.as_table().ok_or(PluginError::BadOption {
+                key: "rule_sets".into(),
+                message: "must be a table of rule sets".into(),
+            })?;
             for (id, rt) in t {
-                let rt = rt.as_table().ok_or(PluginError::BadOption { key: format!("rule_sets.{id}"), message: "must be a table".into() })?;
+                let rt = rt.as_table().ok_or(PluginError::BadOption {
+                    key: format!("rule_sets.{id}"),
+                    message: "must be a table".into(),
+                })?;
                 let mut rt = rt.clone();
                 rt.entry("id").or_insert(toml::Value::String(id.clone()));
-                let (r, notes) = rule_from_table_opt(&rt).map_err(|m| PluginError::BadOption { key: format!("rule_sets.{id}"), message: m })?;
+                let (r, notes) = rule_from_table_opt(&rt).map_err(|m| PluginError::BadOption {
+                    key: format!("rule_sets.{id}"),
+                    message: m,
+                })?;
                 for n in notes {
-                    out.warnings.push(Warning { plugin: self.id().into(), message: format!("site rule set `{id}`: {n}") });
+                    out.warnings.push(Warning {
+                        plugin: self.id().into(),
+                        message: format!("site rule set `{id}`: {n}"),
+                    });
                 }
                 all.insert(id.clone(), r);
             }
         }
         // Model: option, else calibrated when present, else the site's.
-        let default_model = if !ctx.layers_of("calibrated").is_empty() { "calibrated".to_string() } else { site.prediction.model.clone() };
+        let default_model = if !ctx.layers_of("calibrated").is_empty() {
+            "calibrated".to_string()
+        } else {
+            site.prediction.model.clone()
+        };
         let want = ctx.option_str("model", &default_model)?;
         let mut model = want.clone();
         let mut layers = ctx.layers_of(&want);
         if layers.is_empty() && !site.transmitters.is_empty() {
-            out.warnings.push(Warning { plugin: self.id().into(), message: format!("no `{want}` layers; grading the free-space prediction instead") });
+            out.warnings.push(Warning {
+                plugin: self.id().into(),
+                message: format!("no `{want}` layers; grading the free-space prediction instead"),
+            });
             model = "free-space".into();
             layers = ctx.layers_of("free-space");
         }
         let sigma = ctx.option_f64("shadowing_sigma_db", site.prediction.shadowing_sigma_db)?;
+        let compared_model = ctx
+            .output_of("survey-compare")
+            .and_then(|o| o.extra.get("model"))
+            .cloned()
+            .unwrap_or_default();
         let compare: Vec<serde_json::Value> = ctx
             .output_of("survey-compare")
             .and_then(|o| o.extra.get("comparison"))
@@ -460,13 +601,41 @@ impl Plugin for Grading {
             .unwrap_or_default();
         // Rejected rows per floor: by the floor the survey file is for.
         let mut rejected_by_floor: BTreeMap<String, BTreeMap<String, usize>> = BTreeMap::new();
+        // A file's floor: the one its `[[surveys]]` entry names, else the one all its
+        // accepted points are on.
+        let file_floor = |file: &str| -> Option<String> {
+            if let Some(f) = site
+                .surveys
+                .iter()
+                .find(|s| s.file == file)
+                .and_then(|s| s.floor.clone())
+            {
+                return Some(f);
+            }
+            let mut fl = ctx
+                .surveys
+                .points
+                .iter()
+                .filter(|m| m.file == file)
+                .map(|m| m.floor.as_str());
+            let first = fl.next()?;
+            fl.all(|f| f == first).then(|| first.to_string())
+        };
         for r in &ctx.surveys.rejected {
-            let floor = site.surveys.iter().find(|s| s.file == r.file).and_then(|s| s.floor.clone()).unwrap_or_else(|| "(file names several floors)".into());
-            *rejected_by_floor.entry(floor).or_default().entry(r.reason.clone()).or_default() += 1;
+            let floor =
+                file_floor(&r.file).unwrap_or_else(|| "(file covers several floors)".into());
+            *rejected_by_floor
+                .entry(floor)
+                .or_default()
+                .entry(r.reason.clone())
+                .or_default() += 1;
         }
         let mut extra_services = Vec::new();
         for svc in &site.services {
-            let rule = rule_for(svc, &all).map_err(|m| PluginError::BadOption { key: "rules".into(), message: m })?;
+            let rule = rule_for(svc, &all).map_err(|m| PluginError::BadOption {
+                key: "rules".into(),
+                message: m,
+            })?;
             if (rule.threshold_dbm - svc.threshold_dbm).abs() > 1e-9 {
                 out.warnings.push(Warning {
                     plugin: self.id().into(),
@@ -474,23 +643,46 @@ impl Plugin for Grading {
                 });
             }
             if rule.metric != svc.metric {
-                out.warnings.push(Warning { plugin: self.id().into(), message: format!("service `{}` is `{}`, rule set `{}` grades `{}`", svc.id, svc.metric, rule.id, rule.metric) });
+                out.warnings.push(Warning {
+                    plugin: self.id().into(),
+                    message: format!(
+                        "service `{}` is `{}`, rule set `{}` grades `{}`",
+                        svc.id, svc.metric, rule.id, rule.metric
+                    ),
+                });
             }
             let lp = ctx.option_f64("location_probability", rule.location_probability)?;
-            let shadow = stats::margin_for_probability_db(sigma, lp).map_err(|e| PluginError::BadOption { key: "location_probability".into(), message: e.to_string() })?;
+            let shadow = stats::margin_for_probability_db(sigma, lp).map_err(|e| {
+                PluginError::BadOption {
+                    key: "location_probability".into(),
+                    message: e.to_string(),
+                }
+            })?;
             let pred_thr = rule.threshold_dbm + svc.design_margin_db + shadow;
             let mut floors = Vec::new();
             let mut grades = Vec::new();
             for floor in &site.floors {
-                let layer = layers.iter().find(|l| l.floor == floor.id && l.service == svc.id);
+                let layer = layers
+                    .iter()
+                    .find(|l| l.floor == floor.id && l.service == svc.id);
                 let levels: Vec<(Point2, f64)> = match layer {
                     Some(l) => {
                         let g = l.grid.to_grid();
-                        l.level_dbm.iter().enumerate().map(|(i, v)| (g.point(i), *v as f64)).collect()
+                        l.level_dbm
+                            .iter()
+                            .enumerate()
+                            .map(|(i, v)| (g.point(i), *v as f64))
+                            .collect()
                     }
                     None => Vec::new(),
                 };
-                let measured: Vec<(Point2, f64)> = ctx.surveys.points.iter().filter(|m| m.floor == floor.id && m.service == svc.id).map(|m| (Point2::new(m.x_m, m.y_m), m.level_dbm)).collect();
+                let measured: Vec<(Point2, f64)> = ctx
+                    .surveys
+                    .points
+                    .iter()
+                    .filter(|m| m.floor == floor.id && m.service == svc.id)
+                    .map(|m| (Point2::new(m.x_m, m.y_m), m.level_dbm))
+                    .collect();
                 let fg = grade_floor(floor, &levels, &measured, &rule, pred_thr);
                 // Area fractions on the points, as link-budget computes them.
                 let mut general = Vec::new();
@@ -506,8 +698,15 @@ impl Plugin for Grading {
                     }
                 }
                 if layer.is_none() {
-                    let g = rfsite_geometry::Grid::covering(rfsite_geometry::polygon_bbox(&floor.outline).0, rfsite_geometry::polygon_bbox(&floor.outline).1, site.prediction.grid_step_m);
-                    for p in g.points().filter(|p| rfsite_geometry::point_in_polygon(*p, &floor.outline)) {
+                    let g = rfsite_geometry::Grid::covering(
+                        rfsite_geometry::polygon_bbox(&floor.outline).0,
+                        rfsite_geometry::polygon_bbox(&floor.outline).1,
+                        site.prediction.grid_step_m,
+                    );
+                    for p in g
+                        .points()
+                        .filter(|p| rfsite_geometry::point_in_polygon(*p, &floor.outline))
+                    {
                         match floor.zone_kind_at(p) {
                             ZoneKind::General => general.push(f64::NEG_INFINITY),
                             ZoneKind::Critical => critical.push(f64::NEG_INFINITY),
@@ -515,11 +714,24 @@ impl Plugin for Grading {
                         }
                     }
                 }
-                let fr = |v: &[f64]| (!v.is_empty()).then(|| v.iter().filter(|x| **x >= pred_thr).count() as f64 / v.len() as f64);
-                let mut all_pts: Vec<f64> = general.iter().chain(critical.iter()).copied().collect();
+                let fr = |v: &[f64]| {
+                    (!v.is_empty()).then(|| {
+                        v.iter().filter(|x| **x >= pred_thr).count() as f64 / v.len() as f64
+                    })
+                };
+                let mut all_pts: Vec<f64> =
+                    general.iter().chain(critical.iter()).copied().collect();
                 let af = fr(&all_pts).unwrap_or(0.0);
-                let dg = rfsite_plugin_link_budget::uplift_needed_db(&mut general.clone(), pred_thr, rule.target_general);
-                let dc = rfsite_plugin_link_budget::uplift_needed_db(&mut critical.clone(), pred_thr, rule.target_critical);
+                let dg = rfsite_plugin_link_budget::uplift_needed_db(
+                    &mut general.clone(),
+                    pred_thr,
+                    rule.target_general,
+                );
+                let dc = rfsite_plugin_link_budget::uplift_needed_db(
+                    &mut critical.clone(),
+                    pred_thr,
+                    rule.target_critical,
+                );
                 all_pts.sort_by(f64::total_cmp);
                 let min = all_pts.first().copied().unwrap_or(f64::NAN);
                 let median = all_pts.get(all_pts.len() / 2).copied().unwrap_or(f64::NAN);
@@ -538,7 +750,16 @@ impl Plugin for Grading {
                 });
                 // Finding.
                 let v = &fg.verdict;
-                let sev = if pass { Severity::Info } else if svc.life_safety || v.critical_fraction.is_some_and(|c| c < rule.target_critical) { Severity::Critical } else { Severity::Major };
+                let sev = if pass {
+                    Severity::Info
+                } else if svc.life_safety
+                    || v.critical_fraction
+                        .is_some_and(|c| c < rule.target_critical)
+                {
+                    Severity::Critical
+                } else {
+                    Severity::Major
+                };
                 out.findings.push(Finding {
                     id: format!("grading-{}-{}", svc.id, floor.id),
                     severity: sev,
@@ -563,7 +784,11 @@ impl Plugin for Grading {
             floors.sort_by(|a, b| a.id.cmp(&b.id));
             let spass = floors.iter().all(|f| f.pass);
             // Table.
-            let fname = |fid: &str| site.floor(fid).map(|s| s.name.clone()).unwrap_or_else(|| fid.to_string());
+            let fname = |fid: &str| {
+                site.floor(fid)
+                    .map(|s| s.name.clone())
+                    .unwrap_or_else(|| fid.to_string())
+            };
             let u = site.units;
             out.tables.push(Table {
                 id: format!("grading-{}", svc.id),
@@ -607,7 +832,7 @@ impl Plugin for Grading {
                 .iter()
                 .map(|(g, _)| {
                     let cmp = compare.iter().find(|c| c["service"] == svc.id.as_str() && c["floor"] == g.floor.as_str()).map(|c| {
-                        serde_json::json!({"count": c["count"], "mean_db": c["mean_db"], "std_db": c["std_db"], "rmse_db": c["rmse_db"], "error_convention": "predicted - measured"})
+                        serde_json::json!({"count": c["count"], "mean_db": c["mean_db"], "std_db": c["std_db"], "rmse_db": c["rmse_db"], "error_convention": "predicted - measured", "model": compared_model})
                     });
                     let fr = floors.iter().find(|f| f.id == g.floor);
                     serde_json::json!({
@@ -655,8 +880,12 @@ impl Plugin for Grading {
                 pass: spass,
             });
         }
-        out.extra.insert("services".into(), serde_json::Value::Array(extra_services));
-        out.extra.insert("rejected_rows_by_floor".into(), serde_json::to_value(&rejected_by_floor).unwrap_or_default());
+        out.extra
+            .insert("services".into(), serde_json::Value::Array(extra_services));
+        out.extra.insert(
+            "rejected_rows_by_floor".into(),
+            serde_json::to_value(&rejected_by_floor).unwrap_or_default(),
+        );
         out.cautions.push(Caution {
             id: "acceptance-rules".into(),
             topic: "Acceptance rule sets".into(),
@@ -672,7 +901,15 @@ fn rule_from_table_opt(t: &toml::Table) -> Result<(Rule, Vec<String>), String> {
 
 /// File-name-safe id part (as the report names figures).
 pub fn clean(s: &str) -> String {
-    s.chars().map(|c| if c.is_ascii_alphanumeric() || c == '-' { c } else { '_' }).collect()
+    s.chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect()
 }
 
 #[cfg(test)]
@@ -680,11 +917,27 @@ mod tests {
     use super::*;
 
     fn rect(w: f64, h: f64) -> Vec<Point2> {
-        vec![Point2::new(0.0, 0.0), Point2::new(w, 0.0), Point2::new(w, h), Point2::new(0.0, h)]
+        vec![
+            Point2::new(0.0, 0.0),
+            Point2::new(w, 0.0),
+            Point2::new(w, h),
+            Point2::new(0.0, h),
+        ]
     }
 
     fn floor(outline: Vec<Point2>, zones: Vec<rfsite_model::Zone>) -> Floor {
-        Floor { id: "L1".into(), name: "L1".into(), elevation_m: 0.0, height_m: 3.0, slab_material: "concrete".into(), slab_thickness_m: 0.2, outline, parts: vec![], zones, plan_image: None }
+        Floor {
+            id: "L1".into(),
+            name: "L1".into(),
+            elevation_m: 0.0,
+            height_m: 3.0,
+            slab_material: "concrete".into(),
+            slab_thickness_m: 0.2,
+            outline,
+            parts: vec![],
+            zones,
+            plan_image: None,
+        }
     }
 
     /// A hand-made floor, hand-counted: 100 ft x 80 ft (30.48 m x 24.384 m) into 20 cells
@@ -705,7 +958,14 @@ mod tests {
             for iy in 0..4 {
                 for ix in 0..5 {
                     let p = Point2::new((ix as f64 + 0.5) * side, (iy as f64 + 0.5) * side);
-                    v.push((p, if bad.contains(&(ix, iy)) { -100.0 } else { -80.0 }));
+                    v.push((
+                        p,
+                        if bad.contains(&(ix, iy)) {
+                            -100.0
+                        } else {
+                            -80.0
+                        },
+                    ));
                 }
             }
             v
@@ -714,7 +974,15 @@ mod tests {
         assert_eq!((g.nx, g.ny, g.cells.len()), (5, 4, 20));
         assert!((g.cell_side_m[0] - side).abs() < 1e-9 && (g.cell_side_m[1] - side).abs() < 1e-9);
         let v = &g.verdict;
-        assert_eq!((v.general_cells, v.critical_cells, v.failed_cells, v.adjacent_failed_pairs), (20, 0, 2, 1));
+        assert_eq!(
+            (
+                v.general_cells,
+                v.critical_cells,
+                v.failed_cells,
+                v.adjacent_failed_pairs
+            ),
+            (20, 0, 2, 1)
+        );
         assert!((v.general_fraction.unwrap() - 0.9).abs() < 1e-12);
         assert_eq!(v.pass, Some(false));
         assert_eq!(v.reasons.len(), 3, "{:?}", v.reasons);
@@ -726,10 +994,16 @@ mod tests {
 
         // A measurement walk in cell (1, 0) averaging -90 dBm (>= -95) overrides its
         // failing prediction: judged on measurements, it passes; the floor passes.
-        let walk = vec![(Point2::new(1.2 * side, 0.3 * side), -88.0), (Point2::new(1.8 * side, 0.7 * side), -92.0)];
+        let walk = vec![
+            (Point2::new(1.2 * side, 0.3 * side), -88.0),
+            (Point2::new(1.8 * side, 0.7 * side), -92.0),
+        ];
         let g = grade_floor(&f, &levels(&[(0, 0), (1, 0)]), &walk, &rule, -95.0);
         let c = g.cells.iter().find(|c| (c.ix, c.iy) == (1, 0)).unwrap();
-        assert_eq!((c.judged_by.as_str(), c.measured_mean_dbm, c.pass), ("measured", Some(-90.0), Some(true)));
+        assert_eq!(
+            (c.judged_by.as_str(), c.measured_mean_dbm, c.pass),
+            ("measured", Some(-90.0), Some(true))
+        );
         assert_eq!(g.verdict.failed_cells, 1);
         assert_eq!(g.verdict.pass, Some(true));
         assert_eq!(g.on_predictions.pass, Some(false));
@@ -742,7 +1016,12 @@ mod tests {
     fn critical_cells_by_majority_area() {
         let ft = 0.3048;
         let side = 20.0 * ft;
-        let z = rfsite_model::Zone { id: "stair".into(), name: "Stair".into(), kind: ZoneKind::Critical, polygon: rect(side, 80.0 * ft) };
+        let z = rfsite_model::Zone {
+            id: "stair".into(),
+            name: "Stair".into(),
+            kind: ZoneKind::Critical,
+            polygon: rect(side, 80.0 * ft),
+        };
         let f = floor(rect(100.0 * ft, 80.0 * ft), vec![z]);
         let rule = builtin_rules()["public-safety-95-99"].clone();
         let mut levels = Vec::new();

@@ -10,10 +10,22 @@ use serde::{Deserialize, Serialize};
 
 /// The rule sets compiled into the binary: (file name, text).
 pub const BUILTIN_RULES: &[(&str, &str)] = &[
-    ("public-safety-95-99.toml", include_str!("../../data/rules/public-safety-95-99.toml")),
-    ("public-safety-90-99.toml", include_str!("../../data/rules/public-safety-90-99.toml")),
-    ("cellular-rsrp.toml", include_str!("../../data/rules/cellular-rsrp.toml")),
-    ("wifi-voice.toml", include_str!("../../data/rules/wifi-voice.toml")),
+    (
+        "public-safety-95-99.toml",
+        include_str!("../../data/rules/public-safety-95-99.toml"),
+    ),
+    (
+        "public-safety-90-99.toml",
+        include_str!("../../data/rules/public-safety-90-99.toml"),
+    ),
+    (
+        "cellular-rsrp.toml",
+        include_str!("../../data/rules/cellular-rsrp.toml"),
+    ),
+    (
+        "wifi-voice.toml",
+        include_str!("../../data/rules/wifi-voice.toml"),
+    ),
 ];
 
 /// How a test cell is judged.
@@ -108,7 +120,9 @@ pub fn rule_from_table(t: &toml::Table, strict: bool) -> Result<(Rule, Vec<Strin
                 Some(s) if !s.trim().is_empty() => {
                     sources.insert(base.to_string(), s.to_string());
                 }
-                _ => return Err(format!("`{k}` must be a non-empty string naming the source or saying \"from memory\"")),
+                _ => return Err(format!(
+                    "`{k}` must be a non-empty string naming the source or saying \"from memory\""
+                )),
             }
             if !t.contains_key(base) {
                 return Err(format!("`{k}` names no key `{base}`"));
@@ -118,36 +132,68 @@ pub fn rule_from_table(t: &toml::Table, strict: bool) -> Result<(Rule, Vec<Strin
         core.insert(k.clone(), v.clone());
     }
     for (k, v) in &core {
-        if matches!(v, toml::Value::Integer(_) | toml::Value::Float(_) | toml::Value::Boolean(_)) && !sources.contains_key(k) {
-            let msg = format!("rule key `{k}` has no `{k}_source` (give its source or write \"from memory\")");
+        if matches!(
+            v,
+            toml::Value::Integer(_) | toml::Value::Float(_) | toml::Value::Boolean(_)
+        ) && !sources.contains_key(k)
+        {
+            let msg = format!(
+                "rule key `{k}` has no `{k}_source` (give its source or write \"from memory\")"
+            );
             if strict {
                 return Err(msg);
             }
             notes.push(msg);
         }
     }
-    let mut rule: Rule = toml::Value::Table(core).try_into().map_err(|e: toml::de::Error| e.message().to_string())?;
+    let mut rule: Rule = toml::Value::Table(core)
+        .try_into()
+        .map_err(|e: toml::de::Error| e.message().to_string())?;
     rule.sources = sources;
     validate(&rule)?;
     Ok((rule, notes))
 }
 
 fn validate(r: &Rule) -> Result<(), String> {
-    let frac = |x: f64, k: &str| if (0.0..=1.0).contains(&x) { Ok(()) } else { Err(format!("rule `{}`: `{k}` is a fraction 0..1 (got {x})", r.id)) };
+    let frac = |x: f64, k: &str| {
+        if (0.0..=1.0).contains(&x) {
+            Ok(())
+        } else {
+            Err(format!(
+                "rule `{}`: `{k}` is a fraction 0..1 (got {x})",
+                r.id
+            ))
+        }
+    };
     frac(r.target_general, "target_general")?;
     frac(r.target_critical, "target_critical")?;
-    frac(r.predicted_cell_point_fraction, "predicted_cell_point_fraction")?;
+    frac(
+        r.predicted_cell_point_fraction,
+        "predicted_cell_point_fraction",
+    )?;
     if !(r.location_probability > 0.0 && r.location_probability < 1.0) {
-        return Err(format!("rule `{}`: `location_probability` must lie strictly between 0 and 1", r.id));
+        return Err(format!(
+            "rule `{}`: `location_probability` must lie strictly between 0 and 1",
+            r.id
+        ));
     }
     if r.cells_per_floor == 0 {
-        return Err(format!("rule `{}`: `cells_per_floor` must be at least 1", r.id));
+        return Err(format!(
+            "rule `{}`: `cells_per_floor` must be at least 1",
+            r.id
+        ));
     }
     if !(r.min_cell_side > 0.0 && r.max_cell_side >= r.min_cell_side) {
-        return Err(format!("rule `{}`: need 0 < min_cell_side <= max_cell_side", r.id));
+        return Err(format!(
+            "rule `{}`: need 0 < min_cell_side <= max_cell_side",
+            r.id
+        ));
     }
     if r.cell_side_unit != "ft" && r.cell_side_unit != "m" {
-        return Err(format!("rule `{}`: `cell_side_unit` is \"ft\" or \"m\"", r.id));
+        return Err(format!(
+            "rule `{}`: `cell_side_unit` is \"ft\" or \"m\"",
+            r.id
+        ));
     }
     if !r.threshold_dbm.is_finite() {
         return Err(format!("rule `{}`: threshold is not a number", r.id));
@@ -167,7 +213,8 @@ pub fn builtin_rules() -> BTreeMap<String, Rule> {
         .iter()
         .map(|(f, t)| {
             // Compiled-in files are tested; a failure here is a build defect.
-            let r = parse_rule(t).unwrap_or_else(|e| panic!("built-in rule set {f} is invalid: {e}"));
+            let r =
+                parse_rule(t).unwrap_or_else(|e| panic!("built-in rule set {f} is invalid: {e}"));
             (r.id.clone(), r)
         })
         .collect()
@@ -186,8 +233,14 @@ mod tests {
             let r = parse_rule(text).unwrap_or_else(|e| panic!("{f}: {e}"));
             assert_eq!(format!("{}.toml", r.id), *f, "file named after its id");
             for (k, v) in &t {
-                if matches!(v, toml::Value::Integer(_) | toml::Value::Float(_) | toml::Value::Boolean(_)) {
-                    let s = t.get(&format!("{k}_source")).and_then(|s| s.as_str()).unwrap_or_else(|| panic!("{f}: `{k}` has no source"));
+                if matches!(
+                    v,
+                    toml::Value::Integer(_) | toml::Value::Float(_) | toml::Value::Boolean(_)
+                ) {
+                    let s = t
+                        .get(&format!("{k}_source"))
+                        .and_then(|s| s.as_str())
+                        .unwrap_or_else(|| panic!("{f}: `{k}` has no source"));
                     assert!(!s.trim().is_empty(), "{f}: `{k}_source` is empty");
                 }
             }
@@ -195,7 +248,11 @@ mod tests {
             for (k, s) in &r.sources {
                 let l = s.to_lowercase();
                 assert!(
-                    l.contains("from memory") || l.contains("consistent") || l.contains("common practice") || l.contains("confirmed") || l.contains("rfsite"),
+                    l.contains("from memory")
+                        || l.contains("consistent")
+                        || l.contains("common practice")
+                        || l.contains("confirmed")
+                        || l.contains("rfsite"),
                     "{f}: `{k}_source` states no confidence: {s}"
                 );
             }
@@ -203,8 +260,23 @@ mod tests {
         let all = builtin_rules();
         // REFERENCES.md, public-safety acceptance: -95 dBm; 95 %/99 % and 90 %/99 %; 20 cells, 20-80 ft.
         let ps = &all["public-safety-95-99"];
-        assert_eq!((ps.threshold_dbm, ps.target_general, ps.target_critical, ps.cells_per_floor), (-95.0, 0.95, 0.99, 20));
-        assert_eq!((ps.min_cell_side, ps.max_cell_side, ps.cell_side_unit.as_str()), (20.0, 80.0, "ft"));
+        assert_eq!(
+            (
+                ps.threshold_dbm,
+                ps.target_general,
+                ps.target_critical,
+                ps.cells_per_floor
+            ),
+            (-95.0, 0.95, 0.99, 20)
+        );
+        assert_eq!(
+            (
+                ps.min_cell_side,
+                ps.max_cell_side,
+                ps.cell_side_unit.as_str()
+            ),
+            (20.0, 80.0, "ft")
+        );
         let ps90 = &all["public-safety-90-99"];
         assert_eq!((ps90.target_general, ps90.target_critical), (0.90, 0.99));
         assert_eq!(all["wifi-voice"].threshold_dbm, -67.0);

@@ -41,6 +41,8 @@ fn fraction_at_or_above(levels: &[f64], thr: f64) -> Option<f64> {
 #[derive(Debug, Clone, serde::Deserialize)]
 struct WorstPoint {
     floor: String,
+    #[serde(default)]
+    zone: String,
     service: String,
     point_m: [f64; 2],
     server: String,
@@ -193,7 +195,13 @@ impl Plugin for LinkBudgetPlugin {
                 }
                 let critical_fail = fr.critical_fraction.is_some_and(|f| f < svc.target_critical);
                 let severity = if svc.life_safety || critical_fail { Severity::Critical } else { Severity::Major };
-                let wp = worst.iter().find(|w| w.floor == floor.id && w.service == svc.id);
+                // Explain the weakest point of the zone kind that fails (critical first).
+                let general_fail = fr.general_fraction.is_some_and(|f| f < svc.target_general);
+                let want = if critical_fail || !general_fail { "critical" } else { "general" };
+                let wp = worst
+                    .iter()
+                    .find(|w| w.floor == floor.id && w.service == svc.id && w.zone == want)
+                    .or_else(|| worst.iter().find(|w| w.floor == floor.id && w.service == svc.id));
                 let mut causes = Vec::new();
                 let mut location = None;
                 if let Some(w) = wp {
@@ -210,8 +218,9 @@ impl Plugin for LinkBudgetPlugin {
                         ));
                     } else {
                         causes.push(format!(
-                            "the path from {} to the weakest point crosses {}: {} dB of the {} dB path loss (free space {} dB)",
+                            "the path from {} to the weakest {} point crosses {}: {} dB of the {} dB path loss (free space {} dB)",
                             w.server,
+                            if w.zone.is_empty() { "graded" } else { w.zone.as_str() },
                             parts.join(", "),
                             fmt1(walls_db + w.floor_loss_db),
                             fmt1(w.total_loss_db),

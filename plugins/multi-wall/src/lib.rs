@@ -9,7 +9,7 @@
 //! inside each storey is tested against that storey's walls only.
 
 use rfsite_geometry::{Crossing, Point2, Scratch, Segment, WallIndex};
-use rfsite_model::{MaterialClass, Site};
+use rfsite_model::{MaterialClass, Site, ZoneKind};
 use rfsite_physics::cost231;
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
@@ -260,6 +260,8 @@ impl PathLoss for Scene {
 pub struct Breakdown {
     /// Floor of the receiver point.
     pub floor: String,
+    /// Zone kind of the point ("general" or "critical").
+    pub zone: String,
     /// Service.
     pub service: String,
     /// Point, m.
@@ -328,6 +330,7 @@ pub fn breakdown(site: &Site, scene: &Scene, service: usize, tx_id: &str, rx_flo
     walls.sort_by(|a, b| b.loss_db.total_cmp(&a.loss_db).then(a.material.cmp(&b.material)));
     let wl: f64 = walls.iter().map(|w| w.loss_db).sum();
     Some(Breakdown {
+        zone: site.floors[rx_floor].zone_kind_at(p).label().to_string(),
         floor: site.floors[rx_floor].id.clone(),
         service: site.services[service].id.clone(),
         point_m: [p.x, p.y],
@@ -385,21 +388,24 @@ impl Plugin for MultiWall {
             plugin: self.id().into(),
             message: format!("a single crossing is capped at {cap:.0} dB: leakage and diffraction around real walls bound what one crossing costs (common practice)"),
         });
-        // Worst point of every layer, explained.
+        // Worst point of every layer in each graded zone kind, explained.
         let mut bds = Vec::new();
         for l in &layers {
             let (Some(si), Some(fi)) = (site.services.iter().position(|s| s.id == l.service), site.floor_index(&l.floor)) else { continue };
-            let worst = l
-                .level_dbm
-                .iter()
-                .enumerate()
-                .filter(|(_, v)| v.is_finite())
-                .min_by(|a, b| a.1.total_cmp(b.1).then(a.0.cmp(&b.0)));
-            if let Some((i, v)) = worst {
-                let g = l.grid.to_grid();
+            let g = l.grid.to_grid();
+            let floor = &site.floors[fi];
+            for kind in [ZoneKind::General, ZoneKind::Critical] {
+                let worst = l
+                    .level_dbm
+                    .iter()
+                    .enumerate()
+                    .filter(|(i, v)| v.is_finite() && floor.zone_kind_at(g.point(*i)) == kind)
+                    .min_by(|a, b| a.1.total_cmp(b.1).then(a.0.cmp(&b.0)));
+                let Some((i, v)) = worst else { continue };
                 let server = l.best_server.get(i).and_then(|&s| l.servers.get(s as usize));
                 if let Some(server) = server {
-                    if let Some(bd) = breakdown(site, &scene, si, server, fi, g.point(i), *v as f64) {
+                    if let Some(mut bd) = breakdown(site, &scene, si, server, fi, g.point(i), *v as f64) {
+                        bd.zone = kind.label().to_string();
                         bds.push(bd);
                     }
                 }

@@ -41,7 +41,10 @@ pub struct Interp {
 impl Interp {
     /// From a layer.
     pub fn new(layer: &CoverageLayer) -> Self {
-        Interp { grid: layer.grid.to_grid(), vals: layer.level_dbm.iter().map(|v| *v as f64).collect() }
+        Interp {
+            grid: layer.grid.to_grid(),
+            vals: layer.level_dbm.iter().map(|v| *v as f64).collect(),
+        }
     }
     /// Level at a point.
     pub fn at(&self, p: Point2) -> Option<f64> {
@@ -70,9 +73,18 @@ pub fn error_stats(errors: &[f64]) -> Option<ErrorStats> {
     }
     let mean = errors.iter().sum::<f64>() / n as f64;
     let ss: f64 = errors.iter().map(|e| (e - mean).powi(2)).sum();
-    let std = if n > 1 { (ss / (n - 1) as f64).sqrt() } else { 0.0 };
+    let std = if n > 1 {
+        (ss / (n - 1) as f64).sqrt()
+    } else {
+        0.0
+    };
     let rmse = (errors.iter().map(|e| e * e).sum::<f64>() / n as f64).sqrt();
-    Some(ErrorStats { count: n, mean_db: mean, std_db: std, rmse_db: rmse })
+    Some(ErrorStats {
+        count: n,
+        mean_db: mean,
+        std_db: std,
+        rmse_db: rmse,
+    })
 }
 
 /// One compared point.
@@ -114,7 +126,10 @@ pub struct FloorComparison {
 }
 
 /// Compares `points` with the layers of `model`; groups sorted by service then floor.
-pub fn compare(layers: &[&CoverageLayer], points: &[Measurement]) -> (Vec<FloorComparison>, Vec<(String, ComparedPoint)>) {
+pub fn compare(
+    layers: &[&CoverageLayer],
+    points: &[Measurement],
+) -> (Vec<FloorComparison>, Vec<(String, ComparedPoint)>) {
     let mut groups: BTreeMap<(String, String), (Vec<ComparedPoint>, usize)> = BTreeMap::new();
     let mut interps: BTreeMap<(String, String), Interp> = BTreeMap::new();
     for l in layers {
@@ -124,9 +139,19 @@ pub fn compare(layers: &[&CoverageLayer], points: &[Measurement]) -> (Vec<FloorC
     for m in points {
         let key = (m.service.clone(), m.floor.clone());
         let e = groups.entry(key.clone()).or_default();
-        match interps.get(&key).and_then(|i| i.at(Point2::new(m.x_m, m.y_m))) {
+        match interps
+            .get(&key)
+            .and_then(|i| i.at(Point2::new(m.x_m, m.y_m)))
+        {
             Some(p) => {
-                let cp = ComparedPoint { file: m.file.clone(), line: m.line, point_m: [m.x_m, m.y_m], measured_dbm: m.level_dbm, predicted_dbm: p, error_db: p - m.level_dbm };
+                let cp = ComparedPoint {
+                    file: m.file.clone(),
+                    line: m.line,
+                    point_m: [m.x_m, m.y_m],
+                    measured_dbm: m.level_dbm,
+                    predicted_dbm: p,
+                    error_db: p - m.level_dbm,
+                };
                 all.push((m.service.clone(), cp.clone()));
                 e.0.push(cp);
             }
@@ -137,10 +162,30 @@ pub fn compare(layers: &[&CoverageLayer], points: &[Measurement]) -> (Vec<FloorC
         .into_iter()
         .map(|((service, floor), (mut pts, nc))| {
             let errs: Vec<f64> = pts.iter().map(|p| p.error_db).collect();
-            let s = error_stats(&errs).unwrap_or(ErrorStats { count: 0, mean_db: f64::NAN, std_db: f64::NAN, rmse_db: f64::NAN });
-            pts.sort_by(|a, b| b.error_db.abs().total_cmp(&a.error_db.abs()).then(a.file.cmp(&b.file)).then(a.line.cmp(&b.line)));
+            let s = error_stats(&errs).unwrap_or(ErrorStats {
+                count: 0,
+                mean_db: f64::NAN,
+                std_db: f64::NAN,
+                rmse_db: f64::NAN,
+            });
+            pts.sort_by(|a, b| {
+                b.error_db
+                    .abs()
+                    .total_cmp(&a.error_db.abs())
+                    .then(a.file.cmp(&b.file))
+                    .then(a.line.cmp(&b.line))
+            });
             pts.truncate(WORST_POINTS);
-            FloorComparison { service, floor, count: s.count, mean_db: s.mean_db, std_db: s.std_db, rmse_db: s.rmse_db, not_compared: nc, worst: pts }
+            FloorComparison {
+                service,
+                floor,
+                count: s.count,
+                mean_db: s.mean_db,
+                std_db: s.std_db,
+                rmse_db: s.rmse_db,
+                not_compared: nc,
+                worst: pts,
+            }
         })
         .collect();
     (out, all)
@@ -171,22 +216,37 @@ pub fn probe_table(site: &Site) -> Option<Table> {
     }
     let mut thickness: BTreeMap<&str, f64> = BTreeMap::new();
     for f in &site.floors {
-        thickness.entry(f.slab_material.as_str()).or_insert(f.slab_thickness_m);
+        thickness
+            .entry(f.slab_material.as_str())
+            .or_insert(f.slab_thickness_m);
         for p in &f.parts {
-            thickness.entry(p.material.as_str()).or_insert(p.thickness_m);
+            thickness
+                .entry(p.material.as_str())
+                .or_insert(p.thickness_m);
         }
     }
     let rows = site
         .probes
         .iter()
         .map(|p| {
-            let lib = site.materials.before_probes.get(&p.material).or_else(|| site.materials.get(&p.material));
+            let lib = site
+                .materials
+                .before_probes
+                .get(&p.material)
+                .or_else(|| site.materials.get(&p.material));
             let t = thickness.get(p.material.as_str()).copied().unwrap_or(0.1);
-            let lib_db = lib.map(|m| m.crossing_loss(p.freq_mhz, t, 1.0, Polarization::Te).loss_db);
-            let used = site.materials.get(&p.material).map(|m| m.crossing_loss(p.freq_mhz, t, 1.0, Polarization::Te).loss_db);
+            let lib_db = lib.map(|m| {
+                m.crossing_loss(p.freq_mhz, t, 1.0, Polarization::Te)
+                    .loss_db
+            });
+            let used = site.materials.get(&p.material).map(|m| {
+                m.crossing_loss(p.freq_mhz, t, 1.0, Polarization::Te)
+                    .loss_db
+            });
             let probe = rfsite_model::material::probe_loss_db(p.clear_dbm, p.through_dbm);
             vec![
-                lib.map(|m| m.name.clone()).unwrap_or_else(|| p.material.clone()),
+                lib.map(|m| m.name.clone())
+                    .unwrap_or_else(|| p.material.clone()),
                 f1(p.freq_mhz),
                 f1(p.clear_dbm),
                 f1(p.through_dbm),
@@ -246,19 +306,48 @@ impl Plugin for SurveyCompare {
             return Ok(out);
         }
         if model != want {
-            out.warnings.push(Warning { plugin: self.id().into(), message: format!("no `{want}` layers: the survey is compared with `{model}`") });
+            out.warnings.push(Warning {
+                plugin: self.id().into(),
+                message: format!("no `{want}` layers: the survey is compared with `{model}`"),
+            });
         }
         let (groups, all) = compare(&layers, &ctx.surveys.points);
-        let name = |sid: &str| site.service(sid).map(|s| s.name.clone()).unwrap_or_else(|| sid.to_string());
-        let fname = |fid: &str| site.floor(fid).map(|s| s.name.clone()).unwrap_or_else(|| fid.to_string());
+        let name = |sid: &str| {
+            site.service(sid)
+                .map(|s| s.name.clone())
+                .unwrap_or_else(|| sid.to_string())
+        };
+        let fname = |fid: &str| {
+            site.floor(fid)
+                .map(|s| s.name.clone())
+                .unwrap_or_else(|| fid.to_string())
+        };
         let u = site.units;
         out.tables.push(Table {
             id: "survey-compare".into(),
             title: format!("Survey against prediction ({model}): error = predicted - measured"),
-            columns: vec!["Service".into(), "Floor".into(), "Points".into(), "Mean dB".into(), "Std dB".into(), "RMSE dB".into(), "Not compared".into()],
+            columns: vec![
+                "Service".into(),
+                "Floor".into(),
+                "Points".into(),
+                "Mean dB".into(),
+                "Std dB".into(),
+                "RMSE dB".into(),
+                "Not compared".into(),
+            ],
             rows: groups
                 .iter()
-                .map(|g| vec![name(&g.service), fname(&g.floor), g.count.to_string(), f1(g.mean_db), f1(g.std_db), f1(g.rmse_db), g.not_compared.to_string()])
+                .map(|g| {
+                    vec![
+                        name(&g.service),
+                        fname(&g.floor),
+                        g.count.to_string(),
+                        f1(g.mean_db),
+                        f1(g.std_db),
+                        f1(g.rmse_db),
+                        g.not_compared.to_string(),
+                    ]
+                })
                 .collect(),
         });
         out.tables.push(Table {
@@ -286,18 +375,31 @@ impl Plugin for SurveyCompare {
         let mut series: Vec<Series> = Vec::new();
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
         for svc in &site.services {
-            let pts: Vec<[f64; 2]> = all.iter().filter(|(s, _)| *s == svc.id).map(|(_, p)| [p.measured_dbm, p.predicted_dbm]).collect();
+            let pts: Vec<[f64; 2]> = all
+                .iter()
+                .filter(|(s, _)| *s == svc.id)
+                .map(|(_, p)| [p.measured_dbm, p.predicted_dbm])
+                .collect();
             for p in &pts {
                 lo = lo.min(p[0].min(p[1]));
                 hi = hi.max(p[0].max(p[1]));
             }
             if !pts.is_empty() {
-                series.push(Series { name: svc.name.clone(), points: pts });
+                series.push(Series {
+                    name: svc.name.clone(),
+                    points: pts,
+                });
             }
         }
         if !series.is_empty() {
             let n = 60;
-            series.push(Series { name: "predicted = measured".into(), points: (0..=n).map(|i| lo + (hi - lo) * i as f64 / n as f64).map(|v| [v, v]).collect() });
+            series.push(Series {
+                name: "predicted = measured".into(),
+                points: (0..=n)
+                    .map(|i| lo + (hi - lo) * i as f64 / n as f64)
+                    .map(|v| [v, v])
+                    .collect(),
+            });
             out.figures.push(Figure {
                 id: "survey-scatter".into(),
                 title: format!("Predicted ({model}) against measured level at the survey points"),
@@ -310,7 +412,13 @@ impl Plugin for SurveyCompare {
         // Cumulative distribution of measured levels per service.
         let mut cdf = Vec::new();
         for svc in &site.services {
-            let mut v: Vec<f64> = ctx.surveys.points.iter().filter(|m| m.service == svc.id).map(|m| m.level_dbm).collect();
+            let mut v: Vec<f64> = ctx
+                .surveys
+                .points
+                .iter()
+                .filter(|m| m.service == svc.id)
+                .map(|m| m.level_dbm)
+                .collect();
             if v.is_empty() {
                 continue;
             }
@@ -320,11 +428,18 @@ impl Plugin for SurveyCompare {
             let k = n.min(400);
             let points = (0..k)
                 .map(|j| {
-                    let i = if k == n { j } else { j * (n - 1) / (k - 1).max(1) };
+                    let i = if k == n {
+                        j
+                    } else {
+                        j * (n - 1) / (k - 1).max(1)
+                    };
                     [v[i], 100.0 * (i + 1) as f64 / n as f64]
                 })
                 .collect();
-            cdf.push(Series { name: format!("{} (threshold {} dBm)", svc.name, f1(svc.threshold_dbm)), points });
+            cdf.push(Series {
+                name: format!("{} (threshold {} dBm)", svc.name, f1(svc.threshold_dbm)),
+                points,
+            });
         }
         if !cdf.is_empty() {
             out.figures.push(Figure {
@@ -337,7 +452,8 @@ impl Plugin for SurveyCompare {
             });
         }
         let v = serde_json::to_value(&groups).map_err(|e| PluginError::Failed(e.to_string()))?;
-        out.extra.insert("error_convention".into(), "predicted - measured, dB".into());
+        out.extra
+            .insert("error_convention".into(), "predicted - measured, dB".into());
         out.extra.insert("model".into(), model.into());
         out.extra.insert("comparison".into(), v);
         Ok(out)
@@ -367,13 +483,27 @@ mod tests {
             floor: "L1".into(),
             service: "s".into(),
             model: "m".into(),
-            grid: GridSpec { origin_x_m: 0.0, origin_y_m: 0.0, step_m: 1.0, nx: 2, ny: 1 },
+            grid: GridSpec {
+                origin_x_m: 0.0,
+                origin_y_m: 0.0,
+                step_m: 1.0,
+                nx: 2,
+                ny: 1,
+            },
             level_dbm: vec![-60.0, -70.0],
             best_server: vec![],
             servers: vec![],
         };
         assert!((predicted_at(&l, Point2::new(1.0, 0.5)).unwrap() + 65.0).abs() < 1e-9);
-        let m = Measurement { floor: "L1".into(), service: "s".into(), x_m: 1.0, y_m: 0.5, level_dbm: -61.0, file: "a.csv".into(), line: 2 };
+        let m = Measurement {
+            floor: "L1".into(),
+            service: "s".into(),
+            x_m: 1.0,
+            y_m: 0.5,
+            level_dbm: -61.0,
+            file: "a.csv".into(),
+            line: 2,
+        };
         let (g, _) = compare(&[&l], &[m]);
         assert_eq!(g[0].count, 1);
         assert!((g[0].mean_db + 4.0).abs() < 1e-9);

@@ -1,0 +1,884 @@
+//! `rfsite portfolio DIR -o OUT [--jobs N] [--shard K/N] [--force]` and
+//! `rfsite portfolio merge OUT... -o MERGED`.
+//!
+//! Every `site.toml` below DIR is one site; each runs exactly as `rfsite report` would, into
+//! OUT/<site id>/, on a bounded pool of worker threads. A site that fails never stops the
+//! others. The summary (`portfolio.json`, `portfolio.csv`, `portfolio.pdf`) is built from
+//! each site's `findings.json`, so a site skipped because nothing changed contributes
+//! exactly what it contributed before, and a merge of shards equals one run.
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::io::{IsTerminal, Write};
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::Mutex;
+use std::time::{Duration, Instant};
+
+use serde::{Deserialize, Serialize};
+use serde_json::Value;
+
+use crate::check::{load_quiet, LoadError};
+use crate::report::{self, Settings, SiteError, OUTPUT_MARKER};
+use crate::Outcome;
+
+/// portfolio.json schema id.
+pub const PORTFOLIO_SCHEMA: &str = "rfsite-portfolio/1";
+
+/// Problems kept per failed site in the summary.
+const PROBLEMS_KEPT: usize = 5;
+
+/// Arguments of `portfolio`.
+#[derive(clap::Args)]
+#[command(args_conflicts_with_subcommands = true, subcommand_negates_reqs = true)]
+pub struct Args {
+    #[command(subcommand)]
+    cmd: Option<Sub>,
+    /// Folder searched for site projects (every `site.toml` below it).
+    #[arg(required = true)]
+    pub dir: Option<PathBuf>,
+    /// Output folder: one folder per site, plus portfolio.json, .csv and .pdf.
+    #[arg(short, long, required = true)]
+    pub out: Option<PathBuf>,
+    /// Sites run at once (default: the number of CPUs).
+    #[arg(short, long)]
+    pub jobs: Option<usize>,
+    /// Run only slice K of N (1-based), chosen by a stable hash of each site's folder path.
+    #[arg(long, value_name = "K/N", value_parser = parse_shard)]
+    pub shard: Option<Shard>,
+    /// Run every site, even those whose inputs and rfsite version are unchanged.
+    #[arg(long)]
+    pub force: bool,
+    /// A report template folder for every site.
+    #[arg(long)]
+    pub template: Option<PathBuf>,
+    /// A folder of `*.toml` external plugin declarations, for every site.
+    #[arg(long)]
+    pub plugins: Option<PathBuf>,
+}
+
+#[derive(clap::Subcommand)]
+enum Sub {
+    /// Combine the outputs of shards (`--shard K/N` runs) into one portfolio output.
+    Merge(MergeArgs),
+}
+
+/// Arguments of `portfolio merge`.
+#[derive(clap::Args)]
+struct MergeArgs {
+    /// Output folders of `rfsite portfolio` runs (shards), each holding a portfolio.json.
+    #[arg(required = true, num_args = 1..)]
+    outs: Vec<PathBuf>,
+    /// Merged output folder: the site folders are copied here beside the merged summary.
+    #[arg(short, long)]
+    out: PathBuf,
+}
+
+/// A slice of the portfolio: `k` of `n`, 1-based.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shard {
+    /// This slice, 1..=n.
+    pub k: u64,
+    /// Number of slices.
+    pub n: u64,
+}
+
+fn parse_shard(s: &str) -> Result<Shard, String> {
+    let (k, n) = s.split_once('/').ok_or("write the shard as K/N, e.g. 2/8")?;
+    let k: u64 = k.trim().parse().map_err(|_| format!("`{k}` is not a number"))?;
+    let n: u64 = n.trim().parse().map_err(|_| format!("`{n}` is not a number"))?;
+    if n == 0 || k == 0 || k > n {
+        return Err(format!("shard {k}/{n}: K runs from 1 to N"));
+    }
+    Ok(Shard { k, n })
+}
+
+/// 64-bit FNV-1a: tiny, stable across platforms and releases (unlike std's hasher).
+pub fn fnv1a(bytes: &[u8]) -> u64 {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in bytes {
+        h ^= *b as u64;
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    h
+}
+
+impl Shard {
+    /// Whether the site at `rel` (folder relative to DIR, `/`-separated) is in this slice.
+    /// Depends on nothing but the path, so adding a site never moves another.
+    pub fn holds(&self, rel: &str) -> bool {
+        fnv1a(rel.as_bytes()) % self.n == self.k - 1
+    }
+}
+
+/// One floor of one service, as the summary keeps it.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FloorEntry {
+    /// Floor id.
+    pub id: String,
+    /// Graded area at or above threshold + margin, 0..1.
+    pub predicted_area_fraction: f64,
+    /// Meets the targets.
+    pub pass: bool,
+    /// Extra margin needed, dB (0 when passing).
+    pub margin_needed_db: f64,
+}
+
+/// One service of one site.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ServiceEntry {
+    /// Service id.
+    pub id: String,
+    /// Name.
+    pub name: String,
+    /// Centre frequency, MHz.
+    pub freq_mhz: f64,
+    /// Threshold, dBm.
+    pub threshold_dbm: f64,
+    /// Whole-service verdict.
+    pub pass: bool,
+    /// The floor with the smallest area fraction (then the largest margin needed).
+    pub worst_floor: Option<String>,
+    /// Its area fraction.
+    pub worst_area_fraction: Option<f64>,
+    /// Largest margin needed over the floors, dB.
+    pub margin_needed_db: f64,
+    /// Per floor.
+    pub floors: Vec<FloorEntry>,
+}
+
+/// Findings counted by severity.
+#[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq, Eq)]
+pub struct Counts {
+    /// Critical.
+    pub critical: usize,
+    /// Major.
+    pub major: usize,
+    /// Minor.
+    pub minor: usize,
+    /// Info.
+    pub info: usize,
+}
+
+/// One site of the portfolio.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct SiteEntry {
+    /// Site folder relative to DIR (`/`-separated; `.` for DIR itself).
+    pub path: String,
+    /// Site id, once known.
+    pub id: Option<String>,
+    /// Site name, once known.
+    pub name: Option<String>,
+    /// `ok`, `bad-input` or `failed`.
+    pub status: String,
+    /// Output folder relative to the portfolio output, when the site ran.
+    pub output: Option<String>,
+    /// `pass` or `fail` (every service passes), when the site ran.
+    pub verdict: Option<String>,
+    /// Per service.
+    pub services: Vec<ServiceEntry>,
+    /// Findings by severity.
+    pub findings: Counts,
+    /// Warnings in the site's findings.json.
+    pub warnings: usize,
+    /// Why it did not run: the first problems, `file:line:column: message` where located.
+    pub problems: Vec<String>,
+}
+
+/// A floor falling short, for the ranking.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Shortfall {
+    /// Site id.
+    pub site: String,
+    /// Service id.
+    pub service: String,
+    /// Floor id.
+    pub floor: String,
+    /// Extra margin needed, dB.
+    pub margin_needed_db: f64,
+    /// Area fraction, 0..1.
+    pub predicted_area_fraction: f64,
+}
+
+/// Counts over the portfolio.
+#[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq, Eq)]
+pub struct Totals {
+    /// Sites found (in this shard).
+    pub sites: usize,
+    /// Ran, every service passing.
+    pub pass: usize,
+    /// Ran, some service failing.
+    pub fail: usize,
+    /// Did not run: bad input.
+    pub bad_input: usize,
+    /// Did not run: another failure.
+    pub failed: usize,
+}
+
+/// portfolio.json.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Portfolio {
+    /// [`PORTFOLIO_SCHEMA`].
+    pub schema: String,
+    /// rfsite's name and version.
+    pub tool: Value,
+    /// `K/N` for a shard's summary; absent for a whole portfolio or a merge.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub shard: Option<String>,
+    /// Totals.
+    pub totals: Totals,
+    /// Sites, sorted by path.
+    pub sites: Vec<SiteEntry>,
+    /// Failing floors, largest margin needed first.
+    pub shortfall_ranking: Vec<Shortfall>,
+}
+
+impl Portfolio {
+    fn new(mut sites: Vec<SiteEntry>, shard: Option<Shard>) -> Portfolio {
+        sites.sort_by(|a, b| a.path.cmp(&b.path));
+        let mut t = Totals { sites: sites.len(), ..Default::default() };
+        let mut ranking = Vec::new();
+        for s in &sites {
+            match (s.status.as_str(), s.verdict.as_deref()) {
+                ("ok", Some("pass")) => t.pass += 1,
+                ("ok", _) => t.fail += 1,
+                ("bad-input", _) => t.bad_input += 1,
+                _ => t.failed += 1,
+            }
+            for sv in &s.services {
+                for f in sv.floors.iter().filter(|f| !f.pass) {
+                    ranking.push(Shortfall {
+                        site: s.id.clone().unwrap_or_default(),
+                        service: sv.id.clone(),
+                        floor: f.id.clone(),
+                        margin_needed_db: f.margin_needed_db,
+                        predicted_area_fraction: f.predicted_area_fraction,
+                    });
+                }
+            }
+        }
+        ranking.sort_by(|a, b| {
+            b.margin_needed_db
+                .total_cmp(&a.margin_needed_db)
+                .then(a.predicted_area_fraction.total_cmp(&b.predicted_area_fraction))
+                .then_with(|| (&a.site, &a.service, &a.floor).cmp(&(&b.site, &b.service, &b.floor)))
+        });
+        Portfolio {
+            schema: PORTFOLIO_SCHEMA.into(),
+            tool: serde_json::json!({"name": "rfsite", "version": rfsite_engine::VERSION}),
+            shard: shard.map(|s| format!("{}/{}", s.k, s.n)),
+            totals: t,
+            sites,
+            shortfall_ranking: ranking,
+        }
+    }
+
+    fn outcome(&self) -> Outcome {
+        if self.totals.bad_input > 0 {
+            Outcome::BadInput
+        } else if self.totals.failed > 0 {
+            Outcome::Failed
+        } else {
+            Outcome::Ok
+        }
+    }
+}
+
+fn num(v: &Value, k: &str) -> f64 {
+    v.get(k).and_then(Value::as_f64).unwrap_or(f64::NAN)
+}
+
+fn text(v: &Value, k: &str) -> String {
+    v.get(k).and_then(Value::as_str).unwrap_or_default().to_string()
+}
+
+/// The summary entry of a site that ran, from its findings.json.
+pub fn entry_from_findings(path: &str, output: &str, f: &Value) -> SiteEntry {
+    let services: Vec<ServiceEntry> = f["services"]
+        .as_array()
+        .map(|a| a.as_slice())
+        .unwrap_or_default()
+        .iter()
+        .map(|s| {
+            let floors: Vec<FloorEntry> = s["floors"]
+                .as_array()
+                .map(|a| a.as_slice())
+                .unwrap_or_default()
+                .iter()
+                .map(|fl| FloorEntry {
+                    id: text(fl, "id"),
+                    predicted_area_fraction: num(fl, "predicted_area_fraction"),
+                    pass: fl["pass"].as_bool().unwrap_or(false),
+                    margin_needed_db: fl.get("margin_needed_db").and_then(Value::as_f64).unwrap_or(0.0),
+                })
+                .collect();
+            let worst = floors.iter().min_by(|a, b| {
+                a.predicted_area_fraction.total_cmp(&b.predicted_area_fraction).then(b.margin_needed_db.total_cmp(&a.margin_needed_db)).then_with(|| a.id.cmp(&b.id))
+            });
+            ServiceEntry {
+                id: text(s, "id"),
+                name: text(s, "name"),
+                freq_mhz: num(s, "freq_mhz"),
+                threshold_dbm: num(s, "threshold_dbm"),
+                pass: s["pass"].as_bool().unwrap_or(false),
+                worst_floor: worst.map(|w| w.id.clone()),
+                worst_area_fraction: worst.map(|w| w.predicted_area_fraction),
+                margin_needed_db: floors.iter().map(|f| f.margin_needed_db).fold(0.0, f64::max),
+                floors,
+            }
+        })
+        .collect();
+    let mut counts = Counts::default();
+    for x in f["findings"].as_array().map(|a| a.as_slice()).unwrap_or_default() {
+        match x["severity"].as_str() {
+            Some("critical") => counts.critical += 1,
+            Some("major") => counts.major += 1,
+            Some("minor") => counts.minor += 1,
+            _ => counts.info += 1,
+        }
+    }
+    SiteEntry {
+        path: path.to_string(),
+        id: Some(text(&f["site"], "id")),
+        name: Some(text(&f["site"], "name")),
+        status: "ok".into(),
+        output: Some(output.to_string()),
+        verdict: Some(if services.iter().all(|s| s.pass) { "pass" } else { "fail" }.into()),
+        services,
+        findings: counts,
+        warnings: f["warnings"].as_array().map(Vec::len).unwrap_or(0),
+        problems: Vec::new(),
+    }
+}
+
+fn failed_entry(path: &str, id: Option<String>, name: Option<String>, status: &str, problems: Vec<String>) -> SiteEntry {
+    SiteEntry {
+        path: path.to_string(),
+        id,
+        name,
+        status: status.into(),
+        output: None,
+        verdict: None,
+        services: Vec::new(),
+        findings: Counts::default(),
+        warnings: 0,
+        problems: problems.into_iter().take(PROBLEMS_KEPT).collect(),
+    }
+}
+
+/// Every site folder below `dir`, as (path relative to `dir`, site folder), sorted. Skips
+/// hidden folders, folders named `out`, output folders (holding `findings.json` or the
+/// output marker) and `skip` (the portfolio's own output). Links are not followed, so a
+/// symlink loop cannot trap the walk.
+pub fn discover(dir: &Path, skip: Option<&Path>) -> (Vec<(String, PathBuf)>, Vec<String>) {
+    let skip = skip.and_then(|p| p.canonicalize().ok());
+    let mut sites = Vec::new();
+    let mut notes = Vec::new();
+    let walk = walkdir::WalkDir::new(dir).follow_links(false).sort_by_file_name().into_iter().filter_entry(|e| {
+        if e.depth() == 0 || !e.file_type().is_dir() {
+            return true;
+        }
+        let name = e.file_name().to_string_lossy();
+        if name.starts_with('.') || name == "out" {
+            return false;
+        }
+        let p = e.path();
+        if p.join("findings.json").exists() || p.join(OUTPUT_MARKER).exists() {
+            return false;
+        }
+        !(skip.is_some() && p.canonicalize().ok() == skip)
+    });
+    for e in walk {
+        match e {
+            Ok(e) if e.file_type().is_file() && e.file_name() == "site.toml" => {
+                let folder = e.path().parent().unwrap_or(dir).to_path_buf();
+                let rel = folder.strip_prefix(dir).map(|r| r.components().map(|c| c.as_os_str().to_string_lossy().to_string()).collect::<Vec<_>>().join("/")).unwrap_or_default();
+                sites.push((if rel.is_empty() { ".".into() } else { rel }, folder));
+            }
+            Ok(_) => {}
+            Err(e) => notes.push(format!("skipped while searching: {e}")),
+        }
+    }
+    sites.sort();
+    (sites, notes)
+}
+
+/// Runs `f` on every item with at most `jobs` worker threads; results in item order.
+fn pool<T: Sync, R: Send>(jobs: usize, items: &[T], f: impl Fn(&T) -> R + Sync) -> Vec<R> {
+    let next = AtomicUsize::new(0);
+    let results: Mutex<Vec<Option<R>>> = Mutex::new((0..items.len()).map(|_| None).collect());
+    std::thread::scope(|s| {
+        for _ in 0..jobs.clamp(1, items.len().max(1)) {
+            s.spawn(|| loop {
+                let i = next.fetch_add(1, Ordering::SeqCst);
+                let Some(item) = items.get(i) else { break };
+                let r = f(item);
+                results.lock().unwrap_or_else(|e| e.into_inner())[i] = Some(r);
+            });
+        }
+    });
+    results.into_inner().unwrap_or_else(|e| e.into_inner()).into_iter().flatten().collect()
+}
+
+/// The progress line on stderr: drawn only when stderr is a terminal.
+struct Progress {
+    tty: bool,
+    total: usize,
+    done: AtomicUsize,
+    running: Mutex<BTreeSet<String>>,
+    t0: Instant,
+}
+
+fn hms(d: Duration) -> String {
+    let s = d.as_secs();
+    if s >= 3600 {
+        format!("{}h{:02}m", s / 3600, (s % 3600) / 60)
+    } else {
+        format!("{}m{:02}s", s / 60, s % 60)
+    }
+}
+
+impl Progress {
+    fn draw(&self) {
+        if !self.tty {
+            return;
+        }
+        let done = self.done.load(Ordering::SeqCst);
+        let el = self.t0.elapsed();
+        let eta = if done > 0 { hms(el.mul_f64((self.total - done) as f64 / done as f64)) } else { "?".into() };
+        let cur = self.running.lock().map(|r| r.iter().cloned().collect::<Vec<_>>().join(", ")).unwrap_or_default();
+        let mut line = format!("{done}/{} sites, elapsed {}, remaining ~{eta}; running: {cur}", self.total, hms(el));
+        line.truncate(line.char_indices().nth(150).map(|(i, _)| i).unwrap_or(line.len()));
+        let mut e = std::io::stderr().lock();
+        let _ = write!(e, "\r\x1b[2K{line}");
+        let _ = e.flush();
+    }
+    /// Prints a line above the progress line.
+    fn say(&self, msg: &str) {
+        let mut e = std::io::stderr().lock();
+        if self.tty {
+            let _ = write!(e, "\r\x1b[2K");
+        }
+        let _ = writeln!(e, "{msg}");
+        drop(e);
+        self.draw();
+    }
+    fn clear(&self) {
+        if self.tty {
+            let _ = write!(std::io::stderr().lock(), "\r\x1b[2K");
+        }
+    }
+}
+
+/// What phase one learns of a site: its id, or why it cannot run.
+enum Probe {
+    Id(String, String),
+    Bad(SiteEntry),
+}
+
+/// Runs `portfolio` (or `portfolio merge`).
+pub fn run(a: Args) -> Outcome {
+    if let Some(Sub::Merge(m)) = a.cmd {
+        return merge(m);
+    }
+    let (Some(dir), Some(out)) = (a.dir.clone(), a.out.clone()) else {
+        eprintln!("error: portfolio needs DIR and -o OUT");
+        return Outcome::BadInput;
+    };
+    if !dir.is_dir() {
+        eprintln!("error: {}: not a folder\n  = hint: DIR is a folder holding site projects (each a folder with a site.toml)", dir.display());
+        return Outcome::BadInput;
+    }
+    let settings = match report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return Outcome::BadInput;
+        }
+    };
+    if let Err(e) = std::fs::create_dir_all(&out) {
+        eprintln!("error: {}: {e}", out.display());
+        return Outcome::Failed;
+    }
+    if dir.canonicalize().ok() == out.canonicalize().ok() {
+        eprintln!("error: the output folder is the portfolio folder\n  = hint: choose another, e.g. -o {}", dir.join("out").display());
+        return Outcome::BadInput;
+    }
+    let (mut sites, notes) = discover(&dir, Some(&out));
+    for n in notes {
+        eprintln!("warning: {n}");
+    }
+    let found = sites.len();
+    if let Some(sh) = a.shard {
+        sites.retain(|(rel, _)| sh.holds(rel));
+    }
+    let jobs = a.jobs.unwrap_or_else(|| std::thread::available_parallelism().map(|n| n.get()).unwrap_or(1)).max(1);
+    let t0 = Instant::now();
+
+    // Phase one: load every site (cheap) to learn its id, so that two sites claiming one
+    // output folder are told apart deterministically, whatever order the workers finish in.
+    let probes = pool(jobs, &sites, |(rel, folder)| match load_quiet(folder) {
+        Ok((_, l)) => Probe::Id(l.site.meta.id.clone(), l.site.meta.name.clone()),
+        Err(e) => {
+            let status = if matches!(e, LoadError::BadInput(..)) { "bad-input" } else { "failed" };
+            Probe::Bad(failed_entry(rel, None, None, status, e.lines()))
+        }
+    });
+    let mut owner: BTreeMap<String, String> = BTreeMap::new();
+    let mut entries: Vec<SiteEntry> = Vec::new();
+    let mut todo: Vec<(String, PathBuf, String)> = Vec::new();
+    for ((rel, folder), p) in sites.iter().zip(probes) {
+        match p {
+            Probe::Bad(e) => entries.push(e),
+            Probe::Id(id, name) => match owner.get(&id) {
+                Some(first) => entries.push(failed_entry(
+                    rel,
+                    Some(id.clone()),
+                    Some(name),
+                    "bad-input",
+                    vec![format!("{}: site id `{id}` is also the id of `{first}`; each site of a portfolio needs its own `[site] id`", rfsite_engine::world::display_path(&folder.join("site.toml")))],
+                )),
+                None => {
+                    owner.insert(id.clone(), rel.clone());
+                    todo.push((rel.clone(), folder.clone(), id));
+                }
+            },
+        }
+    }
+
+    let progress = Progress { tty: std::io::stderr().is_terminal(), total: todo.len(), done: AtomicUsize::new(0), running: Mutex::new(BTreeSet::new()), t0 };
+    let skipped = AtomicUsize::new(0);
+    let stop = std::sync::atomic::AtomicBool::new(false);
+    let ran: Vec<SiteEntry> = std::thread::scope(|s| {
+        if progress.tty {
+            s.spawn(|| {
+                while !stop.load(Ordering::SeqCst) {
+                    progress.draw();
+                    std::thread::sleep(Duration::from_millis(250));
+                }
+            });
+        }
+        let r = pool(jobs, &todo, |(rel, folder, id)| {
+            if let Ok(mut r) = progress.running.lock() {
+                r.insert(id.clone());
+            }
+            let (entry, reused) = run_one(rel, folder, id, &out, &settings, a.force);
+            if let Ok(mut r) = progress.running.lock() {
+                r.remove(id);
+            }
+            progress.done.fetch_add(1, Ordering::SeqCst);
+            if reused {
+                skipped.fetch_add(1, Ordering::SeqCst);
+            }
+            let line = match (entry.status.as_str(), reused) {
+                ("ok", true) => format!("unchanged {rel} ({id}): {} — kept the earlier outputs", entry.verdict.as_deref().unwrap_or("")),
+                ("ok", false) => format!("done      {rel} ({id}): {}", entry.verdict.as_deref().unwrap_or("")),
+                (st, _) => format!("{st:<9} {rel} ({id}): {}", entry.problems.first().map(String::as_str).unwrap_or("")),
+            };
+            progress.say(&line);
+            r_evict();
+            entry
+        });
+        stop.store(true, Ordering::SeqCst);
+        r
+    });
+    progress.clear();
+    entries.extend(ran);
+    let p = Portfolio::new(entries, a.shard);
+    if let Err(e) = write_summary(&out, &p) {
+        eprintln!("error: {e}");
+        return Outcome::Failed;
+    }
+    report_totals(&p, &out, found, skipped.load(Ordering::SeqCst), t0.elapsed(), jobs);
+    p.outcome()
+}
+
+fn r_evict() {
+    rfsite_report::portfolio::evict_caches();
+}
+
+/// Whether OUT/<id> holds the outputs of exactly these inputs, settings and rfsite version.
+fn unchanged(site_out: &Path, inputs: &[rfsite_plugin::InputFile], fingerprint: &str) -> Option<Value> {
+    let f: Value = serde_json::from_slice(&std::fs::read(site_out.join("findings.json")).ok()?).ok()?;
+    let m: Value = serde_json::from_slice(&std::fs::read(site_out.join(OUTPUT_MARKER)).ok()?).ok()?;
+    let old_inputs: Vec<rfsite_plugin::InputFile> = serde_json::from_value(f.get("inputs")?.clone()).ok()?;
+    let same = f["tool"]["version"] == rfsite_engine::VERSION && m["tool_version"] == rfsite_engine::VERSION && m["settings_sha256"] == fingerprint && old_inputs == inputs && site_out.join("report.pdf").is_file();
+    same.then_some(f)
+}
+
+/// Runs one site into OUT/<id>; returns its entry and whether the earlier outputs were kept.
+fn run_one(rel: &str, folder: &Path, id: &str, out: &Path, settings: &Settings, force: bool) -> (SiteEntry, bool) {
+    let (world, loaded) = match load_quiet(folder) {
+        Ok(x) => x,
+        Err(e) => {
+            let status = if matches!(e, LoadError::BadInput(..)) { "bad-input" } else { "failed" };
+            return (failed_entry(rel, Some(id.into()), None, status, e.lines()), false);
+        }
+    };
+    let name = loaded.site.meta.name.clone();
+    let site_out = out.join(id);
+    if site_out.canonicalize().ok().is_some_and(|c| Some(c) == world.root.canonicalize().ok()) {
+        return (failed_entry(rel, Some(id.into()), Some(name), "failed", vec![format!("{}: the output folder would be the site folder itself; choose another -o", rfsite_engine::world::display_path(&site_out))]), false);
+    }
+    if !force {
+        let specs = report::registry_for(&world, &loaded, settings).map(|(_, s)| s);
+        if let Ok(specs) = specs {
+            if let Some(f) = unchanged(&site_out, &world.inputs(), &report::fingerprint(settings, &specs)) {
+                return (entry_from_findings(rel, id, &f), true);
+            }
+        }
+    }
+    match report::run_site(&world, &loaded, settings, &site_out) {
+        Ok(done) => {
+            let f: Value = serde_json::from_str(&done.findings_json).unwrap_or(Value::Null);
+            (entry_from_findings(rel, id, &f), false)
+        }
+        Err(SiteError::BadInput(p)) => (failed_entry(rel, Some(id.into()), Some(name), "bad-input", p), false),
+        Err(SiteError::Failed(m)) => (failed_entry(rel, Some(id.into()), Some(name), "failed", m.lines().map(str::to_string).filter(|l| !l.trim().is_empty()).collect()), false),
+    }
+}
+
+fn report_totals(p: &Portfolio, out: &Path, found: usize, skipped: usize, took: Duration, jobs: usize) {
+    let t = &p.totals;
+    let shard = p.shard.as_ref().map(|s| format!(" (shard {s} of {found} found)")).unwrap_or_default();
+    let ran = t.sites - t.bad_input - t.failed;
+    let rate = if took.as_secs_f64() > 0.0 { 60.0 * t.sites as f64 / took.as_secs_f64() } else { 0.0 };
+    println!(
+        "portfolio: {} site(s){shard}: {} pass, {} fail, {} bad input, {} failed to run; {} unchanged and kept; {:.1} s with {jobs} job(s), {rate:.1} sites/min",
+        t.sites,
+        t.pass,
+        t.fail,
+        t.bad_input,
+        t.failed,
+        skipped.min(ran),
+        took.as_secs_f64()
+    );
+    for s in p.sites.iter().filter(|s| s.status != "ok") {
+        eprintln!("error: site `{}` ({}) did not run:", s.path, s.status);
+        for l in &s.problems {
+            eprintln!("  {l}");
+        }
+    }
+    println!("portfolio: wrote {}/portfolio.pdf, portfolio.json and portfolio.csv", out.display());
+}
+
+fn csv_bytes(p: &Portfolio) -> Result<Vec<u8>, String> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let e = |e: csv::Error| e.to_string();
+    w.write_record(["path", "site_id", "site_name", "status", "site_verdict", "service", "service_verdict", "worst_floor", "worst_area_fraction", "margin_needed_db", "critical", "major", "minor", "problem"]).map_err(e)?;
+    for s in &p.sites {
+        let base = |service: &str, sv: &str, wf: &str, wa: String, m: String| -> Vec<String> {
+            vec![
+                s.path.clone(),
+                s.id.clone().unwrap_or_default(),
+                s.name.clone().unwrap_or_default(),
+                s.status.clone(),
+                s.verdict.clone().unwrap_or_default(),
+                service.to_string(),
+                sv.to_string(),
+                wf.to_string(),
+                wa,
+                m,
+                s.findings.critical.to_string(),
+                s.findings.major.to_string(),
+                s.findings.minor.to_string(),
+                s.problems.first().cloned().unwrap_or_default(),
+            ]
+        };
+        if s.services.is_empty() {
+            w.write_record(base("", "", "", String::new(), String::new())).map_err(e)?;
+        }
+        for sv in &s.services {
+            let rec = base(
+                &sv.id,
+                if sv.pass { "pass" } else { "fail" },
+                sv.worst_floor.as_deref().unwrap_or(""),
+                sv.worst_area_fraction.map(|x| format!("{x:.4}")).unwrap_or_default(),
+                format!("{:.1}", sv.margin_needed_db),
+            );
+            w.write_record(rec).map_err(e)?;
+        }
+    }
+    w.into_inner().map_err(|e| e.to_string())
+}
+
+fn pct(x: Option<f64>) -> String {
+    x.filter(|v| v.is_finite()).map(|v| format!("{:.1} %", 100.0 * v)).unwrap_or_else(|| "n/a".into())
+}
+
+/// The summary PDF's view model: every number formatted here, none in the template.
+fn pdf_view(p: &Portfolio) -> Value {
+    let t = &p.totals;
+    let label = |s: &SiteEntry| s.name.clone().filter(|n| !n.is_empty()).or_else(|| s.id.clone()).unwrap_or_else(|| s.path.clone());
+    let mut verdict_rows = Vec::new();
+    let mut site_rows = Vec::new();
+    let mut failed_rows = Vec::new();
+    for s in &p.sites {
+        if s.status == "ok" {
+            for sv in &s.services {
+                verdict_rows.push(vec![
+                    label(s),
+                    s.path.clone(),
+                    sv.name.clone(),
+                    if sv.pass { "PASS" } else { "FAIL" }.to_string(),
+                    sv.worst_floor.clone().unwrap_or_default(),
+                    pct(sv.worst_area_fraction),
+                    format!("{:.1} dB", sv.margin_needed_db),
+                ]);
+            }
+            site_rows.push(vec![
+                label(s),
+                s.path.clone(),
+                if s.verdict.as_deref() == Some("pass") { "PASS" } else { "FAIL" }.to_string(),
+                s.findings.critical.to_string(),
+                s.findings.major.to_string(),
+                s.findings.minor.to_string(),
+                s.warnings.to_string(),
+            ]);
+        } else {
+            failed_rows.push(vec![s.path.clone(), if s.status == "bad-input" { "bad input" } else { "failed" }.to_string(), s.problems.join("\n")]);
+        }
+    }
+    let names: BTreeMap<&str, String> = p.sites.iter().filter_map(|s| s.id.as_deref().map(|i| (i, label(s)))).collect();
+    let ranking_rows: Vec<Vec<String>> = p
+        .shortfall_ranking
+        .iter()
+        .enumerate()
+        .map(|(i, r)| vec![(i + 1).to_string(), names.get(r.site.as_str()).cloned().unwrap_or_else(|| r.site.clone()), r.service.clone(), r.floor.clone(), format!("{:.1} dB", r.margin_needed_db), pct(Some(r.predicted_area_fraction))])
+        .collect();
+    let tile = |value: usize, label: &str, bad: bool| serde_json::json!({"value": value.to_string(), "label": label, "bad": bad && value > 0});
+    serde_json::json!({
+        "title": "Portfolio coverage summary",
+        "subtitle": match &p.shard {
+            Some(s) => format!("{} site(s), shard {s}", t.sites),
+            None => format!("{} site(s)", t.sites),
+        },
+        "tool": format!("rfsite {}", rfsite_engine::VERSION),
+        "totals": [tile(t.sites, "sites", false), tile(t.pass, "all services pass", false), tile(t.fail, "some service fails", true), tile(t.bad_input, "bad input", true), tile(t.failed, "failed to run", true)],
+        "verdict_rows": verdict_rows,
+        "ranking_rows": ranking_rows,
+        "failed_rows": failed_rows,
+        "site_rows": site_rows,
+    })
+}
+
+/// Writes portfolio.json, portfolio.csv and portfolio.pdf into `out`, atomically.
+fn write_summary(out: &Path, p: &Portfolio) -> Result<(), String> {
+    let json = format!("{}\n", serde_json::to_string_pretty(p).map_err(|e| e.to_string())?);
+    let csv = csv_bytes(p)?;
+    let pdf = rfsite_report::portfolio::render_portfolio(&pdf_view(p)).map_err(|e| e.to_string())?;
+    rfsite_engine::world::write_atomic(out, &[("portfolio.json".into(), json.into_bytes()), ("portfolio.csv".into(), csv), ("portfolio.pdf".into(), pdf)])
+}
+
+/// Reads a portfolio output's summary.
+fn read_portfolio(dir: &Path) -> Result<Portfolio, String> {
+    let f = dir.join("portfolio.json");
+    let bytes = std::fs::read(&f).map_err(|e| format!("{}: {e}\n  = hint: merge takes the -o folders of `rfsite portfolio` runs", f.display()))?;
+    let p: Portfolio = serde_json::from_slice(&bytes).map_err(|e| format!("{}: not a portfolio summary: {e}", f.display()))?;
+    if p.schema != PORTFOLIO_SCHEMA {
+        return Err(format!("{}: schema `{}`, expected `{PORTFOLIO_SCHEMA}`", f.display(), p.schema));
+    }
+    Ok(p)
+}
+
+/// `portfolio merge`: one summary over shard outputs; the site folders are copied beside it.
+fn merge(m: MergeArgs) -> Outcome {
+    let mut sites: Vec<SiteEntry> = Vec::new();
+    let mut from: BTreeMap<String, PathBuf> = BTreeMap::new();
+    let mut version: Option<String> = None;
+    for dir in &m.outs {
+        let p = match read_portfolio(dir) {
+            Ok(p) => p,
+            Err(e) => {
+                eprintln!("error: {e}");
+                return Outcome::BadInput;
+            }
+        };
+        let v = p.tool["version"].as_str().unwrap_or_default().to_string();
+        if version.get_or_insert(v.clone()) != &v {
+            eprintln!("warning: {} was written by rfsite {v}, another shard by {}", dir.display(), version.as_deref().unwrap_or_default());
+        }
+        for s in p.sites {
+            if let Some(first) = from.get(&s.path) {
+                eprintln!("error: site `{}` is in both {} and {}\n  = hint: merge the outputs of one run's shards (1/N .. N/N), each once", s.path, first.display(), dir.display());
+                return Outcome::BadInput;
+            }
+            from.insert(s.path.clone(), dir.clone());
+            sites.push(s);
+        }
+    }
+    let mut ids: BTreeMap<&str, &str> = BTreeMap::new();
+    for s in sites.iter().filter(|s| s.output.is_some()) {
+        let id = s.id.as_deref().unwrap_or_default();
+        if let Some(other) = ids.insert(id, &s.path) {
+            eprintln!("error: sites `{other}` and `{}` share the id `{id}`; their outputs would collide", s.path);
+            return Outcome::BadInput;
+        }
+    }
+    if let Err(e) = std::fs::create_dir_all(&m.out) {
+        eprintln!("error: {}: {e}", m.out.display());
+        return Outcome::Failed;
+    }
+    let dest = m.out.canonicalize().ok();
+    for s in &sites {
+        let (Some(o), Some(src)) = (&s.output, from.get(&s.path)) else { continue };
+        if src.canonicalize().ok() == dest {
+            continue;
+        }
+        let files = match rfsite_engine::world::read_dir_files(&src.join(o)) {
+            Ok(f) => f.into_iter().collect::<Vec<_>>(),
+            Err(e) => {
+                eprintln!("error: {e}");
+                return Outcome::Failed;
+            }
+        };
+        if let Err(e) = rfsite_engine::world::write_atomic(&m.out.join(o), &files) {
+            eprintln!("error: {e}");
+            return Outcome::Failed;
+        }
+    }
+    let p = Portfolio::new(sites, None);
+    if let Err(e) = write_summary(&m.out, &p) {
+        eprintln!("error: {e}");
+        return Outcome::Failed;
+    }
+    let t = &p.totals;
+    println!(
+        "portfolio merge: {} output(s), {} site(s): {} pass, {} fail, {} bad input, {} failed to run; wrote {}/portfolio.pdf, portfolio.json and portfolio.csv",
+        m.outs.len(),
+        t.sites,
+        t.pass,
+        t.fail,
+        t.bad_input,
+        t.failed,
+        m.out.display()
+    );
+    p.outcome()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shards_are_parsed_and_checked() {
+        assert_eq!(parse_shard("2/3"), Ok(Shard { k: 2, n: 3 }));
+        assert!(parse_shard("0/3").is_err());
+        assert!(parse_shard("4/3").is_err());
+        assert!(parse_shard("3").is_err());
+    }
+
+    #[test]
+    fn every_site_lands_in_exactly_one_shard() {
+        for rel in ["a", "office/small", "tower", "x/y/z", "."] {
+            let n = (1..=5).filter(|k| Shard { k: *k, n: 5 }.holds(rel)).count();
+            assert_eq!(n, 1, "{rel}");
+        }
+    }
+
+    #[test]
+    fn fnv1a_matches_the_published_test_vector() {
+        // FNV-1a 64 of "a" (Fowler/Noll/Vo reference test suite).
+        assert_eq!(fnv1a(b"a"), 0xaf63dc4c8601ec8c);
+        assert_eq!(fnv1a(b""), 0xcbf29ce484222325);
+    }
+}
