@@ -3,6 +3,8 @@
 //! ```text
 //! cargo run --release -p rfsite-bench            # full run, about a minute on 2 cores
 //! cargo run --release -p rfsite-bench -- --quick # one repetition, smaller samples
+//! cargo run --release -p rfsite-bench -- --tower # only the 20-storey estimate
+//! cargo run --release -p rfsite-bench -- --profile-shadow # per-call shadow cost and counters
 //! ```
 //!
 //! A synthetic office floor (`synth::office_floor`, fixed seeds) with one
@@ -22,10 +24,11 @@
 
 use rayon::prelude::*;
 use rfsite_geometry::shadow::{
-    accumulate_path_part, accumulate_wall_loss, ShadowScratch, WallLosses,
+    accumulate_path_part, accumulate_wall_loss, ShadowScratch, ShadowStats, WallLosses,
 };
 use rfsite_geometry::synth::{office_floor, SplitMix64};
 use rfsite_geometry::{crossings_brute_force, Grid, Point2, Scratch, Segment, WallIndex};
+use std::ops::AddAssign;
 use std::time::Instant;
 
 const WIDTH_M: f64 = 120.0;
@@ -219,14 +222,144 @@ fn predict_shadow_with(case: &Case, pass: &WallPass<'_>) -> Prediction {
         })
 }
 
-fn best_of(reps: usize, mut f: impl FnMut()) -> f64 {
-    (0..reps)
-        .map(|_| {
-            let t = Instant::now();
-            f();
-            t.elapsed().as_secs_f64()
+/// The wall part of a 20-storey prediction with the shadows, inter-floor
+/// paths included: every floor's grid against every transmitter of a
+/// service, each path cut into its storeys (t-range per storey, constant over
+/// the receiving floor), one `accumulate_path_part` per storey.
+fn tower_estimate(reps: usize) {
+    const FLOORS: usize = 20;
+    const STOREY: f64 = 3.6;
+    let walls = office_floor(PLAN_SEED, 60.0, 40.0, 300);
+    let loss_db: Vec<f32> = (0..walls.len()).map(|i| [3.0, 5.0, 12.0][i % 3]).collect();
+    let grid = Grid::covering(Point2::new(0.0, 0.0), Point2::new(60.0, 40.0), 0.5);
+    let mut rng = SplitMix64::new(TX_SEED);
+    // Two services: 2 and 1.5 transmitters per floor on average.
+    let services: Vec<Vec<(usize, Point2)>> = [2.0f64, 1.5]
+        .iter()
+        .map(|per_floor| {
+            (0..(per_floor * FLOORS as f64) as usize)
+                .map(|k| {
+                    (
+                        (k as f64 / per_floor) as usize,
+                        Point2::new(rng.range(2.0, 58.0), rng.range(2.0, 38.0)),
+                    )
+                })
+                .collect()
         })
-        .fold(f64::INFINITY, f64::min)
+        .collect();
+    let mut passes = 0usize;
+    let stats = std::sync::Mutex::new(ShadowStats::default());
+    let t = best_of(reps, || {
+        *stats.lock().unwrap() = ShadowStats::default();
+        passes = services
+            .iter()
+            .map(|txs| {
+                (0..FLOORS)
+                    .into_par_iter()
+                    .map_init(
+                        || (vec![0f32; grid.len()], ShadowScratch::new()),
+                        |(loss, scratch), rf| {
+                            let mut n = 0;
+                            let rz = rf as f64 * STOREY + RX_HEIGHT_M;
+                            for &(tf, tp) in txs {
+                                loss.iter_mut().for_each(|v| *v = 0.0);
+                                let tz = tf as f64 * STOREY + TX_HEIGHT_M;
+                                let (lo, hi) = (tf.min(rf), tf.max(rf));
+                                for k in lo..=hi {
+                                    let range = if lo == hi {
+                                        (0.0, 1.0)
+                                    } else {
+                                        let dz = rz - tz;
+                                        let (a, b) = (
+                                            (k as f64 * STOREY - tz) / dz,
+                                            ((k + 1) as f64 * STOREY - tz) / dz,
+                                        );
+                                        (a.min(b).max(0.0), a.max(b).min(1.0))
+                                    };
+                                    if range.1 <= range.0 {
+                                        continue;
+                                    }
+                                    let l = WallLosses {
+                                        constant_db: &loss_db,
+                                        by_angle: None,
+                                    };
+                                    accumulate_path_part(
+                                        tp, &grid, &walls, &l, range, loss, scratch,
+                                    );
+                                    n += 1;
+                                    stats.lock().unwrap().add_assign(scratch.stats());
+                                }
+                            }
+                            n
+                        },
+                    )
+                    .sum::<usize>()
+            })
+            .sum();
+    });
+    let n_tx: usize = services.iter().map(|s| s.len()).sum();
+    println!(
+        "20-storey estimate ({} walls per floor, 60 x 40 m at 0.5 m = {} points per floor, {} transmitters in 2 services):",
+        walls.len(),
+        grid.len(),
+        n_tx
+    );
+    println!(
+        "  wall losses of all {} floor-transmitter pairs, inter-floor paths cut per storey: {:.3} s, cpu {:.2} s ({} storey parts, {:.1} us each)\n",
+        FLOORS * n_tx,
+        t,
+        last_cpu(),
+        passes,
+        last_cpu() * 1e6 / passes as f64
+    );
+    println!(
+        "  shadow counters over the run: {:?}",
+        stats.lock().unwrap()
+    );
+}
+
+/// Process CPU time (user + system), seconds, from /proc/self/stat.
+fn cpu_s() -> f64 {
+    let Ok(stat) = std::fs::read_to_string("/proc/self/stat") else {
+        return f64::NAN;
+    };
+    // Fields after the parenthesised command name; utime and stime are the
+    // 14th and 15th fields overall, in clock ticks (100 per second on Linux).
+    let rest = stat.rsplit_once(')').map(|(_, r)| r).unwrap_or("");
+    let f: Vec<f64> = rest
+        .split_whitespace()
+        .skip(11)
+        .take(2)
+        .filter_map(|v| v.parse().ok())
+        .collect();
+    if f.len() == 2 {
+        (f[0] + f[1]) / 100.0
+    } else {
+        f64::NAN
+    }
+}
+
+static LAST_CPU: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+
+/// CPU seconds of the fastest run of the last [`best_of`].
+fn last_cpu() -> f64 {
+    f64::from_bits(LAST_CPU.load(std::sync::atomic::Ordering::Relaxed))
+}
+
+/// Wall-clock seconds of the fastest of `reps` runs (its CPU time is kept
+/// for [`last_cpu`]).
+fn best_of(reps: usize, mut f: impl FnMut()) -> f64 {
+    let mut best = (f64::INFINITY, f64::NAN);
+    for _ in 0..reps {
+        let (c, t) = (cpu_s(), Instant::now());
+        f();
+        let wall = t.elapsed().as_secs_f64();
+        if wall < best.0 {
+            best = (wall, cpu_s() - c);
+        }
+    }
+    LAST_CPU.store(best.1.to_bits(), std::sync::atomic::Ordering::Relaxed);
+    best.0
 }
 
 /// Least-squares slope of ln(y) against ln(x).
@@ -267,6 +400,10 @@ fn cpu_model() -> String {
 
 fn main() {
     let quick = std::env::args().any(|a| a == "--quick");
+    if std::env::args().any(|a| a == "--tower") {
+        tower_estimate(if quick { 1 } else { 3 });
+        return;
+    }
     if std::env::args().any(|a| a == "--profile-shadow") {
         let case = Case::new(4000, 0.25, 30);
         let mut scratch = ShadowScratch::new();
@@ -315,9 +452,11 @@ fn main() {
     let brute_s = brute_pair_s * case.pairs() as f64;
     let mut index_pred = None;
     let index_s = best_of(reps.min(2), || index_pred = Some(predict_index(&case)));
+    let index_cpu = last_cpu();
     let (index_pred, crossings) = index_pred.expect("ran");
     let mut shadow_pred = None;
     let shadow_s = best_of(reps, || shadow_pred = Some(predict_shadow(&case)));
+    let shadow_cpu = last_cpu();
     let shadow_pred = shadow_pred.expect("ran");
 
     // Same answer?
@@ -336,14 +475,14 @@ fn main() {
         brute_mean
     );
     println!(
-        "  DDA index   : {index_s:8.3} s  ({:.2e} pairs/s, {:.2e} wall crossings/s; {} crossings, {:.1}/pair)",
+        "  DDA index   : {index_s:8.3} s  (cpu {index_cpu:.2} s; {:.2e} pairs/s, {:.2e} wall crossings/s; {} crossings, {:.1}/pair)",
         pairs / index_s,
         crossings as f64 / index_s,
         crossings,
         crossings as f64 / pairs
     );
     println!(
-        "  shadows     : {shadow_s:8.3} s  ({:.2e} pairs/s, {:.2e} wall crossings/s)",
+        "  shadows     : {shadow_s:8.3} s  (cpu {shadow_cpu:.2} s; {:.2e} pairs/s, {:.2e} wall crossings/s)",
         pairs / shadow_s,
         crossings as f64 / shadow_s
     );
@@ -476,6 +615,8 @@ fn main() {
         "  fitted exponent (time ~ transmitters^k): shadows {:.2} (1 transmitter keeps one of the 2 cores idle)\n",
         loglog_slope(&pt)
     );
+
+    tower_estimate(reps);
 
     println!(
         "load average at end: {} (other work on the machine inflates the times)",

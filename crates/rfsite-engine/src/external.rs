@@ -335,7 +335,7 @@ impl ExternalPlugin {
     fn check_output(&self, site: &Site, mut o: PluginOutput) -> Result<PluginOutput, String> {
         let id = &self.spec.id;
         for l in &mut o.layers {
-            let n = l.grid.nx.checked_mul(l.grid.ny).unwrap_or(usize::MAX);
+            let n = l.grid.nx.saturating_mul(l.grid.ny);
             if l.level_dbm.len() != n {
                 return Err(format!("layer {}/{} has {} levels for a {}x{} grid", l.floor, l.service, l.level_dbm.len(), l.grid.nx, l.grid.ny));
             }

@@ -452,13 +452,22 @@ impl RowTest {
             let col = |x: f64| (ox + x) / step - 0.5;
             (col((-self.m - c) / self.s), col((self.m - c) / self.s))
         };
-        // `lo` is where f = -m, `hi` where f = +m.
-        let clamp = |v: f64| v.clamp(-2.0, nx as f64 + 2.0);
-        let (lo, hi) = (clamp(lo), clamp(hi));
+        // `lo` is where f = -m, `hi` where f = +m. Clamped to a few columns
+        // beyond the grid, floor and ceil are truncations of shifted values
+        // (`f64::floor` is a library call on baseline x86-64). The shift can
+        // round a value within about 1e-15 columns of an integer the wrong
+        // way; such a column has |f| ≈ m, far outside the tolerance of the
+        // crossing rules, so it is classified correctly either way.
+        let nxf = nx as f64;
+        let off = nxf + 8.0;
+        let offi = nx + 8;
+        let clamp = |v: f64| v.max(-2.0).min(nxf + 2.0);
+        let floor = |v: f64| (clamp(v) + off) as i64 - offi;
+        let ceil = |v: f64| offi - (off - clamp(v)) as i64;
         if self.s > 0.0 {
-            (lo.ceil() as i64, ALL.1, hi.floor() as i64 + 1, ALL.1)
+            (ceil(lo), ALL.1, floor(hi) + 1, ALL.1)
         } else {
-            (ALL.0, lo.floor() as i64, ALL.0, hi.ceil() as i64 - 1)
+            (ALL.0, floor(lo), ALL.0, ceil(hi) - 1)
         }
     }
 }

@@ -244,7 +244,7 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
                     toml::de::DeValue::Array(a) => seg
                         .parse::<usize>()
                         .ok()
-                        .and_then(|i| a.iter().nth(i)),
+                        .and_then(|i| a.get(i)),
                     toml::de::DeValue::Table(t) => {
                         table = t;
                         find_key(table, seg, &mut span)

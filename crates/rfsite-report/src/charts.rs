@@ -137,7 +137,7 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
         let mut edges = Vec::new();
         let ok = |ix: usize, iy: usize| -> Option<bool> {
             let v = layer.level_dbm[iy * g.nx + ix];
-            v.is_finite().then(|| v as f64 >= threshold_dbm)
+            v.is_finite().then_some(v as f64 >= threshold_dbm)
         };
         let ox = u.from_m(g.origin.x);
         let oy = u.from_m(g.origin.y);

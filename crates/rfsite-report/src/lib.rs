@@ -271,12 +271,14 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
             for l in &m.losses {
                 r.push(format!("{}{}", f1(l.loss_db), if l.extrapolated { " *" } else { "" }));
             }
+            r.push(m.probe_loss_db.map(f1).unwrap_or_else(|| "-".into()));
             r.push(m.confidence.clone());
             r
         })
         .collect();
     let mut mat_cols = vec!["Material".to_string(), "Class".into(), "Model".into()];
     mat_cols.extend(svc_ids.iter().map(|s| format!("{s} dB")));
+    mat_cols.push("Site probe dB".into());
     mat_cols.push("Confidence".into());
     let floors: Vec<Vec<String>> = site
         .floors

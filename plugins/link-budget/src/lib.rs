@@ -79,11 +79,14 @@ impl Plugin for LinkBudgetPlugin {
         }
     }
     fn after(&self) -> Vec<String> {
-        vec!["free-space".into(), "multi-wall".into()]
+        vec!["free-space".into(), "multi-wall".into(), "calibration".into()]
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
-        let model = ctx.option_str("model", &site.prediction.model)?;
+        // Grade the calibrated prediction when the calibration plugin made one, unless the
+        // site names a model for this plugin.
+        let default_model = if ctx.layers_of("calibrated").is_empty() { site.prediction.model.clone() } else { "calibrated".to_string() };
+        let model = ctx.option_str("model", &default_model)?;
         let mut layers = ctx.layers_of(&model);
         let mut out = PluginOutput::default();
         if layers.is_empty() && !site.transmitters.is_empty() {
