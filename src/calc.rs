@@ -21,6 +21,7 @@ pub struct Args {
 #[derive(clap::Subcommand)]
 pub enum What {
     /// Free-space loss, ITU-R P.525.
+    #[command(allow_negative_numbers = true)]
     Fspl {
         #[arg(long)]
         freq_mhz: f64,
@@ -28,6 +29,7 @@ pub enum What {
         distance_m: f64,
     },
     /// Loss and reflection of one material, ITU-R P.2040 or the empirical library.
+    #[command(allow_negative_numbers = true)]
     Material {
         #[arg(long)]
         material: String,
@@ -41,6 +43,7 @@ pub enum What {
         polarization: String,
     },
     /// Building entry loss, ITU-R P.2109.
+    #[command(allow_negative_numbers = true)]
     Bel {
         #[arg(long)]
         freq_mhz: f64,
@@ -52,6 +55,7 @@ pub enum What {
         elevation_deg: f64,
     },
     /// Standing wave in front of a reflector.
+    #[command(allow_negative_numbers = true)]
     StandingWave {
         #[arg(long)]
         material: String,
@@ -63,6 +67,7 @@ pub enum What {
         max_distance_m: f64,
     },
     /// Compliance distance from EIRP against an exposure limit.
+    #[command(allow_negative_numbers = true)]
     Exposure {
         #[arg(long)]
         eirp_w: f64,
@@ -72,6 +77,7 @@ pub enum What {
         limit: String,
     },
     /// Field strength from received power (isotropic antenna).
+    #[command(allow_negative_numbers = true)]
     FieldStrength {
         #[arg(long)]
         dbm: f64,
@@ -79,6 +85,7 @@ pub enum What {
         freq_mhz: f64,
     },
     /// Fraction of a cell area above threshold (Jakes, after Reudink).
+    #[command(allow_negative_numbers = true)]
     AreaCoverage {
         #[arg(long)]
         sigma_db: f64,
@@ -88,6 +95,7 @@ pub enum What {
         edge_probability: f64,
     },
     /// Indoor site-general loss, ITU-R P.1238.
+    #[command(allow_negative_numbers = true)]
     Indoor {
         #[arg(long)]
         freq_mhz: f64,
@@ -99,6 +107,7 @@ pub enum What {
         environment: String,
     },
     /// COST 231 multi-wall loss.
+    #[command(allow_negative_numbers = true)]
     Multiwall {
         #[arg(long)]
         freq_mhz: f64,
@@ -115,6 +124,7 @@ pub enum What {
         b: f64,
     },
     /// 3GPP TR 38.901 sector element gain.
+    #[command(allow_negative_numbers = true)]
     Pattern {
         /// Zenith angle, degrees (90 = horizon).
         #[arg(long, default_value_t = 90.0)]

@@ -26,9 +26,20 @@ impl LoadError {
     /// The problems as `file:line:column: message` lines (a located problem per line).
     pub fn lines(&self) -> Vec<String> {
         match self {
-            LoadError::BadInput(d, text) if d.is_empty() => text.lines().next().map(|l| vec![l.to_string()]).unwrap_or_default(),
-            LoadError::BadInput(d, _) => d.iter().map(|x| format!("{}:{}:{}: {}", x.file, x.line, x.column, x.message)).collect(),
-            LoadError::Failed(m) => m.lines().next().map(|l| vec![l.to_string()]).unwrap_or_default(),
+            LoadError::BadInput(d, text) if d.is_empty() => text
+                .lines()
+                .next()
+                .map(|l| vec![l.to_string()])
+                .unwrap_or_default(),
+            LoadError::BadInput(d, _) => d
+                .iter()
+                .map(|x| format!("{}:{}:{}: {}", x.file, x.line, x.column, x.message))
+                .collect(),
+            LoadError::Failed(m) => m
+                .lines()
+                .next()
+                .map(|l| vec![l.to_string()])
+                .unwrap_or_default(),
         }
     }
 }
@@ -41,8 +52,19 @@ pub fn load_quiet(site: &std::path::Path) -> Result<(World, LoadedSite), LoadErr
         Err(EngineError::BadInput(d)) => {
             let mut items = d.items.clone();
             items.sort_by_key(|x| x.severity);
-            let text = format!("{}{} error(s), {} warning(s)", d.items.iter().map(|x| x.to_string()).collect::<String>(), d.error_count(), d.warning_count());
-            Err(LoadError::BadInput(items.into_iter().filter(|x| x.severity == rfsite_model::Severity::Error).collect(), text))
+            let text = format!(
+                "{}{} error(s), {} warning(s)",
+                d.items.iter().map(|x| x.to_string()).collect::<String>(),
+                d.error_count(),
+                d.warning_count()
+            );
+            Err(LoadError::BadInput(
+                items
+                    .into_iter()
+                    .filter(|x| x.severity == rfsite_model::Severity::Error)
+                    .collect(),
+                text,
+            ))
         }
         Err(e) => Err(LoadError::Failed(e.to_string())),
     }

@@ -34,9 +34,11 @@ pub fn run(a: Args) -> Outcome {
                 Ok(x) => x,
                 Err(o) => return o,
             };
-            crate::report::registry_for(&world, &loaded, &settings).map(|(r, s)| (r, s, Some(loaded.site)))
+            crate::report::registry_for(&world, &loaded, &settings)
+                .map(|(r, s)| (r, s, Some(loaded.site)))
         }
-        None => Registry::with_external(settings.plugin_folder.clone()).map(|r| (r, settings.plugin_folder.clone(), None)),
+        None => Registry::with_external(settings.plugin_folder.clone())
+            .map(|r| (r, settings.plugin_folder.clone(), None)),
     };
     let (reg, specs, site) = match built {
         Ok(x) => x,
@@ -54,7 +56,13 @@ pub fn run(a: Args) -> Outcome {
     };
     let spec_of = |id: &str| specs.iter().find(|s| s.id == id);
     let enabled = |id: &str| {
-        site.as_ref().is_none_or(|s| s.plugin_options.get(id).and_then(|t| t.get("enabled")).and_then(|v| v.as_bool()).unwrap_or(true))
+        site.as_ref().is_none_or(|s| {
+            s.plugin_options
+                .get(id)
+                .and_then(|t| t.get("enabled"))
+                .and_then(|v| v.as_bool())
+                .unwrap_or(true)
+        })
     };
     if a.json {
         let v: Vec<_> = ordered
@@ -75,8 +83,18 @@ pub fn run(a: Args) -> Outcome {
     }
     for (i, p) in ordered.iter().enumerate() {
         let m = p.method();
-        let off = if enabled(p.id()) { "" } else { ", disabled by the site" };
-        println!("{}. {} {} ({}{off})", i + 1, p.id(), p.version(), reg.kind_of(p.id()));
+        let off = if enabled(p.id()) {
+            ""
+        } else {
+            ", disabled by the site"
+        };
+        println!(
+            "{}. {} {} ({}{off})",
+            i + 1,
+            p.id(),
+            p.version(),
+            reg.kind_of(p.id())
+        );
         println!("   {}", m.summary);
         for c in m.citations {
             println!("   source: {c}");

@@ -83,9 +83,17 @@ pub struct Shard {
 }
 
 fn parse_shard(s: &str) -> Result<Shard, String> {
-    let (k, n) = s.split_once('/').ok_or("write the shard as K/N, e.g. 2/8")?;
-    let k: u64 = k.trim().parse().map_err(|_| format!("`{k}` is not a number"))?;
-    let n: u64 = n.trim().parse().map_err(|_| format!("`{n}` is not a number"))?;
+    let (k, n) = s
+        .split_once('/')
+        .ok_or("write the shard as K/N, e.g. 2/8")?;
+    let k: u64 = k
+        .trim()
+        .parse()
+        .map_err(|_| format!("`{k}` is not a number"))?;
+    let n: u64 = n
+        .trim()
+        .parse()
+        .map_err(|_| format!("`{n}` is not a number"))?;
     if n == 0 || k == 0 || k > n {
         return Err(format!("shard {k}/{n}: K runs from 1 to N"));
     }
@@ -235,7 +243,10 @@ pub struct Portfolio {
 impl Portfolio {
     fn new(mut sites: Vec<SiteEntry>, shard: Option<Shard>) -> Portfolio {
         sites.sort_by(|a, b| a.path.cmp(&b.path));
-        let mut t = Totals { sites: sites.len(), ..Default::default() };
+        let mut t = Totals {
+            sites: sites.len(),
+            ..Default::default()
+        };
         let mut ranking = Vec::new();
         for s in &sites {
             match (s.status.as_str(), s.verdict.as_deref()) {
@@ -259,7 +270,10 @@ impl Portfolio {
         ranking.sort_by(|a, b| {
             b.margin_needed_db
                 .total_cmp(&a.margin_needed_db)
-                .then(a.predicted_area_fraction.total_cmp(&b.predicted_area_fraction))
+                .then(
+                    a.predicted_area_fraction
+                        .total_cmp(&b.predicted_area_fraction),
+                )
                 .then_with(|| (&a.site, &a.service, &a.floor).cmp(&(&b.site, &b.service, &b.floor)))
         });
         Portfolio {
@@ -288,7 +302,10 @@ fn num(v: &Value, k: &str) -> f64 {
 }
 
 fn text(v: &Value, k: &str) -> String {
-    v.get(k).and_then(Value::as_str).unwrap_or_default().to_string()
+    v.get(k)
+        .and_then(Value::as_str)
+        .unwrap_or_default()
+        .to_string()
 }
 
 /// The summary entry of a site that ran, from its findings.json.
@@ -308,11 +325,17 @@ pub fn entry_from_findings(path: &str, output: &str, f: &Value) -> SiteEntry {
                     id: text(fl, "id"),
                     predicted_area_fraction: num(fl, "predicted_area_fraction"),
                     pass: fl["pass"].as_bool().unwrap_or(false),
-                    margin_needed_db: fl.get("margin_needed_db").and_then(Value::as_f64).unwrap_or(0.0),
+                    margin_needed_db: fl
+                        .get("margin_needed_db")
+                        .and_then(Value::as_f64)
+                        .unwrap_or(0.0),
                 })
                 .collect();
             let worst = floors.iter().min_by(|a, b| {
-                a.predicted_area_fraction.total_cmp(&b.predicted_area_fraction).then(b.margin_needed_db.total_cmp(&a.margin_needed_db)).then_with(|| a.id.cmp(&b.id))
+                a.predicted_area_fraction
+                    .total_cmp(&b.predicted_area_fraction)
+                    .then(b.margin_needed_db.total_cmp(&a.margin_needed_db))
+                    .then_with(|| a.id.cmp(&b.id))
             });
             ServiceEntry {
                 id: text(s, "id"),
@@ -322,13 +345,20 @@ pub fn entry_from_findings(path: &str, output: &str, f: &Value) -> SiteEntry {
                 pass: s["pass"].as_bool().unwrap_or(false),
                 worst_floor: worst.map(|w| w.id.clone()),
                 worst_area_fraction: worst.map(|w| w.predicted_area_fraction),
-                margin_needed_db: floors.iter().map(|f| f.margin_needed_db).fold(0.0, f64::max),
+                margin_needed_db: floors
+                    .iter()
+                    .map(|f| f.margin_needed_db)
+                    .fold(0.0, f64::max),
                 floors,
             }
         })
         .collect();
     let mut counts = Counts::default();
-    for x in f["findings"].as_array().map(|a| a.as_slice()).unwrap_or_default() {
+    for x in f["findings"]
+        .as_array()
+        .map(|a| a.as_slice())
+        .unwrap_or_default()
+    {
         match x["severity"].as_str() {
             Some("critical") => counts.critical += 1,
             Some("major") => counts.major += 1,
@@ -342,7 +372,14 @@ pub fn entry_from_findings(path: &str, output: &str, f: &Value) -> SiteEntry {
         name: Some(text(&f["site"], "name")),
         status: "ok".into(),
         output: Some(output.to_string()),
-        verdict: Some(if services.iter().all(|s| s.pass) { "pass" } else { "fail" }.into()),
+        verdict: Some(
+            if services.iter().all(|s| s.pass) {
+                "pass"
+            } else {
+                "fail"
+            }
+            .into(),
+        ),
         services,
         findings: counts,
         warnings: f["warnings"].as_array().map(Vec::len).unwrap_or(0),
@@ -350,7 +387,13 @@ pub fn entry_from_findings(path: &str, output: &str, f: &Value) -> SiteEntry {
     }
 }
 
-fn failed_entry(path: &str, id: Option<String>, name: Option<String>, status: &str, problems: Vec<String>) -> SiteEntry {
+fn failed_entry(
+    path: &str,
+    id: Option<String>,
+    name: Option<String>,
+    status: &str,
+    problems: Vec<String>,
+) -> SiteEntry {
     SiteEntry {
         path: path.to_string(),
         id,
@@ -373,25 +416,37 @@ pub fn discover(dir: &Path, skip: Option<&Path>) -> (Vec<(String, PathBuf)>, Vec
     let skip = skip.and_then(|p| p.canonicalize().ok());
     let mut sites = Vec::new();
     let mut notes = Vec::new();
-    let walk = walkdir::WalkDir::new(dir).follow_links(false).sort_by_file_name().into_iter().filter_entry(|e| {
-        if e.depth() == 0 || !e.file_type().is_dir() {
-            return true;
-        }
-        let name = e.file_name().to_string_lossy();
-        if name.starts_with('.') || name == "out" {
-            return false;
-        }
-        let p = e.path();
-        if p.join("findings.json").exists() || p.join(OUTPUT_MARKER).exists() {
-            return false;
-        }
-        !(skip.is_some() && p.canonicalize().ok() == skip)
-    });
+    let walk = walkdir::WalkDir::new(dir)
+        .follow_links(false)
+        .sort_by_file_name()
+        .into_iter()
+        .filter_entry(|e| {
+            if e.depth() == 0 || !e.file_type().is_dir() {
+                return true;
+            }
+            let name = e.file_name().to_string_lossy();
+            if name.starts_with('.') || name == "out" {
+                return false;
+            }
+            let p = e.path();
+            if p.join("findings.json").exists() || p.join(OUTPUT_MARKER).exists() {
+                return false;
+            }
+            !(skip.is_some() && p.canonicalize().ok() == skip)
+        });
     for e in walk {
         match e {
             Ok(e) if e.file_type().is_file() && e.file_name() == "site.toml" => {
                 let folder = e.path().parent().unwrap_or(dir).to_path_buf();
-                let rel = folder.strip_prefix(dir).map(|r| r.components().map(|c| c.as_os_str().to_string_lossy().to_string()).collect::<Vec<_>>().join("/")).unwrap_or_default();
+                let rel = folder
+                    .strip_prefix(dir)
+                    .map(|r| {
+                        r.components()
+                            .map(|c| c.as_os_str().to_string_lossy().to_string())
+                            .collect::<Vec<_>>()
+                            .join("/")
+                    })
+                    .unwrap_or_default();
                 sites.push((if rel.is_empty() { ".".into() } else { rel }, folder));
             }
             Ok(_) => {}
@@ -416,7 +471,12 @@ fn pool<T: Sync, R: Send>(jobs: usize, items: &[T], f: impl Fn(&T) -> R + Sync) 
             });
         }
     });
-    results.into_inner().unwrap_or_else(|e| e.into_inner()).into_iter().flatten().collect()
+    results
+        .into_inner()
+        .unwrap_or_else(|e| e.into_inner())
+        .into_iter()
+        .flatten()
+        .collect()
 }
 
 /// The progress line on stderr: drawn only when stderr is a terminal.
@@ -444,10 +504,27 @@ impl Progress {
         }
         let done = self.done.load(Ordering::SeqCst);
         let el = self.t0.elapsed();
-        let eta = if done > 0 { hms(el.mul_f64((self.total - done) as f64 / done as f64)) } else { "?".into() };
-        let cur = self.running.lock().map(|r| r.iter().cloned().collect::<Vec<_>>().join(", ")).unwrap_or_default();
-        let mut line = format!("{done}/{} sites, elapsed {}, remaining ~{eta}; running: {cur}", self.total, hms(el));
-        line.truncate(line.char_indices().nth(150).map(|(i, _)| i).unwrap_or(line.len()));
+        let eta = if done > 0 {
+            hms(el.mul_f64((self.total - done) as f64 / done as f64))
+        } else {
+            "?".into()
+        };
+        let cur = self
+            .running
+            .lock()
+            .map(|r| r.iter().cloned().collect::<Vec<_>>().join(", "))
+            .unwrap_or_default();
+        let mut line = format!(
+            "{done}/{} sites, elapsed {}, remaining ~{eta}; running: {cur}",
+            self.total,
+            hms(el)
+        );
+        line.truncate(
+            line.char_indices()
+                .nth(150)
+                .map(|(i, _)| i)
+                .unwrap_or(line.len()),
+        );
         let mut e = std::io::stderr().lock();
         let _ = write!(e, "\r\x1b[2K{line}");
         let _ = e.flush();
@@ -511,7 +588,14 @@ pub fn run(a: Args) -> Outcome {
     if let Some(sh) = a.shard {
         sites.retain(|(rel, _)| sh.holds(rel));
     }
-    let jobs = a.jobs.unwrap_or_else(|| std::thread::available_parallelism().map(|n| n.get()).unwrap_or(1)).max(1);
+    let jobs = a
+        .jobs
+        .unwrap_or_else(|| {
+            std::thread::available_parallelism()
+                .map(|n| n.get())
+                .unwrap_or(1)
+        })
+        .max(1);
     let t0 = Instant::now();
 
     // Phase one: load every site (cheap) to learn its id, so that two sites claiming one
@@ -519,7 +603,11 @@ pub fn run(a: Args) -> Outcome {
     let probes = pool(jobs, &sites, |(rel, folder)| match load_quiet(folder) {
         Ok((_, l)) => Probe::Id(l.site.meta.id.clone(), l.site.meta.name.clone()),
         Err(e) => {
-            let status = if matches!(e, LoadError::BadInput(..)) { "bad-input" } else { "failed" };
+            let status = if matches!(e, LoadError::BadInput(..)) {
+                "bad-input"
+            } else {
+                "failed"
+            };
             Probe::Bad(failed_entry(rel, None, None, status, e.lines()))
         }
     });
@@ -545,7 +633,13 @@ pub fn run(a: Args) -> Outcome {
         }
     }
 
-    let progress = Progress { tty: std::io::stderr().is_terminal(), total: todo.len(), done: AtomicUsize::new(0), running: Mutex::new(BTreeSet::new()), t0 };
+    let progress = Progress {
+        tty: std::io::stderr().is_terminal(),
+        total: todo.len(),
+        done: AtomicUsize::new(0),
+        running: Mutex::new(BTreeSet::new()),
+        t0,
+    };
     let skipped = AtomicUsize::new(0);
     let stop = std::sync::atomic::AtomicBool::new(false);
     let ran: Vec<SiteEntry> = std::thread::scope(|s| {
@@ -570,9 +664,18 @@ pub fn run(a: Args) -> Outcome {
                 skipped.fetch_add(1, Ordering::SeqCst);
             }
             let line = match (entry.status.as_str(), reused) {
-                ("ok", true) => format!("unchanged {rel} ({id}): {} — kept the earlier outputs", entry.verdict.as_deref().unwrap_or("")),
-                ("ok", false) => format!("done      {rel} ({id}): {}", entry.verdict.as_deref().unwrap_or("")),
-                (st, _) => format!("{st:<9} {rel} ({id}): {}", entry.problems.first().map(String::as_str).unwrap_or("")),
+                ("ok", true) => format!(
+                    "unchanged {rel} ({id}): {} — kept the earlier outputs",
+                    entry.verdict.as_deref().unwrap_or("")
+                ),
+                ("ok", false) => format!(
+                    "done      {rel} ({id}): {}",
+                    entry.verdict.as_deref().unwrap_or("")
+                ),
+                (st, _) => format!(
+                    "{st:<9} {rel} ({id}): {}",
+                    entry.problems.first().map(String::as_str).unwrap_or("")
+                ),
             };
             progress.say(&line);
             r_evict();
@@ -588,7 +691,14 @@ pub fn run(a: Args) -> Outcome {
         eprintln!("error: {e}");
         return Outcome::Failed;
     }
-    report_totals(&p, &out, found, skipped.load(Ordering::SeqCst), t0.elapsed(), jobs);
+    report_totals(
+        &p,
+        &out,
+        found,
+        skipped.load(Ordering::SeqCst),
+        t0.elapsed(),
+        jobs,
+    );
     p.outcome()
 }
 
@@ -597,32 +707,77 @@ fn r_evict() {
 }
 
 /// Whether OUT/<id> holds the outputs of exactly these inputs, settings and rfsite version.
-fn unchanged(site_out: &Path, inputs: &[rfsite_plugin::InputFile], fingerprint: &str) -> Option<Value> {
-    let f: Value = serde_json::from_slice(&std::fs::read(site_out.join("findings.json")).ok()?).ok()?;
-    let m: Value = serde_json::from_slice(&std::fs::read(site_out.join(OUTPUT_MARKER)).ok()?).ok()?;
-    let old_inputs: Vec<rfsite_plugin::InputFile> = serde_json::from_value(f.get("inputs")?.clone()).ok()?;
-    let same = f["tool"]["version"] == rfsite_engine::VERSION && m["tool_version"] == rfsite_engine::VERSION && m["settings_sha256"] == fingerprint && old_inputs == inputs && site_out.join("report.pdf").is_file();
+fn unchanged(
+    site_out: &Path,
+    inputs: &[rfsite_plugin::InputFile],
+    fingerprint: &str,
+) -> Option<Value> {
+    let f: Value =
+        serde_json::from_slice(&std::fs::read(site_out.join("findings.json")).ok()?).ok()?;
+    let m: Value =
+        serde_json::from_slice(&std::fs::read(site_out.join(OUTPUT_MARKER)).ok()?).ok()?;
+    let old_inputs: Vec<rfsite_plugin::InputFile> =
+        serde_json::from_value(f.get("inputs")?.clone()).ok()?;
+    let same = f["tool"]["version"] == rfsite_engine::VERSION
+        && m["tool_version"] == rfsite_engine::VERSION
+        && m["settings_sha256"] == fingerprint
+        && old_inputs == inputs
+        && site_out.join("report.pdf").is_file();
     same.then_some(f)
 }
 
 /// Runs one site into OUT/<id>; returns its entry and whether the earlier outputs were kept.
-fn run_one(rel: &str, folder: &Path, id: &str, out: &Path, settings: &Settings, force: bool) -> (SiteEntry, bool) {
+fn run_one(
+    rel: &str,
+    folder: &Path,
+    id: &str,
+    out: &Path,
+    settings: &Settings,
+    force: bool,
+) -> (SiteEntry, bool) {
     let (world, loaded) = match load_quiet(folder) {
         Ok(x) => x,
         Err(e) => {
-            let status = if matches!(e, LoadError::BadInput(..)) { "bad-input" } else { "failed" };
-            return (failed_entry(rel, Some(id.into()), None, status, e.lines()), false);
+            let status = if matches!(e, LoadError::BadInput(..)) {
+                "bad-input"
+            } else {
+                "failed"
+            };
+            return (
+                failed_entry(rel, Some(id.into()), None, status, e.lines()),
+                false,
+            );
         }
     };
     let name = loaded.site.meta.name.clone();
     let site_out = out.join(id);
-    if site_out.canonicalize().ok().is_some_and(|c| Some(c) == world.root.canonicalize().ok()) {
-        return (failed_entry(rel, Some(id.into()), Some(name), "failed", vec![format!("{}: the output folder would be the site folder itself; choose another -o", rfsite_engine::world::display_path(&site_out))]), false);
+    if site_out
+        .canonicalize()
+        .ok()
+        .is_some_and(|c| Some(c) == world.root.canonicalize().ok())
+    {
+        return (
+            failed_entry(
+                rel,
+                Some(id.into()),
+                Some(name),
+                "failed",
+                vec![format!(
+                    "{}: the output folder would be the site folder itself; choose another -o",
+                    rfsite_engine::world::display_path(&site_out)
+                )],
+            ),
+            false,
+        );
     }
     if !force {
         let specs = report::registry_for(&world, &loaded, settings).map(|(_, s)| s);
         if let Ok(specs) = specs {
-            if let Some(f) = unchanged(&site_out, &world.inputs(), &report::fingerprint(settings, &specs)) {
+            if let Some(f) = unchanged(
+                &site_out,
+                &world.inputs(),
+                &report::fingerprint(settings, &specs),
+            ) {
                 return (entry_from_findings(rel, id, &f), true);
             }
         }
@@ -632,16 +787,46 @@ fn run_one(rel: &str, folder: &Path, id: &str, out: &Path, settings: &Settings, 
             let f: Value = serde_json::from_str(&done.findings_json).unwrap_or(Value::Null);
             (entry_from_findings(rel, id, &f), false)
         }
-        Err(SiteError::BadInput(p)) => (failed_entry(rel, Some(id.into()), Some(name), "bad-input", p), false),
-        Err(SiteError::Failed(m)) => (failed_entry(rel, Some(id.into()), Some(name), "failed", m.lines().map(str::to_string).filter(|l| !l.trim().is_empty()).collect()), false),
+        Err(SiteError::BadInput(p)) => (
+            failed_entry(rel, Some(id.into()), Some(name), "bad-input", p),
+            false,
+        ),
+        Err(SiteError::Failed(m)) => (
+            failed_entry(
+                rel,
+                Some(id.into()),
+                Some(name),
+                "failed",
+                m.lines()
+                    .map(str::to_string)
+                    .filter(|l| !l.trim().is_empty())
+                    .collect(),
+            ),
+            false,
+        ),
     }
 }
 
-fn report_totals(p: &Portfolio, out: &Path, found: usize, skipped: usize, took: Duration, jobs: usize) {
+fn report_totals(
+    p: &Portfolio,
+    out: &Path,
+    found: usize,
+    skipped: usize,
+    took: Duration,
+    jobs: usize,
+) {
     let t = &p.totals;
-    let shard = p.shard.as_ref().map(|s| format!(" (shard {s} of {found} found)")).unwrap_or_default();
+    let shard = p
+        .shard
+        .as_ref()
+        .map(|s| format!(" (shard {s} of {found} found)"))
+        .unwrap_or_default();
     let ran = t.sites - t.bad_input - t.failed;
-    let rate = if took.as_secs_f64() > 0.0 { 60.0 * t.sites as f64 / took.as_secs_f64() } else { 0.0 };
+    let rate = if took.as_secs_f64() > 0.0 {
+        60.0 * t.sites as f64 / took.as_secs_f64()
+    } else {
+        0.0
+    };
     println!(
         "portfolio: {} site(s){shard}: {} pass, {} fail, {} bad input, {} failed to run; {} unchanged and kept; {:.1} s with {jobs} job(s), {rate:.1} sites/min",
         t.sites,
@@ -658,13 +843,32 @@ fn report_totals(p: &Portfolio, out: &Path, found: usize, skipped: usize, took: 
             eprintln!("  {l}");
         }
     }
-    println!("portfolio: wrote {}/portfolio.pdf, portfolio.json and portfolio.csv", out.display());
+    println!(
+        "portfolio: wrote {}/portfolio.pdf, portfolio.json and portfolio.csv",
+        out.display()
+    );
 }
 
 fn csv_bytes(p: &Portfolio) -> Result<Vec<u8>, String> {
     let mut w = csv::Writer::from_writer(Vec::new());
     let e = |e: csv::Error| e.to_string();
-    w.write_record(["path", "site_id", "site_name", "status", "site_verdict", "service", "service_verdict", "worst_floor", "worst_area_fraction", "margin_needed_db", "critical", "major", "minor", "problem"]).map_err(e)?;
+    w.write_record([
+        "path",
+        "site_id",
+        "site_name",
+        "status",
+        "site_verdict",
+        "service",
+        "service_verdict",
+        "worst_floor",
+        "worst_area_fraction",
+        "margin_needed_db",
+        "critical",
+        "major",
+        "minor",
+        "problem",
+    ])
+    .map_err(e)?;
     for s in &p.sites {
         let base = |service: &str, sv: &str, wf: &str, wa: String, m: String| -> Vec<String> {
             vec![
@@ -685,14 +889,17 @@ fn csv_bytes(p: &Portfolio) -> Result<Vec<u8>, String> {
             ]
         };
         if s.services.is_empty() {
-            w.write_record(base("", "", "", String::new(), String::new())).map_err(e)?;
+            w.write_record(base("", "", "", String::new(), String::new()))
+                .map_err(e)?;
         }
         for sv in &s.services {
             let rec = base(
                 &sv.id,
                 if sv.pass { "pass" } else { "fail" },
                 sv.worst_floor.as_deref().unwrap_or(""),
-                sv.worst_area_fraction.map(|x| format!("{x:.4}")).unwrap_or_default(),
+                sv.worst_area_fraction
+                    .map(|x| format!("{x:.4}"))
+                    .unwrap_or_default(),
                 format!("{:.1}", sv.margin_needed_db),
             );
             w.write_record(rec).map_err(e)?;
@@ -702,13 +909,21 @@ fn csv_bytes(p: &Portfolio) -> Result<Vec<u8>, String> {
 }
 
 fn pct(x: Option<f64>) -> String {
-    x.filter(|v| v.is_finite()).map(|v| format!("{:.1} %", 100.0 * v)).unwrap_or_else(|| "n/a".into())
+    x.filter(|v| v.is_finite())
+        .map(|v| format!("{:.1} %", 100.0 * v))
+        .unwrap_or_else(|| "n/a".into())
 }
 
 /// The summary PDF's view model: every number formatted here, none in the template.
 fn pdf_view(p: &Portfolio) -> Value {
     let t = &p.totals;
-    let label = |s: &SiteEntry| s.name.clone().filter(|n| !n.is_empty()).or_else(|| s.id.clone()).unwrap_or_else(|| s.path.clone());
+    let label = |s: &SiteEntry| {
+        s.name
+            .clone()
+            .filter(|n| !n.is_empty())
+            .or_else(|| s.id.clone())
+            .unwrap_or_else(|| s.path.clone())
+    };
     let mut verdict_rows = Vec::new();
     let mut site_rows = Vec::new();
     let mut failed_rows = Vec::new();
@@ -728,22 +943,52 @@ fn pdf_view(p: &Portfolio) -> Value {
             site_rows.push(vec![
                 label(s),
                 s.path.clone(),
-                if s.verdict.as_deref() == Some("pass") { "PASS" } else { "FAIL" }.to_string(),
+                if s.verdict.as_deref() == Some("pass") {
+                    "PASS"
+                } else {
+                    "FAIL"
+                }
+                .to_string(),
                 s.findings.critical.to_string(),
                 s.findings.major.to_string(),
                 s.findings.minor.to_string(),
                 s.warnings.to_string(),
             ]);
         } else {
-            failed_rows.push(vec![s.path.clone(), if s.status == "bad-input" { "bad input" } else { "failed" }.to_string(), s.problems.join("\n")]);
+            failed_rows.push(vec![
+                s.path.clone(),
+                if s.status == "bad-input" {
+                    "bad input"
+                } else {
+                    "failed"
+                }
+                .to_string(),
+                s.problems.join("\n"),
+            ]);
         }
     }
-    let names: BTreeMap<&str, String> = p.sites.iter().filter_map(|s| s.id.as_deref().map(|i| (i, label(s)))).collect();
+    let names: BTreeMap<&str, String> = p
+        .sites
+        .iter()
+        .filter_map(|s| s.id.as_deref().map(|i| (i, label(s))))
+        .collect();
     let ranking_rows: Vec<Vec<String>> = p
         .shortfall_ranking
         .iter()
         .enumerate()
-        .map(|(i, r)| vec![(i + 1).to_string(), names.get(r.site.as_str()).cloned().unwrap_or_else(|| r.site.clone()), r.service.clone(), r.floor.clone(), format!("{:.1} dB", r.margin_needed_db), pct(Some(r.predicted_area_fraction))])
+        .map(|(i, r)| {
+            vec![
+                (i + 1).to_string(),
+                names
+                    .get(r.site.as_str())
+                    .cloned()
+                    .unwrap_or_else(|| r.site.clone()),
+                r.service.clone(),
+                r.floor.clone(),
+                format!("{:.1} dB", r.margin_needed_db),
+                pct(Some(r.predicted_area_fraction)),
+            ]
+        })
         .collect();
     let tile = |value: usize, label: &str, bad: bool| serde_json::json!({"value": value.to_string(), "label": label, "bad": bad && value > 0});
     serde_json::json!({
@@ -763,19 +1008,40 @@ fn pdf_view(p: &Portfolio) -> Value {
 
 /// Writes portfolio.json, portfolio.csv and portfolio.pdf into `out`, atomically.
 fn write_summary(out: &Path, p: &Portfolio) -> Result<(), String> {
-    let json = format!("{}\n", serde_json::to_string_pretty(p).map_err(|e| e.to_string())?);
+    let json = format!(
+        "{}\n",
+        serde_json::to_string_pretty(p).map_err(|e| e.to_string())?
+    );
     let csv = csv_bytes(p)?;
-    let pdf = rfsite_report::portfolio::render_portfolio(&pdf_view(p)).map_err(|e| e.to_string())?;
-    rfsite_engine::world::write_atomic(out, &[("portfolio.json".into(), json.into_bytes()), ("portfolio.csv".into(), csv), ("portfolio.pdf".into(), pdf)])
+    let pdf =
+        rfsite_report::portfolio::render_portfolio(&pdf_view(p)).map_err(|e| e.to_string())?;
+    rfsite_engine::world::write_atomic(
+        out,
+        &[
+            ("portfolio.json".into(), json.into_bytes()),
+            ("portfolio.csv".into(), csv),
+            ("portfolio.pdf".into(), pdf),
+        ],
+    )
 }
 
 /// Reads a portfolio output's summary.
 fn read_portfolio(dir: &Path) -> Result<Portfolio, String> {
     let f = dir.join("portfolio.json");
-    let bytes = std::fs::read(&f).map_err(|e| format!("{}: {e}\n  = hint: merge takes the -o folders of `rfsite portfolio` runs", f.display()))?;
-    let p: Portfolio = serde_json::from_slice(&bytes).map_err(|e| format!("{}: not a portfolio summary: {e}", f.display()))?;
+    let bytes = std::fs::read(&f).map_err(|e| {
+        format!(
+            "{}: {e}\n  = hint: merge takes the -o folders of `rfsite portfolio` runs",
+            f.display()
+        )
+    })?;
+    let p: Portfolio = serde_json::from_slice(&bytes)
+        .map_err(|e| format!("{}: not a portfolio summary: {e}", f.display()))?;
     if p.schema != PORTFOLIO_SCHEMA {
-        return Err(format!("{}: schema `{}`, expected `{PORTFOLIO_SCHEMA}`", f.display(), p.schema));
+        return Err(format!(
+            "{}: schema `{}`, expected `{PORTFOLIO_SCHEMA}`",
+            f.display(),
+            p.schema
+        ));
     }
     Ok(p)
 }
@@ -795,7 +1061,11 @@ fn merge(m: MergeArgs) -> Outcome {
         };
         let v = p.tool["version"].as_str().unwrap_or_default().to_string();
         if version.get_or_insert(v.clone()) != &v {
-            eprintln!("warning: {} was written by rfsite {v}, another shard by {}", dir.display(), version.as_deref().unwrap_or_default());
+            eprintln!(
+                "warning: {} was written by rfsite {v}, another shard by {}",
+                dir.display(),
+                version.as_deref().unwrap_or_default()
+            );
         }
         for s in p.sites {
             if let Some(first) = from.get(&s.path) {
@@ -810,7 +1080,10 @@ fn merge(m: MergeArgs) -> Outcome {
     for s in sites.iter().filter(|s| s.output.is_some()) {
         let id = s.id.as_deref().unwrap_or_default();
         if let Some(other) = ids.insert(id, &s.path) {
-            eprintln!("error: sites `{other}` and `{}` share the id `{id}`; their outputs would collide", s.path);
+            eprintln!(
+                "error: sites `{other}` and `{}` share the id `{id}`; their outputs would collide",
+                s.path
+            );
             return Outcome::BadInput;
         }
     }
@@ -820,7 +1093,9 @@ fn merge(m: MergeArgs) -> Outcome {
     }
     let dest = m.out.canonicalize().ok();
     for s in &sites {
-        let (Some(o), Some(src)) = (&s.output, from.get(&s.path)) else { continue };
+        let (Some(o), Some(src)) = (&s.output, from.get(&s.path)) else {
+            continue;
+        };
         if src.canonicalize().ok() == dest {
             continue;
         }

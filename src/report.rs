@@ -35,16 +35,27 @@ pub const OUTPUT_MARKER: &str = ".rfsite-output";
 pub fn load_template(dir: &Path) -> Result<Template, String> {
     let files = rfsite_engine::world::read_dir_files(dir)?;
     let text = |name: &str| -> Result<String, String> {
-        let b = files.get(name).ok_or_else(|| format!("{}: template folder has no {name}", dir.display()))?;
+        let b = files
+            .get(name)
+            .ok_or_else(|| format!("{}: template folder has no {name}", dir.display()))?;
         String::from_utf8(b.clone()).map_err(|_| format!("{}/{name} is not UTF-8", dir.display()))
     };
     let mut snippets = std::collections::BTreeMap::new();
     for (k, v) in &files {
-        if let Some(stem) = k.strip_prefix("snippets/").and_then(|s| s.strip_suffix(".hbs")) {
+        if let Some(stem) = k
+            .strip_prefix("snippets/")
+            .and_then(|s| s.strip_suffix(".hbs"))
+        {
             snippets.insert(stem.to_string(), String::from_utf8_lossy(v).to_string());
         }
     }
-    let t = Template::from_parts(&text("template.toml")?, &text("report.typ")?, snippets, files.clone()).map_err(|e| format!("{}: {e}", dir.display()))?;
+    let t = Template::from_parts(
+        &text("template.toml")?,
+        &text("report.typ")?,
+        snippets,
+        files.clone(),
+    )
+    .map_err(|e| format!("{}: {e}", dir.display()))?;
     Ok(t.with_default_snippets())
 }
 
@@ -64,7 +75,10 @@ pub fn load_settings(template: Option<&Path>, plugins: Option<&Path>) -> Result<
     let template = match template {
         Some(d) => {
             for (k, v) in rfsite_engine::world::read_dir_files(d)? {
-                fp.push_str(&format!("template/{k}={}\n", rfsite_engine::world::sha256_hex(&v)));
+                fp.push_str(&format!(
+                    "template/{k}={}\n",
+                    rfsite_engine::world::sha256_hex(&v)
+                ));
             }
             load_template(d)?
         }
@@ -81,18 +95,35 @@ pub fn load_settings(template: Option<&Path>, plugins: Option<&Path>) -> Result<
             }
         }
     }
-    Ok(Settings { template, plugin_folder, fingerprint: rfsite_engine::world::sha256_hex(fp.as_bytes()) })
+    Ok(Settings {
+        template,
+        plugin_folder,
+        fingerprint: rfsite_engine::world::sha256_hex(fp.as_bytes()),
+    })
 }
 
 /// The registry for one site: the built-ins, the folder's plugins and the site's own.
-pub fn registry_for(world: &World, loaded: &LoadedSite, settings: &Settings) -> Result<(Registry, Vec<ExternalSpec>), String> {
-    let specs = external::site_plugins(&loaded.site, &world.root, &world.display_site_path(), &settings.plugin_folder)?;
+pub fn registry_for(
+    world: &World,
+    loaded: &LoadedSite,
+    settings: &Settings,
+) -> Result<(Registry, Vec<ExternalSpec>), String> {
+    let specs = external::site_plugins(
+        &loaded.site,
+        &world.root,
+        &world.display_site_path(),
+        &settings.plugin_folder,
+    )?;
     Ok((Registry::with_external(specs.clone())?, specs))
 }
 
 /// The fingerprint of what, besides the site's input files, shapes a site's outputs.
 pub fn fingerprint(settings: &Settings, specs: &[ExternalSpec]) -> String {
-    let mut s = format!("rfsite {}\nsettings {}\n", rfsite_engine::VERSION, settings.fingerprint);
+    let mut s = format!(
+        "rfsite {}\nsettings {}\n",
+        rfsite_engine::VERSION,
+        settings.fingerprint
+    );
     for x in specs {
         s.push_str(&format!("plugin {} {}\n", x.id, x.fingerprint()));
     }
@@ -123,12 +154,25 @@ pub struct SiteDone {
 
 /// Runs the pipeline on a loaded site and writes OUT/report.pdf, findings.json, figures/ and
 /// the output marker, atomically.
-pub fn run_site(world: &World, loaded: &LoadedSite, settings: &Settings, out: &Path) -> Result<SiteDone, SiteError> {
-    let (registry, specs) = registry_for(world, loaded, settings).map_err(|e| SiteError::BadInput(vec![e]))?;
+pub fn run_site(
+    world: &World,
+    loaded: &LoadedSite,
+    settings: &Settings,
+    out: &Path,
+) -> Result<SiteDone, SiteError> {
+    let (registry, specs) =
+        registry_for(world, loaded, settings).map_err(|e| SiteError::BadInput(vec![e]))?;
     let t0 = Instant::now();
-    let assessment = rfsite_engine::run(loaded, &registry, world.inputs()).map_err(|e| SiteError::Failed(e.to_string()))?;
+    let assessment = rfsite_engine::run(loaded, &registry, world.inputs())
+        .map_err(|e| SiteError::Failed(e.to_string()))?;
     let predict = t0.elapsed();
-    let rendered = rfsite_report::render(&loaded.site, &assessment, &settings.template, &loaded.surveys.points).map_err(|e| SiteError::Failed(e.to_string()))?;
+    let rendered = rfsite_report::render(
+        &loaded.site,
+        &assessment,
+        &settings.template,
+        &loaded.surveys.points,
+    )
+    .map_err(|e| SiteError::Failed(e.to_string()))?;
     let findings = findings_json(&assessment);
     let marker = serde_json::json!({
         "schema": "rfsite-output/1",
@@ -139,14 +183,27 @@ pub fn run_site(world: &World, loaded: &LoadedSite, settings: &Settings, out: &P
     let mut files: Vec<(String, Vec<u8>)> = vec![
         ("report.pdf".into(), rendered.pdf),
         ("findings.json".into(), findings.clone().into_bytes()),
-        (OUTPUT_MARKER.into(), format!("{}\n", serde_json::to_string_pretty(&marker).unwrap_or_default()).into_bytes()),
+        (
+            OUTPUT_MARKER.into(),
+            format!(
+                "{}\n",
+                serde_json::to_string_pretty(&marker).unwrap_or_default()
+            )
+            .into_bytes(),
+        ),
     ];
     let figures = rendered.figures.len();
     for (name, svg) in rendered.figures {
         files.push((format!("figures/{name}"), svg.into_bytes()));
     }
     rfsite_engine::world::write_outputs(out, &files, world).map_err(SiteError::Failed)?;
-    Ok(SiteDone { assessment, findings_json: findings, figures, predict, render: t0.elapsed() - predict })
+    Ok(SiteDone {
+        assessment,
+        findings_json: findings,
+        figures,
+        predict,
+        render: t0.elapsed() - predict,
+    })
 }
 
 /// Runs `report`.
@@ -162,7 +219,10 @@ pub fn run(a: Args) -> Outcome {
         Ok(x) => x,
         Err(o) => return o,
     };
-    let out = a.out.clone().unwrap_or_else(|| PathBuf::from("out").join(&loaded.site.meta.id));
+    let out = a
+        .out
+        .clone()
+        .unwrap_or_else(|| PathBuf::from("out").join(&loaded.site.meta.id));
     match run_site(&world, &loaded, &settings, &out) {
         Ok(d) => {
             let fails = d.assessment.services.iter().filter(|s| !s.pass).count();

@@ -5,17 +5,31 @@ use std::path::Path;
 
 use crate::cli::util::{copy_dir, pdf_text, rfsite, root, texts};
 
-const GOOD: [&str; 4] = ["brindle-tower", "fenwick-clinic", "harrow-lane-office", "saltmarsh-depot"];
+const GOOD: [&str; 4] = [
+    "brindle-tower",
+    "fenwick-clinic",
+    "harrow-lane-office",
+    "saltmarsh-depot",
+];
 
 fn portfolio(dir: &Path, out: &Path, extra: &[&str]) -> (i32, String, String) {
-    let o = rfsite().current_dir(root()).arg("portfolio").arg(dir).arg("-o").arg(out).args(extra).output().unwrap();
+    let o = rfsite()
+        .current_dir(root())
+        .arg("portfolio")
+        .arg(dir)
+        .arg("-o")
+        .arg(out)
+        .args(extra)
+        .output()
+        .unwrap();
     let (so, se) = texts(&o);
     assert!(!se.contains("panicked"), "{se}");
     (o.status.code().unwrap_or(-1), so, se)
 }
 
 fn json(p: &Path) -> serde_json::Value {
-    serde_json::from_slice(&std::fs::read(p).unwrap_or_else(|e| panic!("{}: {e}", p.display()))).unwrap()
+    serde_json::from_slice(&std::fs::read(p).unwrap_or_else(|e| panic!("{}: {e}", p.display())))
+        .unwrap()
 }
 
 fn sorted_sites(p: &serde_json::Value) -> Vec<serde_json::Value> {
@@ -27,13 +41,20 @@ fn sorted_sites(p: &serde_json::Value) -> Vec<serde_json::Value> {
 #[test]
 fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
     let out = tempfile::tempdir().unwrap();
-    let (code, so, se) = portfolio(Path::new("examples/portfolio"), out.path(), &["--jobs", "2"]);
+    let (code, so, se) = portfolio(
+        Path::new("examples/portfolio"),
+        out.path(),
+        &["--jobs", "2"],
+    );
     assert_eq!(code, 2, "bad input in one site gives exit 2\n{so}\n{se}");
     for id in GOOD {
         let d = out.path().join(id);
         assert!(d.join("report.pdf").is_file(), "{id} has no report");
         assert_eq!(json(&d.join("findings.json"))["site"]["id"], id);
-        assert!(d.join("figures").read_dir().unwrap().count() >= 1, "{id} has no figures");
+        assert!(
+            d.join("figures").read_dir().unwrap().count() >= 1,
+            "{id} has no figures"
+        );
         assert!(d.join(".rfsite-output").is_file());
     }
     assert!(!out.path().join("larkspur-annex").exists());
@@ -43,23 +64,64 @@ fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
     assert_eq!(p["schema"], "rfsite-portfolio/1");
     assert_eq!(p["totals"]["sites"], 5);
     assert_eq!(p["totals"]["bad_input"], 1);
-    let broken = p["sites"].as_array().unwrap().iter().find(|s| s["path"] == "larkspur-annex").unwrap();
+    let broken = p["sites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["path"] == "larkspur-annex")
+        .unwrap();
     assert_eq!(broken["status"], "bad-input");
     assert_eq!(broken["problems"][0], where_);
     // Verdicts per site and service, and the ranking (the demo is built to fail here).
-    let clinic = p["sites"].as_array().unwrap().iter().find(|s| s["id"] == "fenwick-clinic").unwrap();
-    let ps = clinic["services"].as_array().unwrap().iter().find(|s| s["id"] == "ps700").unwrap();
+    let clinic = p["sites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["id"] == "fenwick-clinic")
+        .unwrap();
+    let ps = clinic["services"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["id"] == "ps700")
+        .unwrap();
     assert_eq!(ps["pass"], false);
     assert_eq!(ps["worst_floor"], "L1");
     let rank = p["shortfall_ranking"].as_array().unwrap();
     assert!(rank.len() >= 3);
-    assert!(rank.windows(2).all(|w| w[0]["margin_needed_db"].as_f64() >= w[1]["margin_needed_db"].as_f64()));
+    assert!(rank
+        .windows(2)
+        .all(|w| w[0]["margin_needed_db"].as_f64() >= w[1]["margin_needed_db"].as_f64()));
     let csv = std::fs::read_to_string(out.path().join("portfolio.csv")).unwrap();
-    assert!(csv.starts_with("path,site_id,site_name,status,site_verdict,service,"), "{csv}");
-    assert!(csv.lines().any(|l| l.starts_with("larkspur-annex,") && l.contains("bad-input") && l.contains("site.toml:21:12")), "{csv}");
-    assert!(csv.lines().any(|l| l.starts_with("fenwick-clinic,fenwick-clinic,Fenwick Street Clinic,ok,fail,ps700,fail,L1,")), "{csv}");
+    assert!(
+        csv.starts_with("path,site_id,site_name,status,site_verdict,service,"),
+        "{csv}"
+    );
+    assert!(
+        csv.lines().any(|l| l.starts_with("larkspur-annex,")
+            && l.contains("bad-input")
+            && l.contains("site.toml:21:12")),
+        "{csv}"
+    );
+    assert!(
+        csv.lines().any(|l| l.starts_with(
+            "fenwick-clinic,fenwick-clinic,Fenwick Street Clinic,ok,fail,ps700,fail,L1,"
+        )),
+        "{csv}"
+    );
     let text = pdf_text(&out.path().join("portfolio.pdf"));
-    for s in ["Portfolio coverage summary", "Verdict per site and service", "Shortfall ranking", "Sites that did not run", "larkspur-annex", "site.toml:21:12", "Fenwick Street Clinic", "Brindle Tower", "FAIL", "PASS"] {
+    for s in [
+        "Portfolio coverage summary",
+        "Verdict per site and service",
+        "Shortfall ranking",
+        "Sites that did not run",
+        "larkspur-annex",
+        "site.toml:21:12",
+        "Fenwick Street Clinic",
+        "Brindle Tower",
+        "FAIL",
+        "PASS",
+    ] {
         assert!(text.contains(s), "summary PDF lacks `{s}`");
     }
 }
@@ -72,7 +134,11 @@ fn shards_merged_give_the_summary_of_one_run() {
     let shards: Vec<tempfile::TempDir> = (0..3).map(|_| tempfile::tempdir().unwrap()).collect();
     let mut seen = 0;
     for (k, d) in shards.iter().enumerate() {
-        let (code, so, se) = portfolio(Path::new("examples/portfolio"), d.path(), &["--shard", &format!("{}/3", k + 1), "--jobs", "1"]);
+        let (code, so, se) = portfolio(
+            Path::new("examples/portfolio"),
+            d.path(),
+            &["--shard", &format!("{}/3", k + 1), "--jobs", "1"],
+        );
         assert!(code == 0 || code == 2, "{so}{se}");
         let p = json(&d.path().join("portfolio.json"));
         assert_eq!(p["shard"], format!("{}/3", k + 1));
@@ -80,18 +146,35 @@ fn shards_merged_give_the_summary_of_one_run() {
     }
     assert_eq!(seen, 5, "every site runs in exactly one shard");
     let merged = tempfile::tempdir().unwrap();
-    let o = rfsite().arg("portfolio").arg("merge").args(shards.iter().map(|d| d.path())).arg("-o").arg(merged.path()).output().unwrap();
+    let o = rfsite()
+        .arg("portfolio")
+        .arg("merge")
+        .args(shards.iter().map(|d| d.path()))
+        .arg("-o")
+        .arg(merged.path())
+        .output()
+        .unwrap();
     let (so, se) = texts(&o);
-    assert_eq!(o.status.code(), Some(2), "the merge keeps the broken site's exit code\n{so}{se}");
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "the merge keeps the broken site's exit code\n{so}{se}"
+    );
     let a = json(&whole.path().join("portfolio.json"));
     let m = json(&merged.path().join("portfolio.json"));
     assert_eq!(sorted_sites(&a), sorted_sites(&m));
     assert_eq!(a["totals"], m["totals"]);
     assert_eq!(a["shortfall_ranking"], m["shortfall_ranking"]);
-    assert_eq!(std::fs::read(whole.path().join("portfolio.csv")).unwrap(), std::fs::read(merged.path().join("portfolio.csv")).unwrap());
+    assert_eq!(
+        std::fs::read(whole.path().join("portfolio.csv")).unwrap(),
+        std::fs::read(merged.path().join("portfolio.csv")).unwrap()
+    );
     // The merged folder is a whole portfolio output: the site folders are copied into it.
     for id in GOOD {
-        assert!(merged.path().join(id).join("report.pdf").is_file(), "{id} not copied");
+        assert!(
+            merged.path().join(id).join("report.pdf").is_file(),
+            "{id} not copied"
+        );
     }
     assert!(merged.path().join("portfolio.pdf").is_file());
 }
@@ -100,8 +183,14 @@ fn shards_merged_give_the_summary_of_one_run() {
 fn a_second_run_skips_unchanged_sites_unless_forced() {
     let tmp = tempfile::tempdir().unwrap();
     let dir = tmp.path().join("sites");
-    copy_dir(&root().join("examples/portfolio/harrow-lane-office"), &dir.join("office"));
-    copy_dir(&root().join("examples/portfolio/saltmarsh-depot"), &dir.join("depot"));
+    copy_dir(
+        &root().join("examples/portfolio/harrow-lane-office"),
+        &dir.join("office"),
+    );
+    copy_dir(
+        &root().join("examples/portfolio/saltmarsh-depot"),
+        &dir.join("depot"),
+    );
     let out = tmp.path().join("out-pf");
     let (code, so, se) = portfolio(&dir, &out, &[]);
     assert_eq!(code, 0, "{so}{se}");
@@ -111,7 +200,11 @@ fn a_second_run_skips_unchanged_sites_unless_forced() {
     assert_eq!(code, 0, "{se}");
     assert!(so.contains("2 unchanged and kept"), "{so}");
     assert!(se.contains("unchanged office (harrow-lane-office)"), "{se}");
-    assert_eq!(first, std::fs::read(out.join("portfolio.json")).unwrap(), "a skipped site contributes what it did before");
+    assert_eq!(
+        first,
+        std::fs::read(out.join("portfolio.json")).unwrap(),
+        "a skipped site contributes what it did before"
+    );
     // An edited input runs again; the other site stays skipped.
     let f = dir.join("office/site.toml");
     let t = std::fs::read_to_string(&f).unwrap();
@@ -139,14 +232,25 @@ fn discovery_skips_hidden_output_folders_and_survives_symlink_loops() {
     let (code, so, se) = portfolio(&dir, &out, &[]);
     assert_eq!(code, 0, "{so}{se}");
     let p = json(&out.join("portfolio.json"));
-    let paths: Vec<&str> = p["sites"].as_array().unwrap().iter().map(|s| s["path"].as_str().unwrap()).collect();
+    let paths: Vec<&str> = p["sites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["path"].as_str().unwrap())
+        .collect();
     assert_eq!(paths, vec!["a/office"]);
     // Its own output below DIR is never taken for a site either.
     let (code, _, se) = portfolio(&dir, &dir.join("results"), &[]);
     assert_eq!(code, 0, "{se}");
-    assert_eq!(json(&dir.join("results/portfolio.json"))["totals"]["sites"], 1);
+    assert_eq!(
+        json(&dir.join("results/portfolio.json"))["totals"]["sites"],
+        1
+    );
     let (_, _, _) = portfolio(&dir, &dir.join("results"), &[]);
-    assert_eq!(json(&dir.join("results/portfolio.json"))["totals"]["sites"], 1);
+    assert_eq!(
+        json(&dir.join("results/portfolio.json"))["totals"]["sites"],
+        1
+    );
 }
 
 #[test]
@@ -158,23 +262,49 @@ fn two_sites_with_one_id_do_not_share_an_output_folder() {
     copy_dir(&office, &dir.join("b"));
     let (code, so, se) = portfolio(&dir, &tmp.path().join("o"), &[]);
     assert_eq!(code, 2, "{so}{se}");
-    assert!(se.contains("site id `harrow-lane-office` is also the id of `a`"), "{se}");
+    assert!(
+        se.contains("site id `harrow-lane-office` is also the id of `a`"),
+        "{se}"
+    );
 }
 
 #[test]
 fn a_failing_external_plugin_fails_only_its_site() {
     let tmp = tempfile::tempdir().unwrap();
     let dir = tmp.path().join("sites");
-    copy_dir(&root().join("examples/portfolio/harrow-lane-office"), &dir.join("good"));
+    copy_dir(
+        &root().join("examples/portfolio/harrow-lane-office"),
+        &dir.join("good"),
+    );
     let bad = dir.join("crashy");
     std::fs::create_dir_all(&bad).unwrap();
-    crate::cli::util::starter_site_with(&bad, &format!("[plugins.crashy]\ncommand = \"python3\"\nargs = [{:?}]\n", crate::cli::util::external_fixture("crash.py")));
+    crate::cli::util::starter_site_with(
+        &bad,
+        &format!(
+            "[plugins.crashy]\ncommand = \"python3\"\nargs = [{:?}]\n",
+            crate::cli::util::external_fixture("crash.py")
+        ),
+    );
     let out = tmp.path().join("o");
     let (code, so, se) = portfolio(&dir, &out, &[]);
-    assert_eq!(code, 1, "a run failure (not bad input) gives exit 1\n{so}{se}");
+    assert_eq!(
+        code, 1,
+        "a run failure (not bad input) gives exit 1\n{so}{se}"
+    );
     let p = json(&out.join("portfolio.json"));
-    let c = p["sites"].as_array().unwrap().iter().find(|s| s["path"] == "crashy").unwrap();
+    let c = p["sites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["path"] == "crashy")
+        .unwrap();
     assert_eq!(c["status"], "failed");
-    assert!(c["problems"][0].as_str().unwrap().contains("plugin `crashy` failed"), "{c}");
+    assert!(
+        c["problems"][0]
+            .as_str()
+            .unwrap()
+            .contains("plugin `crashy` failed"),
+        "{c}"
+    );
     assert!(out.join("harrow-lane-office/report.pdf").is_file());
 }

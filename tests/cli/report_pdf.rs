@@ -86,3 +86,23 @@ fn second_template_renders_and_looks_different() {
     assert!(tb.contains("Meridian & Vale Radio Engineering"));
     assert!(!ta.contains("Meridian & Vale"));
 }
+
+#[test]
+fn concrete_at_800_mhz_is_flagged_in_findings_and_report() {
+    // ITU-R P.2040-3 Table 3 fits concrete over 1–100 GHz: 800 MHz is outside.
+    let dir = tempfile::tempdir().unwrap();
+    let starter = std::fs::read_to_string(root().join("templates/starter/site.toml")).unwrap();
+    let text = starter.replace("material = \"brick-wall\"", "material = \"concrete\"").replace("freq_mhz = 1842.5", "freq_mhz = 800.0");
+    std::fs::write(dir.path().join("site.toml"), text).unwrap();
+    let out = rfsite().arg("report").arg(dir.path()).arg("-o").arg(dir.path().join("out")).output().unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let f: serde_json::Value = serde_json::from_slice(&std::fs::read(dir.path().join("out/findings.json")).unwrap()).unwrap();
+    let warned = f["warnings"].as_array().unwrap().iter().any(|w| {
+        let m = w["message"].as_str().unwrap_or("");
+        m.contains("concrete") && m.contains("extrapolated")
+    });
+    assert!(warned, "findings.json warnings lack the concrete range note");
+    let t = pdf_text(&dir.path().join("out/report.pdf"));
+    let flat: String = t.split_whitespace().collect::<Vec<_>>().join(" ");
+    assert!(flat.contains("concrete") && flat.contains("extrapolated"), "report appendix lacks the range note");
+}

@@ -26,7 +26,18 @@ use rfsite_plugin::wire::{self, WireError, PROTOCOL};
 use rfsite_plugin::*;
 
 /// Keys of a `[plugins.<id>]` table that rfsite itself reads; the rest are the plugin's.
-pub const HOST_KEYS: &[&str] = &["command", "args", "after", "optional", "timeout_s", "description", "version", "citations", "validity", "enabled"];
+pub const HOST_KEYS: &[&str] = &[
+    "command",
+    "args",
+    "after",
+    "optional",
+    "timeout_s",
+    "description",
+    "version",
+    "citations",
+    "validity",
+    "enabled",
+];
 
 /// Largest answer accepted on stdout, bytes (64 MiB).
 pub const MAX_OUTPUT_BYTES: usize = 64 << 20;
@@ -65,14 +76,29 @@ pub struct ExternalSpec {
     pub declared_in: String,
 }
 
-fn strings(id: &str, key: &str, v: Option<&toml::Value>, file: &str) -> Result<Vec<String>, String> {
+fn strings(
+    id: &str,
+    key: &str,
+    v: Option<&toml::Value>,
+    file: &str,
+) -> Result<Vec<String>, String> {
     match v {
         None => Ok(Vec::new()),
         Some(toml::Value::Array(a)) => a
             .iter()
-            .map(|x| x.as_str().map(str::to_string).ok_or_else(|| format!("{file}: [plugins.{id}] `{key}` must be a list of strings, found a {}", x.type_str())))
+            .map(|x| {
+                x.as_str().map(str::to_string).ok_or_else(|| {
+                    format!(
+                        "{file}: [plugins.{id}] `{key}` must be a list of strings, found a {}",
+                        x.type_str()
+                    )
+                })
+            })
             .collect(),
-        Some(other) => Err(format!("{file}: [plugins.{id}] `{key}` must be a list of strings, found a {}", other.type_str())),
+        Some(other) => Err(format!(
+            "{file}: [plugins.{id}] `{key}` must be a list of strings, found a {}",
+            other.type_str()
+        )),
     }
 }
 
@@ -80,9 +106,25 @@ impl ExternalSpec {
     /// Reads a `[plugins.<id>]` table; `None` when it has no `command` (a built-in
     /// plugin's options). `dir` is the command's working folder, `file` the declaring file
     /// as shown in messages.
-    pub fn from_table(id: &str, t: &toml::Table, dir: &Path, file: &str) -> Result<Option<ExternalSpec>, String> {
-        let Some(cmd) = t.get("command") else { return Ok(None) };
-        let command = cmd.as_str().ok_or_else(|| format!("{file}: [plugins.{id}] `command` must be a string, found a {}", cmd.type_str()))?.trim().to_string();
+    pub fn from_table(
+        id: &str,
+        t: &toml::Table,
+        dir: &Path,
+        file: &str,
+    ) -> Result<Option<ExternalSpec>, String> {
+        let Some(cmd) = t.get("command") else {
+            return Ok(None);
+        };
+        let command = cmd
+            .as_str()
+            .ok_or_else(|| {
+                format!(
+                    "{file}: [plugins.{id}] `command` must be a string, found a {}",
+                    cmd.type_str()
+                )
+            })?
+            .trim()
+            .to_string();
         if command.is_empty() {
             return Err(format!("{file}: [plugins.{id}] `command` is empty"));
         }
@@ -90,13 +132,21 @@ impl ExternalSpec {
             match t.get(key) {
                 None => Ok(default.to_string()),
                 Some(toml::Value::String(s)) => Ok(s.clone()),
-                Some(o) => Err(format!("{file}: [plugins.{id}] `{key}` must be a string, found a {}", o.type_str())),
+                Some(o) => Err(format!(
+                    "{file}: [plugins.{id}] `{key}` must be a string, found a {}",
+                    o.type_str()
+                )),
             }
         };
         let optional = match t.get("optional") {
             None => false,
             Some(toml::Value::Boolean(b)) => *b,
-            Some(o) => return Err(format!("{file}: [plugins.{id}] `optional` must be true or false, found a {}", o.type_str())),
+            Some(o) => {
+                return Err(format!(
+                    "{file}: [plugins.{id}] `optional` must be true or false, found a {}",
+                    o.type_str()
+                ))
+            }
         };
         let timeout_s = match t.get("timeout_s") {
             None => DEFAULT_TIMEOUT_S,
@@ -104,7 +154,11 @@ impl ExternalSpec {
             Some(toml::Value::Float(f)) if *f > 0.0 && f.is_finite() => *f,
             Some(o) => return Err(format!("{file}: [plugins.{id}] `timeout_s` must be a positive number of seconds, found {o}")),
         };
-        let options: toml::Table = t.iter().filter(|(k, _)| !HOST_KEYS.contains(&k.as_str())).map(|(k, v)| (k.clone(), v.clone())).collect();
+        let options: toml::Table = t
+            .iter()
+            .filter(|(k, _)| !HOST_KEYS.contains(&k.as_str()))
+            .map(|(k, v)| (k.clone(), v.clone()))
+            .collect();
         Ok(Some(ExternalSpec {
             id: id.to_string(),
             args: strings(id, "args", t.get("args"), file)?,
@@ -124,7 +178,10 @@ impl ExternalSpec {
 
     /// The command line as shown in messages.
     pub fn command_line(&self) -> String {
-        std::iter::once(self.command.as_str()).chain(self.args.iter().map(String::as_str)).collect::<Vec<_>>().join(" ")
+        std::iter::once(self.command.as_str())
+            .chain(self.args.iter().map(String::as_str))
+            .collect::<Vec<_>>()
+            .join(" ")
     }
 
     fn program(&self) -> PathBuf {
@@ -139,7 +196,17 @@ impl ExternalSpec {
     /// A fingerprint of the declaration and of the files its command and arguments name
     /// (the script), for deciding whether an earlier result is still current.
     pub fn fingerprint(&self) -> String {
-        let mut s = format!("{}\0{}\0{:?}\0{:?}\0{}\0{}\0{}\0{}\n", self.id, self.command, self.args, self.after, self.optional, self.timeout_s, self.version, toml::to_string(&self.options).unwrap_or_default());
+        let mut s = format!(
+            "{}\0{}\0{:?}\0{:?}\0{}\0{}\0{}\0{}\n",
+            self.id,
+            self.command,
+            self.args,
+            self.after,
+            self.optional,
+            self.timeout_s,
+            self.version,
+            toml::to_string(&self.options).unwrap_or_default()
+        );
         for a in std::iter::once(&self.command).chain(self.args.iter()) {
             if let Some(h) = crate::world::hash_file_if_exists(&self.dir.join(a)) {
                 s.push_str(&format!("{a}={h}\n"));
@@ -161,9 +228,13 @@ pub fn parse_declarations(file: &str, text: &str, dir: &Path) -> Result<Vec<Exte
         if k != "plugins" {
             return Err(format!("{file}: unknown table `{k}`; a plugin declaration file holds `[plugins.<id>]` tables"));
         }
-        let Some(t) = v.as_table() else { return Err(format!("{file}: `plugins` must be a table")) };
+        let Some(t) = v.as_table() else {
+            return Err(format!("{file}: `plugins` must be a table"));
+        };
         for (id, v) in t {
-            let Some(pt) = v.as_table() else { return Err(format!("{file}: `plugins.{id}` must be a table")) };
+            let Some(pt) = v.as_table() else {
+                return Err(format!("{file}: `plugins.{id}` must be a table"));
+            };
             match ExternalSpec::from_table(id, pt, dir, file)? {
                 Some(s) => out.push(s),
                 None => return Err(format!("{file}: [plugins.{id}] has no `command`\n  = hint: a plugin folder declares external plugins: add `command = \"...\"`")),
@@ -176,7 +247,12 @@ pub fn parse_declarations(file: &str, text: &str, dir: &Path) -> Result<Vec<Exte
 fn line_col(text: &str, offset: usize) -> (usize, usize) {
     let before = &text[..offset.min(text.len())];
     let line = before.matches('\n').count() + 1;
-    let col = before.rsplit('\n').next().map(|s| s.chars().count()).unwrap_or(0) + 1;
+    let col = before
+        .rsplit('\n')
+        .next()
+        .map(|s| s.chars().count())
+        .unwrap_or(0)
+        + 1;
     (line, col)
 }
 
@@ -184,7 +260,12 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
 /// declarations of an id replace earlier ones), then the site's own `[plugins.<id>]` tables.
 /// A site table with a `command` replaces a folder's declaration of that id; one without
 /// adds its keys to the declared plugin's options (the site's value wins).
-pub fn site_plugins(site: &Site, site_dir: &Path, site_file: &str, folder: &[ExternalSpec]) -> Result<Vec<ExternalSpec>, String> {
+pub fn site_plugins(
+    site: &Site,
+    site_dir: &Path,
+    site_file: &str,
+    folder: &[ExternalSpec],
+) -> Result<Vec<ExternalSpec>, String> {
     let mut by_id: BTreeMap<String, ExternalSpec> = BTreeMap::new();
     for s in folder {
         by_id.insert(s.id.clone(), s.clone());
@@ -217,14 +298,27 @@ impl ExternalPlugin {
     }
 
     fn request(&self, ctx: &Context<'_>) -> Result<Vec<u8>, String> {
-        let site = serde_json::to_value(ctx.site).map_err(|e| format!("could not serialise the site: {e}"))?;
+        let site = serde_json::to_value(ctx.site)
+            .map_err(|e| format!("could not serialise the site: {e}"))?;
         let options = match serde_json::to_value(&self.spec.options) {
             Ok(serde_json::Value::Object(m)) => m,
             Ok(_) => serde_json::Map::new(),
             Err(e) => return Err(format!("could not serialise its options: {e}")),
         };
-        let earlier = self.spec.after.iter().filter_map(|a| ctx.output_of(a).map(|o| (a.clone(), o.clone()))).collect();
-        let req = wire::Request { protocol: PROTOCOL.into(), plugin: self.spec.id.clone(), rfsite_version: crate::VERSION.into(), site, options, earlier };
+        let earlier = self
+            .spec
+            .after
+            .iter()
+            .filter_map(|a| ctx.output_of(a).map(|o| (a.clone(), o.clone())))
+            .collect();
+        let req = wire::Request {
+            protocol: PROTOCOL.into(),
+            plugin: self.spec.id.clone(),
+            rfsite_version: crate::VERSION.into(),
+            site,
+            options,
+            earlier,
+        };
         serde_json::to_vec(&req).map_err(|e| format!("could not serialise the request: {e}"))
     }
 
@@ -296,7 +390,10 @@ impl ExternalPlugin {
             if oversize.load(Ordering::SeqCst) {
                 let _ = child.kill();
                 let _ = child.wait();
-                return Err(format!("`{cmdline}` wrote more than {} MiB on stdout; it was stopped", MAX_OUTPUT_BYTES >> 20));
+                return Err(format!(
+                    "`{cmdline}` wrote more than {} MiB on stdout; it was stopped",
+                    MAX_OUTPUT_BYTES >> 20
+                ));
             }
             if t0.elapsed() >= limit {
                 let _ = child.kill();
@@ -313,12 +410,22 @@ impl ExternalPlugin {
         let stdout = out_rx.recv_timeout(grace).unwrap_or_default();
         let tail = err_rx.recv_timeout(grace).unwrap_or_default();
         if !status.success() {
-            let code = status.code().map(|c| format!("exit status {c}")).unwrap_or_else(|| "a signal".into());
-            let tail = if tail.is_empty() { "(its stderr was empty)".to_string() } else { format!("last lines of its stderr:\n    {}", tail.join("\n    ")) };
+            let code = status
+                .code()
+                .map(|c| format!("exit status {c}"))
+                .unwrap_or_else(|| "a signal".into());
+            let tail = if tail.is_empty() {
+                "(its stderr was empty)".to_string()
+            } else {
+                format!("last lines of its stderr:\n    {}", tail.join("\n    "))
+            };
             return Err(format!("`{cmdline}` failed with {code}; {tail}"));
         }
         if stdout.len() > MAX_OUTPUT_BYTES {
-            return Err(format!("`{cmdline}` wrote more than {} MiB on stdout", MAX_OUTPUT_BYTES >> 20));
+            return Err(format!(
+                "`{cmdline}` wrote more than {} MiB on stdout",
+                MAX_OUTPUT_BYTES >> 20
+            ));
         }
         let resp = wire::Response::parse(&stdout).map_err(|e| match e {
             WireError::Malformed(_) => {
@@ -327,7 +434,8 @@ impl ExternalPlugin {
             }
             WireError::Protocol { .. } => format!("`{cmdline}` {e}\n  = hint: update the plugin, or use an rfsite release that speaks its protocol"),
         })?;
-        self.check_output(ctx.site, resp.output).map_err(|m| format!("`{cmdline}`: {m}"))
+        self.check_output(ctx.site, resp.output)
+            .map_err(|m| format!("`{cmdline}`: {m}"))
     }
 
     /// The answer must make sense for this site: layers sized to their grids on floors and
@@ -337,13 +445,30 @@ impl ExternalPlugin {
         for l in &mut o.layers {
             let n = l.grid.nx.saturating_mul(l.grid.ny);
             if l.level_dbm.len() != n {
-                return Err(format!("layer {}/{} has {} levels for a {}x{} grid", l.floor, l.service, l.level_dbm.len(), l.grid.nx, l.grid.ny));
+                return Err(format!(
+                    "layer {}/{} has {} levels for a {}x{} grid",
+                    l.floor,
+                    l.service,
+                    l.level_dbm.len(),
+                    l.grid.nx,
+                    l.grid.ny
+                ));
             }
             if !l.best_server.is_empty() && l.best_server.len() != n {
-                return Err(format!("layer {}/{} has {} best-server entries for a {}x{} grid", l.floor, l.service, l.best_server.len(), l.grid.nx, l.grid.ny));
+                return Err(format!(
+                    "layer {}/{} has {} best-server entries for a {}x{} grid",
+                    l.floor,
+                    l.service,
+                    l.best_server.len(),
+                    l.grid.nx,
+                    l.grid.ny
+                ));
             }
             if site.floor(&l.floor).is_none() || site.service(&l.service).is_none() {
-                return Err(format!("layer for floor `{}` and service `{}`, which the site does not have", l.floor, l.service));
+                return Err(format!(
+                    "layer for floor `{}` and service `{}`, which the site does not have",
+                    l.floor, l.service
+                ));
             }
             l.model = id.clone();
         }
@@ -368,7 +493,11 @@ impl Plugin for ExternalPlugin {
         &self.spec.version
     }
     fn method(&self) -> Method {
-        Method { summary: self.spec.description.clone(), citations: self.spec.citations.clone(), validity: self.spec.validity.clone() }
+        Method {
+            summary: self.spec.description.clone(),
+            citations: self.spec.citations.clone(),
+            validity: self.spec.validity.clone(),
+        }
     }
     fn after(&self) -> Vec<String> {
         self.spec.after.clone()
@@ -377,9 +506,15 @@ impl Plugin for ExternalPlugin {
         match self.call(ctx) {
             Ok(o) => Ok(o),
             Err(m) if self.spec.optional => {
-                eprintln!("warning: optional plugin `{}` did not run: {m}", self.spec.id);
+                eprintln!(
+                    "warning: optional plugin `{}` did not run: {m}",
+                    self.spec.id
+                );
                 Ok(PluginOutput {
-                    warnings: vec![Warning { plugin: self.spec.id.clone(), message: format!("optional external plugin did not run: {m}") }],
+                    warnings: vec![Warning {
+                        plugin: self.spec.id.clone(),
+                        message: format!("optional external plugin did not run: {m}"),
+                    }],
                     ..Default::default()
                 })
             }
@@ -395,7 +530,9 @@ mod tests {
     #[test]
     fn host_keys_are_read_and_the_rest_are_options() {
         let t: toml::Table = toml::from_str("command = \"python3\"\nargs = [\"x.py\"]\nafter = [\"multi-wall\"]\noptional = true\ntimeout_s = 5\nsir_target_db = 9.0\n").unwrap();
-        let s = ExternalSpec::from_table("sir", &t, Path::new("/tmp"), "site.toml").unwrap().unwrap();
+        let s = ExternalSpec::from_table("sir", &t, Path::new("/tmp"), "site.toml")
+            .unwrap()
+            .unwrap();
         assert_eq!(s.args, vec!["x.py"]);
         assert_eq!(s.after, vec!["multi-wall"]);
         assert!(s.optional);
@@ -407,7 +544,10 @@ mod tests {
     #[test]
     fn a_table_without_command_is_not_external() {
         let t: toml::Table = toml::from_str("floor_b = 0.46").unwrap();
-        assert_eq!(ExternalSpec::from_table("multi-wall", &t, Path::new("."), "site.toml").unwrap(), None);
+        assert_eq!(
+            ExternalSpec::from_table("multi-wall", &t, Path::new("."), "site.toml").unwrap(),
+            None
+        );
     }
 
     #[test]
@@ -416,16 +556,26 @@ mod tests {
         let e = ExternalSpec::from_table("sir", &t, Path::new("."), "site.toml").unwrap_err();
         assert!(e.contains("[plugins.sir] `args`"), "{e}");
         let t: toml::Table = toml::from_str("command = \"x\"\ntimeout_s = -1").unwrap();
-        assert!(ExternalSpec::from_table("sir", &t, Path::new("."), "site.toml").unwrap_err().contains("timeout_s"));
+        assert!(
+            ExternalSpec::from_table("sir", &t, Path::new("."), "site.toml")
+                .unwrap_err()
+                .contains("timeout_s")
+        );
     }
 
     #[test]
     fn declaration_files_need_commands() {
         let e = parse_declarations("p.toml", "[plugins.x]\nfoo = 1\n", Path::new(".")).unwrap_err();
         assert!(e.contains("no `command`"), "{e}");
-        let ok = parse_declarations("p.toml", "[plugins.x]\ncommand = \"true\"\n", Path::new(".")).unwrap();
+        let ok = parse_declarations(
+            "p.toml",
+            "[plugins.x]\ncommand = \"true\"\n",
+            Path::new("."),
+        )
+        .unwrap();
         assert_eq!(ok[0].id, "x");
-        let e = parse_declarations("p.toml", "[plugins.x]\ncommand = \n", Path::new(".")).unwrap_err();
+        let e =
+            parse_declarations("p.toml", "[plugins.x]\ncommand = \n", Path::new(".")).unwrap_err();
         assert!(e.starts_with("p.toml:2:"), "{e}");
     }
 }

@@ -253,14 +253,19 @@ fn loss_pass(
     cast(tx, grid, walls, scratch, |wall, iy, ix0, ix1| {
         if losses.angle_dependent(wall) {
             let f = angle_fn.expect("angle flag without a function");
+            // |cos| = |d × e| / (|d| |e|) with d = point - tx, as the
+            // classifier computes it up to rounding. A clean crossing has
+            // |d| well above zero.
             let w = &walls[wall];
-            let y = grid.origin.y + (iy as f64 + 0.5) * step;
+            let e = w.b - w.a;
+            let inv_e = 1.0 / e.x.hypot(e.y);
+            let dy = grid.origin.y + (iy as f64 + 0.5) * step - tx.y;
             let row = &mut acc[iy * nx..(iy + 1) * nx];
             for (ix, v) in row.iter_mut().enumerate().take(ix1 + 1).skip(ix0) {
-                let q = Point2::new(grid.origin.x + (ix as f64 + 0.5) * step, y);
-                if let Some(ray) = Ray::new(tx, q) {
-                    *v += sign * f(wall, ray.cos_incidence(w)) as f64;
-                }
+                let dx = grid.origin.x + (ix as f64 + 0.5) * step - tx.x;
+                let cos =
+                    ((dx * e.y - dy * e.x).abs() * inv_e / (dx * dx + dy * dy).sqrt()).min(1.0);
+                *v += sign * f(wall, cos) as f64;
             }
         } else {
             let l = sign * losses.constant_db[wall] as f64;

@@ -66,8 +66,13 @@ pub enum WireError {
 impl std::fmt::Display for WireError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            WireError::Malformed(m) => write!(f, "answer is not a valid `{PROTOCOL}` response: {m}"),
-            WireError::Protocol { found } => write!(f, "answers in protocol `{found}`, but rfsite speaks `{PROTOCOL}`"),
+            WireError::Malformed(m) => {
+                write!(f, "answer is not a valid `{PROTOCOL}` response: {m}")
+            }
+            WireError::Protocol { found } => write!(
+                f,
+                "answers in protocol `{found}`, but rfsite speaks `{PROTOCOL}`"
+            ),
         }
     }
 }
@@ -78,10 +83,15 @@ impl Response {
     /// Parses and checks a response: the protocol field first (so that a plugin written for
     /// another version gets a version error rather than a shape error), then the output.
     pub fn parse(bytes: &[u8]) -> Result<Response, WireError> {
-        let v: serde_json::Value = serde_json::from_slice(bytes).map_err(|e| WireError::Malformed(e.to_string()))?;
+        let v: serde_json::Value =
+            serde_json::from_slice(bytes).map_err(|e| WireError::Malformed(e.to_string()))?;
         let found = match v.get("protocol") {
             Some(serde_json::Value::String(s)) => s.clone(),
-            Some(other) => return Err(WireError::Malformed(format!("`protocol` must be a string, found {other}"))),
+            Some(other) => {
+                return Err(WireError::Malformed(format!(
+                    "`protocol` must be a string, found {other}"
+                )))
+            }
             None => return Err(WireError::Malformed("no `protocol` field".into())),
         };
         if found != PROTOCOL {
@@ -104,7 +114,13 @@ mod tests {
                 floor: "L1".into(),
                 service: "lte".into(),
                 model: "multi-wall".into(),
-                grid: GridSpec { origin_x_m: 0.25, origin_y_m: 0.25, step_m: 0.5, nx: 2, ny: 1 },
+                grid: GridSpec {
+                    origin_x_m: 0.25,
+                    origin_y_m: 0.25,
+                    step_m: 0.5,
+                    nx: 2,
+                    ny: 1,
+                },
                 level_dbm: vec![-61.5, -70.25],
                 best_server: vec![0, 1],
                 servers: vec!["A1".into(), "A2".into()],
@@ -122,9 +138,21 @@ mod tests {
                 causes: vec!["overlap".into()],
                 remedies: vec![],
             }],
-            tables: vec![Table { id: "t".into(), title: "SIR".into(), columns: vec!["floor".into()], rows: vec![vec!["L1".into()]] }],
-            warnings: vec![Warning { plugin: "interference".into(), message: "walls ignored for interferers".into() }],
-            cautions: vec![Caution { id: "c".into(), topic: "t".into(), text: "x".into() }],
+            tables: vec![Table {
+                id: "t".into(),
+                title: "SIR".into(),
+                columns: vec!["floor".into()],
+                rows: vec![vec!["L1".into()]],
+            }],
+            warnings: vec![Warning {
+                plugin: "interference".into(),
+                message: "walls ignored for interferers".into(),
+            }],
+            cautions: vec![Caution {
+                id: "c".into(),
+                topic: "t".into(),
+                text: "x".into(),
+            }],
             extra,
             ..Default::default()
         }
@@ -151,7 +179,10 @@ mod tests {
 
     #[test]
     fn response_round_trips() {
-        let r = Response { protocol: PROTOCOL.into(), output: sample_output() };
+        let r = Response {
+            protocol: PROTOCOL.into(),
+            output: sample_output(),
+        };
         let text = serde_json::to_vec(&r).unwrap();
         assert_eq!(Response::parse(&text).unwrap(), r);
     }
@@ -160,11 +191,58 @@ mod tests {
     fn nan_levels_travel_as_null_and_come_back_as_nan() {
         let mut o = sample_output();
         o.layers[0].level_dbm[1] = f32::NAN;
-        let text = serde_json::to_string(&Response { protocol: PROTOCOL.into(), output: o }).unwrap();
+        let text = serde_json::to_string(&Response {
+            protocol: PROTOCOL.into(),
+            output: o,
+        })
+        .unwrap();
         assert!(text.contains("[-61.5,null]"), "{text}");
         let back = Response::parse(text.as_bytes()).unwrap();
         assert_eq!(back.output.layers[0].level_dbm[0], -61.5);
         assert!(back.output.layers[0].level_dbm[1].is_nan());
+    }
+
+    /// The documented JSON schema names exactly the fields the wire types have.
+    #[test]
+    fn the_documented_schema_matches_the_wire_types() {
+        let schema: serde_json::Value =
+            serde_json::from_str(include_str!("../../../docs/external-plugins.schema.json"))
+                .unwrap();
+        let keys = |v: &serde_json::Value| -> Vec<String> {
+            let mut k: Vec<String> = v.as_object().unwrap().keys().cloned().collect();
+            k.sort();
+            k
+        };
+        let defs = &schema["$defs"];
+        assert_eq!(
+            keys(&defs["PluginOutput"]["properties"]),
+            keys(&serde_json::to_value(PluginOutput::default()).unwrap())
+        );
+        let req = Request {
+            protocol: PROTOCOL.into(),
+            plugin: "p".into(),
+            rfsite_version: "0".into(),
+            site: serde_json::json!({}),
+            options: Default::default(),
+            earlier: BTreeMap::new(),
+        };
+        assert_eq!(
+            keys(&defs["Request"]["properties"]),
+            keys(&serde_json::to_value(&req).unwrap())
+        );
+        let o = sample_output();
+        assert_eq!(
+            keys(&defs["Finding"]["properties"]),
+            keys(&serde_json::to_value(&o.findings[0]).unwrap())
+        );
+        assert_eq!(
+            keys(&defs["CoverageLayer"]["properties"]),
+            keys(&serde_json::to_value(&o.layers[0]).unwrap())
+        );
+        assert_eq!(
+            defs["Response"]["properties"]["protocol"]["const"],
+            PROTOCOL
+        );
     }
 
     #[test]
@@ -175,13 +253,29 @@ mod tests {
 
     #[test]
     fn another_version_is_a_protocol_error() {
-        assert_eq!(Response::parse(br#"{"protocol": "rfsite-plugin/2", "output": {}}"#), Err(WireError::Protocol { found: "rfsite-plugin/2".into() }));
+        assert_eq!(
+            Response::parse(br#"{"protocol": "rfsite-plugin/2", "output": {}}"#),
+            Err(WireError::Protocol {
+                found: "rfsite-plugin/2".into()
+            })
+        );
     }
 
     #[test]
     fn garbage_is_malformed() {
-        assert!(matches!(Response::parse(b"hello"), Err(WireError::Malformed(_))));
-        assert!(matches!(Response::parse(br#"{"output": {}}"#), Err(WireError::Malformed(_))));
-        assert!(matches!(Response::parse(br#"{"protocol": "rfsite-plugin/1", "output": {"findings": [{"id": 1}]}}"#), Err(WireError::Malformed(_))));
+        assert!(matches!(
+            Response::parse(b"hello"),
+            Err(WireError::Malformed(_))
+        ));
+        assert!(matches!(
+            Response::parse(br#"{"output": {}}"#),
+            Err(WireError::Malformed(_))
+        ));
+        assert!(matches!(
+            Response::parse(
+                br#"{"protocol": "rfsite-plugin/1", "output": {"findings": [{"id": 1}]}}"#
+            ),
+            Err(WireError::Malformed(_))
+        ));
     }
 }

@@ -21,11 +21,21 @@ pub fn render_portfolio(view: &serde_json::Value) -> Result<Vec<u8>, ReportError
     let engine = TypstEngine::builder()
         .main_file(PORTFOLIO_TEMPLATE)
         .fonts(FONTS.iter().copied())
-        .search_fonts_with(typst_as_lib::typst_kit_options::TypstKitFontOptions::default().include_system_fonts(false).include_embedded_fonts(true))
+        .search_fonts_with(
+            typst_as_lib::typst_kit_options::TypstKitFontOptions::default()
+                .include_system_fonts(false)
+                .include_embedded_fonts(true),
+        )
         .build();
     let compiled = engine.compile_with_input::<_, typst_layout::PagedDocument>(inputs);
-    let doc = compiled.output.map_err(|e| ReportError(format!("typesetting the portfolio summary failed: {e:?}")))?;
-    let opts = typst_pdf::PdfOptions { ident: typst::foundations::Smart::Custom("rfsite/portfolio".into()), timestamp: None, ..Default::default() };
+    let doc = compiled
+        .output
+        .map_err(|e| ReportError(format!("typesetting the portfolio summary failed: {e:?}")))?;
+    let opts = typst_pdf::PdfOptions {
+        ident: typst::foundations::Smart::Custom("rfsite/portfolio".into()),
+        timestamp: None,
+        ..Default::default()
+    };
     typst_pdf::pdf(&doc, &opts).map_err(|e| ReportError(format!("PDF export failed: {e:?}")))
 }
 

@@ -13,7 +13,11 @@ use rfsite_model::{MaterialClass, Site, ZoneKind};
 use rfsite_physics::cost231;
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
-use rfsite_plugin_free_space::{predict, PathLoss, P3};
+use rfsite_plugin_free_space::{floor_grid, gain_towards, PathLoss, MIN_DISTANCE_M, P3};
+use rayon::prelude::*;
+use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
+use rfsite_model::Combine;
+use rfsite_physics::fspl;
 use serde::Serialize;
 
 const ANGLE_SAMPLES: usize = 32;
@@ -240,6 +244,18 @@ impl Scene {
     }
 }
 
+impl Scene {
+    /// Wall losses (no floor term) of one path, dB.
+    pub fn walls_db(&self, scratch: &mut (Scratch, Vec<Crossing>), service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> f64 {
+        let mut walls = 0.0;
+        let table = &self.wall_loss[service];
+        self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
+            walls += table[k][c.wall].eval(c.cos_incidence);
+        });
+        walls
+    }
+}
+
 impl PathLoss for Scene {
     type Scratch = (Scratch, Vec<Crossing>);
     fn scratch(&self) -> Self::Scratch {
@@ -382,7 +398,7 @@ impl Plugin for MultiWall {
         }
         let site = ctx.site;
         let scene = Scene::new(site, b, cap);
-        let layers = predict(site, self.id(), &scene);
+        let layers = predict_grid(site, self.id(), &scene);
         let mut out = PluginOutput { warnings: scene.notes.iter().map(|n| Warning { plugin: self.id().into(), message: n.clone() }).collect(), ..Default::default() };
         out.warnings.push(Warning {
             plugin: self.id().into(),
@@ -416,4 +432,140 @@ impl Plugin for MultiWall {
         out.layers = layers;
         Ok(out)
     }
+}
+
+
+/// Whole-grid multi-wall prediction: per transmitter, every wall's shadow over the grid adds
+/// its loss through per-row difference arrays (rfsite-geometry `shadow`), so a floor costs
+/// about walls x rows + points per transmitter instead of points x walls. The wall sets are
+/// exactly those of the per-ray `PathLoss` implementation (tested in rfsite-geometry);
+/// transmitters are evaluated in parallel and combined in a fixed order, so the result is
+/// deterministic.
+pub fn predict_grid(site: &Site, model: &str, scene: &Scene) -> Vec<CoverageLayer> {
+    let mut layers = Vec::new();
+    for (si, svc) in site.services.iter().enumerate() {
+        let txs: Vec<(&rfsite_model::Transmitter, usize, P3)> = site
+            .transmitters
+            .iter()
+            .filter(|t| t.service == svc.id)
+            .filter_map(|t| {
+                let fi = site.floor_index(&t.floor)?;
+                Some((t, fi, P3 { p: t.position, z: site.floors[fi].elevation_m + t.height_m }))
+            })
+            .collect();
+        // Per floor: constant losses and the angle-dependent mask for this service.
+        let consts: Vec<Vec<f32>> = scene.wall_loss[si]
+            .iter()
+            .map(|ls| ls.iter().map(|l| if let LossFn::Const(v) = l { *v } else { 0.0 }).collect())
+            .collect();
+        let masks: Vec<Vec<bool>> = scene.wall_loss[si].iter().map(|ls| ls.iter().map(|l| matches!(l, LossFn::Angle(_))).collect()).collect();
+        for (fi, floor) in site.floors.iter().enumerate() {
+            let grid = floor_grid(site, fi);
+            let n = grid.len();
+            let rz = floor.elevation_m + site.prediction.receiver_height_m;
+            let inside: Vec<bool> = (0..n).into_par_iter().map(|i| rfsite_geometry::point_in_polygon(grid.point(i), &floor.outline)).collect();
+            // Levels without wall losses (an upper bound: walls only take away).
+            let base = |t: &rfsite_model::Transmitter, tfi: usize, t3: P3, i: usize| -> f64 {
+                let p = grid.point(i);
+                let rx = P3 { p, z: rz };
+                let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2)).sqrt().max(MIN_DISTANCE_M);
+                t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx) - fspl::fspl_db(svc.freq_mhz, d) - scene.floor_db(si, t3, tfi, rx, fi).1
+            };
+            // Same-floor transmitters: whole-grid shadows (exact, rfsite-geometry tests).
+            let same: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 == fi).collect();
+            let mut per_tx: Vec<Vec<f32>> = vec![Vec::new(); txs.len()];
+            let same_levels: Vec<(usize, Vec<f32>)> = same
+                .par_iter()
+                .map_init(
+                    || (ShadowScratch::default(), vec![0f32; n]),
+                    |(sc, loss), &k| {
+                        let (t, tfi, t3) = txs[k];
+                        loss.iter_mut().for_each(|x| *x = 0.0);
+                        let table = &scene.wall_loss[si][fi];
+                        let f = |w: usize, c: f64| table[w].eval(c) as f32;
+                        let wl = WallLosses { constant_db: &consts[fi], by_angle: if masks[fi].iter().any(|m| *m) { Some((&masks[fi][..], &f)) } else { None } };
+                        accumulate_path_part(t3.p, &grid, scene.floors[fi].index.walls(), &wl, (0.0, 1.0), loss, sc);
+                        let lv = (0..n).map(|i| if inside[i] { (base(t, tfi, t3, i) - loss[i] as f64) as f32 } else { f32::NAN }).collect();
+                        (k, lv)
+                    },
+                )
+                .collect();
+            let mut best_so_far = vec![f32::NEG_INFINITY; n];
+            for (k, lv) in same_levels {
+                for i in 0..n {
+                    if lv[i] > best_so_far[i] {
+                        best_so_far[i] = lv[i];
+                    }
+                }
+                per_tx[k] = lv;
+            }
+            // Other floors: per ray. With the strongest-server rule a transmitter whose
+            // wall-free bound cannot beat the same-floor best at a point cannot serve it,
+            // so its walls are not traced there (exact for the output).
+            let strongest = site.prediction.combine == Combine::Strongest;
+            let other: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 != fi).collect();
+            let other_levels: Vec<(usize, Vec<f32>)> = other
+                .par_iter()
+                .map_init(
+                    || scene.scratch(),
+                    |sc, &k| {
+                        let (t, tfi, t3) = txs[k];
+                        let lv = (0..n)
+                            .map(|i| {
+                                if !inside[i] {
+                                    return f32::NAN;
+                                }
+                                let ub = base(t, tfi, t3, i);
+                                if strongest && (ub as f32) <= best_so_far[i] {
+                                    return f32::NEG_INFINITY;
+                                }
+                                let rx = P3 { p: grid.point(i), z: rz };
+                                let walls = scene.walls_db(sc, si, t3, tfi, rx, fi);
+                                (ub - walls) as f32
+                            })
+                            .collect();
+                        (k, lv)
+                    },
+                )
+                .collect();
+            for (k, lv) in other_levels {
+                per_tx[k] = lv;
+            }
+            let mut level_dbm = vec![f32::NAN; n];
+            let mut best_server = vec![u16::MAX; n];
+            if !txs.is_empty() {
+                for i in 0..n {
+                    if !inside[i] {
+                        continue;
+                    }
+                    let mut best = f64::NEG_INFINITY;
+                    let mut bi = u16::MAX;
+                    let mut sum_mw = 0.0;
+                    for (k, lv) in per_tx.iter().enumerate() {
+                        let l = lv[i] as f64;
+                        if l > best {
+                            best = l;
+                            bi = k as u16;
+                        }
+                        sum_mw += 10f64.powf(l / 10.0);
+                    }
+                    level_dbm[i] = match site.prediction.combine {
+                        Combine::Strongest => best as f32,
+                        Combine::PowerSum => (10.0 * sum_mw.log10()) as f32,
+                    };
+                    best_server[i] = bi;
+                }
+            }
+            layers.push(CoverageLayer {
+                floor: floor.id.clone(),
+                service: svc.id.clone(),
+                model: model.to_string(),
+                grid: GridSpec::from_grid(&grid),
+                level_dbm,
+                best_server,
+                servers: txs.iter().map(|(t, _, _)| t.id.clone()).collect(),
+            });
+        }
+    }
+    layers
 }

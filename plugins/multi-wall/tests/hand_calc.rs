@@ -89,3 +89,31 @@ fn inter_floor_path_adds_the_cost231_floor_term() {
     let expected = 20.0 - fspl(900.0, d) - lf;
     assert!((l1.level_dbm[i] as f64 - expected).abs() < 1e-3, "{} vs {expected}", l1.level_dbm[i]);
 }
+
+#[test]
+fn whole_grid_prediction_equals_per_ray_prediction() {
+    // The shadow method (rfsite-geometry::shadow) must give the per-ray result (the
+    // reference) at every point, on the hand plan and on the demo clinic.
+    let demo = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../../examples/kestrel-quay-clinic/site.toml")).unwrap();
+    for text in [SITE.to_string(), demo] {
+        let site = load(&SourceFile::new("x.toml", &text), &MaterialLibrary::builtin()).site.expect("valid");
+        let scene = Scene::new(&site, 0.46, 60.0);
+        let a = predict(&site, "multi-wall", &scene);
+        let b = rfsite_plugin_multi_wall::predict_grid(&site, "multi-wall", &scene);
+        assert_eq!(a.len(), b.len());
+        let mut worst = 0.0f64;
+        for (x, y) in a.iter().zip(&b) {
+            assert_eq!(x.level_dbm.len(), y.level_dbm.len());
+            for (p, q) in x.level_dbm.iter().zip(&y.level_dbm) {
+                assert_eq!(p.is_nan(), q.is_nan());
+                if p.is_finite() {
+                    if (p - q).abs() as f64 > 1e-3 && worst <= 1e-3 {
+                        eprintln!("first mismatch: floor {} service {} {} vs {}", x.floor, x.service, p, q);
+                    }
+                    worst = worst.max((p - q).abs() as f64);
+                }
+            }
+        }
+        assert!(worst < 1e-3, "largest difference {worst} dB");
+    }
+}
