@@ -150,23 +150,41 @@ fn positive(name: &str, v: f64) -> Result<(), String> {
 }
 
 fn material_of(lib: &MaterialLibrary, id: &str) -> Result<rfsite_model::Material, String> {
-    lib.get(id).cloned().ok_or_else(|| format!("unknown material `{id}`\n  = hint: {}", rfsite_model::diag::unknown_name_hint("material", id, lib.ids())))
+    lib.get(id).cloned().ok_or_else(|| {
+        format!(
+            "unknown material `{id}`\n  = hint: {}",
+            rfsite_model::diag::unknown_name_hint("material", id, lib.ids())
+        )
+    })
 }
 
 fn compute(w: &What) -> Result<Value, String> {
     let lib = MaterialLibrary::builtin();
     match w {
-        What::Fspl { freq_mhz, distance_m } => {
+        What::Fspl {
+            freq_mhz,
+            distance_m,
+        } => {
             positive("freq-mhz", *freq_mhz)?;
             positive("distance-m", *distance_m)?;
             let note = fspl::fspl_range_note(*freq_mhz, *distance_m);
-            Ok(json!({"loss_db": fspl::fspl_db(*freq_mhz, *distance_m), "extrapolated": note.is_some(), "warning": note.map(|n| n.message()), "source": "ITU-R P.525-4 eq. (1)"}))
+            Ok(
+                json!({"loss_db": fspl::fspl_db(*freq_mhz, *distance_m), "extrapolated": note.is_some(), "warning": note.map(|n| n.message()), "source": "ITU-R P.525-4 eq. (1)"}),
+            )
         }
-        What::Material { material, freq_mhz, thickness_mm, incidence_deg, polarization } => {
+        What::Material {
+            material,
+            freq_mhz,
+            thickness_mm,
+            incidence_deg,
+            polarization,
+        } => {
             positive("freq-mhz", *freq_mhz)?;
             positive("thickness-mm", *thickness_mm)?;
             if !(0.0..90.0).contains(incidence_deg) {
-                return bad(format!("--incidence-deg must be from 0 to below 90 (got {incidence_deg})"));
+                return bad(format!(
+                    "--incidence-deg must be from 0 to below 90 (got {incidence_deg})"
+                ));
             }
             let pol = match polarization.as_str() {
                 "te" => Polarization::Te,
@@ -179,86 +197,165 @@ fn compute(w: &What) -> Result<Value, String> {
             let l = m.crossing_loss(*freq_mhz, t, cos, pol);
             let r = m.reflection_coefficient(*freq_mhz, t);
             let (eps, sigma) = match &m.model {
-                rfsite_model::MaterialModel::Itu(i) => (Some(i.permittivity_real(freq_mhz / 1000.0)), Some(i.conductivity_s_per_m(freq_mhz / 1000.0))),
-                rfsite_model::MaterialModel::CustomSlab { eps_real, sigma_s_per_m } => (Some(*eps_real), Some(*sigma_s_per_m)),
+                rfsite_model::MaterialModel::Itu(i) => (
+                    Some(i.permittivity_real(freq_mhz / 1000.0)),
+                    Some(i.conductivity_s_per_m(freq_mhz / 1000.0)),
+                ),
+                rfsite_model::MaterialModel::CustomSlab {
+                    eps_real,
+                    sigma_s_per_m,
+                } => (Some(*eps_real), Some(*sigma_s_per_m)),
                 _ => (None, None),
             };
-            let refl_db = if r.norm() > 0.0 { -20.0 * r.norm().log10() } else { f64::INFINITY };
-            Ok(json!({"material": m.id, "model": m.model_label(), "permittivity_real": eps, "conductivity_s_per_m": sigma,
+            let refl_db = if r.norm() > 0.0 {
+                -20.0 * r.norm().log10()
+            } else {
+                f64::INFINITY
+            };
+            Ok(
+                json!({"material": m.id, "model": m.model_label(), "permittivity_real": eps, "conductivity_s_per_m": sigma,
                 "transmission_loss_db": l.loss_db, "reflection_loss_db": if refl_db.is_finite() { Some(refl_db) } else { None },
-                "extrapolated": l.note.is_some(), "warning": l.note.map(|n| n.message()), "source": m.source}))
+                "extrapolated": l.note.is_some(), "warning": l.note.map(|n| n.message()), "source": m.source}),
+            )
         }
-        What::Bel { freq_mhz, building, probability, elevation_deg } => {
+        What::Bel {
+            freq_mhz,
+            building,
+            probability,
+            elevation_deg,
+        } => {
             positive("freq-mhz", *freq_mhz)?;
             let b = match building.as_str() {
                 "traditional" => p2109::BuildingType::Traditional,
                 "thermally-efficient" => p2109::BuildingType::ThermallyEfficient,
-                x => return bad(format!("--building must be traditional or thermally-efficient (got {x})")),
+                x => {
+                    return bad(format!(
+                        "--building must be traditional or thermally-efficient (got {x})"
+                    ))
+                }
             };
             let f = freq_mhz / 1000.0;
-            let l = p2109::building_entry_loss_db(f, *probability, *elevation_deg, b).map_err(|e| e.to_string())?;
+            let l = p2109::building_entry_loss_db(f, *probability, *elevation_deg, b)
+                .map_err(|e| e.to_string())?;
             let note = p2109::bel_range_note(f);
-            Ok(json!({"loss_db": l, "extrapolated": note.is_some(), "warning": note.map(|n| n.message()), "source": "ITU-R P.2109-2"}))
+            Ok(
+                json!({"loss_db": l, "extrapolated": note.is_some(), "warning": note.map(|n| n.message()), "source": "ITU-R P.2109-2"}),
+            )
         }
-        What::StandingWave { material, freq_mhz, thickness_mm, max_distance_m } => {
+        What::StandingWave {
+            material,
+            freq_mhz,
+            thickness_mm,
+            max_distance_m,
+        } => {
             positive("freq-mhz", *freq_mhz)?;
             positive("max-distance-m", *max_distance_m)?;
             let m = material_of(&lib, material)?;
             let g = m.reflection_coefficient(*freq_mhz, thickness_mm / 1000.0);
             let depth = standing_wave::peak_to_null_db(g.norm());
             let depth = if depth.is_finite() { Some(depth) } else { None };
-            Ok(json!({"gamma_abs": g.norm(), "gamma_phase_deg": g.arg().to_degrees(), "nulls_m": standing_wave::nulls_m(g, *freq_mhz, *max_distance_m),
+            Ok(
+                json!({"gamma_abs": g.norm(), "gamma_phase_deg": g.arg().to_degrees(), "nulls_m": standing_wave::nulls_m(g, *freq_mhz, *max_distance_m),
                 "peaks_m": standing_wave::peaks_m(g, *freq_mhz, *max_distance_m), "peak_to_null_db": depth,
-                "quarter_wave_m": standing_wave::quarter_wave_spacing_m(*freq_mhz)}))
+                "quarter_wave_m": standing_wave::quarter_wave_spacing_m(*freq_mhz)}),
+            )
         }
-        What::Exposure { eirp_w, freq_mhz, limit } => {
+        What::Exposure {
+            eirp_w,
+            freq_mhz,
+            limit,
+        } => {
             positive("eirp-w", *eirp_w)?;
             positive("freq-mhz", *freq_mhz)?;
             let lim = exposure::ExposureLimit::from_id(limit).ok_or_else(|| format!("--limit must be one of fcc-general, fcc-occupational, icnirp-general, icnirp-occupational (got {limit})"))?;
             let s = exposure::limit_w_per_m2(lim, *freq_mhz).map_err(|e| e.to_string())?;
-            Ok(json!({"limit_w_per_m2": s, "distance_m": exposure::compliance_distance_m(*eirp_w, s), "source": lim.source(), "note": "far-field estimate; near-field and multiple sources need a full evaluation"}))
+            Ok(
+                json!({"limit_w_per_m2": s, "distance_m": exposure::compliance_distance_m(*eirp_w, s), "source": lim.source(), "note": "far-field estimate; near-field and multiple sources need a full evaluation"}),
+            )
         }
         What::FieldStrength { dbm, freq_mhz } => {
             positive("freq-mhz", *freq_mhz)?;
             Ok(json!({"dbuv_per_m": fspl::dbm_to_dbuv_per_m(*dbm, *freq_mhz)}))
         }
-        What::AreaCoverage { sigma_db, exponent, edge_probability } => {
-            let f = stats::area_coverage_fraction(*sigma_db, *exponent, *edge_probability).map_err(|e| e.to_string())?;
+        What::AreaCoverage {
+            sigma_db,
+            exponent,
+            edge_probability,
+        } => {
+            let f = stats::area_coverage_fraction(*sigma_db, *exponent, *edge_probability)
+                .map_err(|e| e.to_string())?;
             Ok(json!({"area_fraction": f, "source": "Jakes (1974) section 2.3, after Reudink"}))
         }
-        What::Indoor { freq_mhz, distance_m, floors, environment } => {
+        What::Indoor {
+            freq_mhz,
+            distance_m,
+            floors,
+            environment,
+        } => {
             positive("freq-mhz", *freq_mhz)?;
             positive("distance-m", *distance_m)?;
             let env = match environment.as_str() {
                 "residential" => p1238::IndoorEnvironment::Residential,
                 "office" => p1238::IndoorEnvironment::Office,
                 "commercial" => p1238::IndoorEnvironment::Commercial,
-                x => return bad(format!("--environment must be residential, office or commercial (got {x})")),
+                x => {
+                    return bad(format!(
+                        "--environment must be residential, office or commercial (got {x})"
+                    ))
+                }
             };
-            let r = p1238::indoor_loss_db(*freq_mhz, *distance_m, *floors, env).map_err(|e| e.to_string())?;
-            Ok(json!({"loss_db": r.loss_db, "extrapolated": !r.range_notes.is_empty(), "notes": r.notes, "source": "ITU-R P.1238 site-general model"}))
+            let r = p1238::indoor_loss_db(*freq_mhz, *distance_m, *floors, env)
+                .map_err(|e| e.to_string())?;
+            Ok(
+                json!({"loss_db": r.loss_db, "extrapolated": !r.range_notes.is_empty(), "notes": r.notes, "source": "ITU-R P.1238 site-general model"}),
+            )
         }
-        What::Multiwall { freq_mhz, distance_m, walls_db, floors, floor_loss_db, b } => {
+        What::Multiwall {
+            freq_mhz,
+            distance_m,
+            walls_db,
+            floors,
+            floor_loss_db,
+            b,
+        } => {
             positive("freq-mhz", *freq_mhz)?;
             positive("distance-m", *distance_m)?;
             let mut walls = Vec::new();
             for w in walls_db.iter().filter(|w| !w.trim().is_empty()) {
-                let v: f64 = w.trim().parse().map_err(|_| format!("--walls-db: `{w}` is not a number"))?;
+                let v: f64 = w
+                    .trim()
+                    .parse()
+                    .map_err(|_| format!("--walls-db: `{w}` is not a number"))?;
                 if v < 0.0 {
-                    return bad(format!("--walls-db: a wall loss cannot be negative (got {v})"));
+                    return bad(format!(
+                        "--walls-db: a wall loss cannot be negative (got {v})"
+                    ));
                 }
                 walls.push(v);
             }
             let l0 = fspl::fspl_db(*freq_mhz, *distance_m);
             let l = cost231::multiwall_loss_db(l0, 0.0, &walls, *floors, *floor_loss_db, *b);
-            Ok(json!({"loss_db": l, "free_space_db": l0, "walls_db": walls.iter().sum::<f64>(), "floor_term_db": cost231::floor_term_db(*floors, *floor_loss_db, *b), "source": "COST 231 Final Report (1999) section 4.7"}))
+            Ok(
+                json!({"loss_db": l, "free_space_db": l0, "walls_db": walls.iter().sum::<f64>(), "floor_term_db": cost231::floor_term_db(*floors, *floor_loss_db, *b), "source": "COST 231 Final Report (1999) section 4.7"}),
+            )
         }
-        What::Pattern { theta_deg, phi_deg, gain_dbi } => {
+        What::Pattern {
+            theta_deg,
+            phi_deg,
+            gain_dbi,
+        } => {
             if !(0.0..=180.0).contains(theta_deg) {
-                return bad(format!("--theta-deg must be from 0 to 180 (got {theta_deg})"));
+                return bad(format!(
+                    "--theta-deg must be from 0 to 180 (got {theta_deg})"
+                ));
             }
-            let p = antenna::ElementPattern { g_max_dbi: *gain_dbi, ..Default::default() };
-            Ok(json!({"gain_dbi": p.gain_dbi(*theta_deg, *phi_deg), "source": "3GPP TR 38.901 Table 7.3-1"}))
+            let p = antenna::ElementPattern {
+                g_max_dbi: *gain_dbi,
+                ..Default::default()
+            };
+            Ok(
+                json!({"gain_dbi": p.gain_dbi(*theta_deg, *phi_deg), "source": "3GPP TR 38.901 Table 7.3-1"}),
+            )
         }
     }
 }

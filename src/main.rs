@@ -24,7 +24,11 @@ pub enum Outcome {
 }
 
 #[derive(Parser)]
-#[command(name = "rfsite", version, about = "Radio coverage assessment of buildings: a site project in, a signed-off report out")]
+#[command(
+    name = "rfsite",
+    version,
+    about = "Radio coverage assessment of buildings: a site project in, a signed-off report out"
+)]
 struct Cli {
     #[command(subcommand)]
     cmd: Cmd,

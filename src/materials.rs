@@ -39,15 +39,60 @@ pub fn run(a: Args) -> Outcome {
         })
         .collect();
     if a.json {
-        println!("{}", serde_json::to_string_pretty(&rows).unwrap_or_default());
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&rows).unwrap_or_default()
+        );
         return Outcome::Ok;
     }
-    println!("{:<24} {:<16} {:>8} {:>8} {:>8} {:>8} {:>8}  range (MHz), source", "id", "class", "700", "900", "1900", "2400", "5800");
-    println!("{:<24} {:<16} {:>44}", "", "", format!("(dB per crossing; slabs at {} mm; * = extrapolated)", a.thickness_mm));
+    println!(
+        "{:<24} {:<16} {:>8} {:>8} {:>8} {:>8} {:>8}  range (MHz), source",
+        "id", "class", "700", "900", "1900", "2400", "5800"
+    );
+    println!(
+        "{:<24} {:<16} {:>44}",
+        "",
+        "",
+        format!(
+            "(dB per crossing; slabs at {} mm; * = extrapolated)",
+            a.thickness_mm
+        )
+    );
     for r in rows {
-        let ls: Vec<String> = r["losses"].as_array().map(|v| v.iter().map(|l| format!("{:.1}{}", l["loss_db"].as_f64().unwrap_or(0.0), if l["extrapolated"].as_bool() == Some(true) { "*" } else { "" })).collect()).unwrap_or_default();
-        let range = r["range_mhz"].as_array().map(|v| format!("{}-{}", v[0], v[1])).unwrap_or_else(|| "-".into());
-        println!("{:<24} {:<16} {:>8} {:>8} {:>8} {:>8} {:>8}  {range}, {} ({})", r["id"].as_str().unwrap_or(""), r["class"].as_str().unwrap_or(""), ls[0], ls[1], ls[2], ls[3], ls[4], r["source"].as_str().unwrap_or(""), r["confidence"].as_str().unwrap_or(""));
+        let ls: Vec<String> = r["losses"]
+            .as_array()
+            .map(|v| {
+                v.iter()
+                    .map(|l| {
+                        format!(
+                            "{:.1}{}",
+                            l["loss_db"].as_f64().unwrap_or(0.0),
+                            if l["extrapolated"].as_bool() == Some(true) {
+                                "*"
+                            } else {
+                                ""
+                            }
+                        )
+                    })
+                    .collect()
+            })
+            .unwrap_or_default();
+        let range = r["range_mhz"]
+            .as_array()
+            .map(|v| format!("{}-{}", v[0], v[1]))
+            .unwrap_or_else(|| "-".into());
+        println!(
+            "{:<24} {:<16} {:>8} {:>8} {:>8} {:>8} {:>8}  {range}, {} ({})",
+            r["id"].as_str().unwrap_or(""),
+            r["class"].as_str().unwrap_or(""),
+            ls[0],
+            ls[1],
+            ls[2],
+            ls[3],
+            ls[4],
+            r["source"].as_str().unwrap_or(""),
+            r["confidence"].as_str().unwrap_or("")
+        );
     }
     Outcome::Ok
 }

@@ -7,7 +7,11 @@ fn calc_json(args: &[&str]) -> serde_json::Value {
     a.extend_from_slice(args);
     a.push("--json");
     let out = run(&a);
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     serde_json::from_slice(&out.stdout).expect("one JSON object")
 }
 
@@ -22,9 +26,25 @@ fn fspl_matches_p525() {
 #[test]
 fn concrete_below_its_fitted_range_is_flagged() {
     // ITU-R P.2040-3 Table 3: concrete fitted over 1–100 GHz, so 800 MHz is extrapolated.
-    let v = calc_json(&["material", "--material", "concrete", "--freq-mhz", "800", "--thickness-mm", "200"]);
+    let v = calc_json(&[
+        "material",
+        "--material",
+        "concrete",
+        "--freq-mhz",
+        "800",
+        "--thickness-mm",
+        "200",
+    ]);
     assert_eq!(v["extrapolated"], serde_json::Value::Bool(true));
-    let v = calc_json(&["material", "--material", "concrete", "--freq-mhz", "2400", "--thickness-mm", "200"]);
+    let v = calc_json(&[
+        "material",
+        "--material",
+        "concrete",
+        "--freq-mhz",
+        "2400",
+        "--thickness-mm",
+        "200",
+    ]);
     assert_eq!(v["extrapolated"], serde_json::Value::Bool(false));
     // 200 mm concrete at 2.4 GHz, normal incidence: 14.575 dB (computed from P.2040-3 §3).
     assert!((v["transmission_loss_db"].as_f64().unwrap() - 14.575).abs() < 5e-3);
@@ -33,7 +53,15 @@ fn concrete_below_its_fitted_range_is_flagged() {
 #[test]
 fn bel_median_matches_p2109() {
     // ITU-R P.2109-2, thermally efficient, 0.9 GHz, P = 0.5, horizontal: 31.16 dB (computed).
-    let v = calc_json(&["bel", "--freq-mhz", "900", "--building", "thermally-efficient", "--probability", "0.5"]);
+    let v = calc_json(&[
+        "bel",
+        "--freq-mhz",
+        "900",
+        "--building",
+        "thermally-efficient",
+        "--probability",
+        "0.5",
+    ]);
     assert!((v["loss_db"].as_f64().unwrap() - 31.16).abs() < 0.01);
 }
 
@@ -41,7 +69,15 @@ fn bel_median_matches_p2109() {
 fn exposure_distance_follows_the_fcc_limit() {
     // FCC 47 CFR 1.1310 Table 1: general population 300–1500 MHz f/1500 mW/cm² -> 6 W/m² at
     // 900 MHz; r = sqrt(EIRP / (4 pi S)) far field.
-    let v = calc_json(&["exposure", "--eirp-w", "100", "--freq-mhz", "900", "--limit", "fcc-general"]);
+    let v = calc_json(&[
+        "exposure",
+        "--eirp-w",
+        "100",
+        "--freq-mhz",
+        "900",
+        "--limit",
+        "fcc-general",
+    ]);
     assert!((v["limit_w_per_m2"].as_f64().unwrap() - 6.0).abs() < 1e-9);
     let r = (100.0 / (4.0 * std::f64::consts::PI * 6.0)).sqrt();
     assert!((v["distance_m"].as_f64().unwrap() - r).abs() < 1e-9);
@@ -51,14 +87,37 @@ fn exposure_distance_follows_the_fcc_limit() {
 fn nonsense_is_refused_with_exit_2() {
     for args in [
         vec!["calc", "fspl", "--freq-mhz", "900", "--distance-m", "-3"],
-        vec!["calc", "bel", "--freq-mhz", "900", "--building", "traditional", "--probability", "1.2"],
-        vec!["calc", "material", "--material", "unobtainium", "--freq-mhz", "900"],
+        vec![
+            "calc",
+            "bel",
+            "--freq-mhz",
+            "900",
+            "--building",
+            "traditional",
+            "--probability",
+            "1.2",
+        ],
+        vec![
+            "calc",
+            "material",
+            "--material",
+            "unobtainium",
+            "--freq-mhz",
+            "900",
+        ],
     ] {
         let out = run(&args);
         assert_eq!(out.status.code(), Some(2), "{args:?}");
         assert!(!String::from_utf8_lossy(&out.stderr).contains("panicked"));
     }
-    let out = run(&["calc", "material", "--material", "plasterbord", "--freq-mhz", "900"]);
+    let out = run(&[
+        "calc",
+        "material",
+        "--material",
+        "plasterbord",
+        "--freq-mhz",
+        "900",
+    ]);
     assert!(String::from_utf8_lossy(&out.stderr).contains("plasterboard"));
 }
 
@@ -69,6 +128,14 @@ fn field_strength_and_area_coverage() {
     assert!((v["dbuv_per_m"].as_f64().unwrap() - 117.216).abs() < 1e-3);
     // Jakes area fraction at sigma 8, n 3.5, edge 0.5: 0.7545 by direct numerical
     // integration (scipy quad fixture, tests/reference/physics/area_fixtures.csv).
-    let v = calc_json(&["area-coverage", "--sigma-db", "8", "--exponent", "3.5", "--edge-probability", "0.5"]);
+    let v = calc_json(&[
+        "area-coverage",
+        "--sigma-db",
+        "8",
+        "--exponent",
+        "3.5",
+        "--edge-probability",
+        "0.5",
+    ]);
     assert!((v["area_fraction"].as_f64().unwrap() - 0.7545).abs() < 1e-3);
 }

@@ -8,8 +8,18 @@ fn two_runs_give_byte_identical_pdf_and_findings() {
     let b = tempfile::tempdir().unwrap();
     let site = root().join("examples/kestrel-quay-clinic");
     for d in [&a, &b] {
-        let out = rfsite().arg("report").arg(&site).arg("-o").arg(d.path()).output().unwrap();
-        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        let out = rfsite()
+            .arg("report")
+            .arg(&site)
+            .arg("-o")
+            .arg(d.path())
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
     }
     for f in ["report.pdf", "findings.json"] {
         let x = std::fs::read(a.path().join(f)).unwrap();

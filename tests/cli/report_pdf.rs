@@ -6,17 +6,39 @@ use crate::cli::util::{pdf_pages, pdf_text, rfsite, root};
 fn demo_report_has_the_sections_verdicts_and_audit_trail() {
     let out_dir = tempfile::tempdir().unwrap();
     let site = root().join("examples/kestrel-quay-clinic");
-    let out = rfsite().arg("report").arg(&site).arg("-o").arg(out_dir.path()).output().unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let out = rfsite()
+        .arg("report")
+        .arg(&site)
+        .arg("-o")
+        .arg(out_dir.path())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let pdf = out_dir.path().join("report.pdf");
     assert!(pdf_pages(&pdf) >= 6);
     let text = pdf_text(&pdf);
-    for s in ["Executive summary", "Scope and method", "Site description", "Coverage by floor and service", "Findings", "Remediation options", "Safety and compliance cautions", "Audit trail", "authority having jurisdiction"] {
+    for s in [
+        "Executive summary",
+        "Scope and method",
+        "Site description",
+        "Coverage by floor and service",
+        "Findings",
+        "Remediation options",
+        "Safety and compliance cautions",
+        "Audit trail",
+        "authority having jurisdiction",
+    ] {
         assert!(text.contains(s), "PDF lacks `{s}`");
     }
     assert!(text.contains("PASS") || text.contains("FAIL"));
     // findings.json essentials (DESIGN.md contract).
-    let f: serde_json::Value = serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap()).unwrap();
+    let f: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
+            .unwrap();
     assert_eq!(f["schema"], "rfsite-findings/1");
     assert_eq!(f["tool"]["name"], "rfsite");
     assert!(f["site"]["id"].is_string() && f["site"]["name"].is_string());
@@ -39,7 +61,11 @@ fn demo_report_has_the_sections_verdicts_and_audit_trail() {
     for i in f["inputs"].as_array().unwrap() {
         let h = i["sha256"].as_str().unwrap();
         assert_eq!(h.len(), 64);
-        assert!(flat.contains(h), "hash of {} missing from the PDF", i["path"]);
+        assert!(
+            flat.contains(h),
+            "hash of {} missing from the PDF",
+            i["path"]
+        );
     }
     assert!(out_dir.path().join("figures").read_dir().unwrap().count() >= 2);
 }
@@ -50,13 +76,40 @@ fn typst_special_characters_print_literally() {
     let starter = std::fs::read_to_string(root().join("templates/starter/site.toml")).unwrap();
     let nasty = r#"Block #7 $cost *bold* _under_ @ref <tag> [x] back\slash `tick`"#;
     let text = starter
-        .replace("name = \"New site\"", &format!("name = {}", toml_str(nasty)))
-        .replace("client = \"Client name\"", "client = \"=== heading? #set page(width: 1cm)\"");
+        .replace(
+            "name = \"New site\"",
+            &format!("name = {}", toml_str(nasty)),
+        )
+        .replace(
+            "client = \"Client name\"",
+            "client = \"=== heading? #set page(width: 1cm)\"",
+        );
     std::fs::write(dir.path().join("site.toml"), text).unwrap();
-    let out = rfsite().arg("report").arg(dir.path()).arg("-o").arg(dir.path().join("out")).output().unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let out = rfsite()
+        .arg("report")
+        .arg(dir.path())
+        .arg("-o")
+        .arg(dir.path().join("out"))
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let t = pdf_text(&dir.path().join("out/report.pdf"));
-    for piece in ["Block #7", "$cost", "*bold*", "_under_", "@ref", "<tag>", "[x]", "back\\slash", "`tick`", "#set page(width: 1cm)"] {
+    for piece in [
+        "Block #7",
+        "$cost",
+        "*bold*",
+        "_under_",
+        "@ref",
+        "<tag>",
+        "[x]",
+        "back\\slash",
+        "`tick`",
+        "#set page(width: 1cm)",
+    ] {
         assert!(t.contains(piece), "PDF text lacks `{piece}`");
     }
 }
@@ -92,17 +145,37 @@ fn concrete_at_800_mhz_is_flagged_in_findings_and_report() {
     // ITU-R P.2040-3 Table 3 fits concrete over 1–100 GHz: 800 MHz is outside.
     let dir = tempfile::tempdir().unwrap();
     let starter = std::fs::read_to_string(root().join("templates/starter/site.toml")).unwrap();
-    let text = starter.replace("material = \"brick-wall\"", "material = \"concrete\"").replace("freq_mhz = 1842.5", "freq_mhz = 800.0");
+    let text = starter
+        .replace("material = \"brick-wall\"", "material = \"concrete\"")
+        .replace("freq_mhz = 1842.5", "freq_mhz = 800.0");
     std::fs::write(dir.path().join("site.toml"), text).unwrap();
-    let out = rfsite().arg("report").arg(dir.path()).arg("-o").arg(dir.path().join("out")).output().unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
-    let f: serde_json::Value = serde_json::from_slice(&std::fs::read(dir.path().join("out/findings.json")).unwrap()).unwrap();
+    let out = rfsite()
+        .arg("report")
+        .arg(dir.path())
+        .arg("-o")
+        .arg(dir.path().join("out"))
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let f: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("out/findings.json")).unwrap())
+            .unwrap();
     let warned = f["warnings"].as_array().unwrap().iter().any(|w| {
         let m = w["message"].as_str().unwrap_or("");
         m.contains("concrete") && m.contains("extrapolated")
     });
-    assert!(warned, "findings.json warnings lack the concrete range note");
+    assert!(
+        warned,
+        "findings.json warnings lack the concrete range note"
+    );
     let t = pdf_text(&dir.path().join("out/report.pdf"));
     let flat: String = t.split_whitespace().collect::<Vec<_>>().join(" ");
-    assert!(flat.contains("concrete") && flat.contains("extrapolated"), "report appendix lacks the range note");
+    assert!(
+        flat.contains("concrete") && flat.contains("extrapolated"),
+        "report appendix lacks the range note"
+    );
 }

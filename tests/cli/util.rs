@@ -15,7 +15,11 @@ pub fn root() -> PathBuf {
 
 /// Runs rfsite with args from the repository root.
 pub fn run(args: &[&str]) -> Output {
-    rfsite().current_dir(root()).args(args).output().expect("rfsite runs")
+    rfsite()
+        .current_dir(root())
+        .args(args)
+        .output()
+        .expect("rfsite runs")
 }
 
 /// Text of a PDF, through poppler's pdftotext (a real PDF text extractor).
@@ -23,16 +27,26 @@ pub fn pdf_text(pdf: &Path) -> String {
     let out = Command::new("pdftotext").arg("-layout").arg(pdf).arg("-").output().expect(
         "pdftotext (poppler-utils) is needed by the report tests: apt-get install -y poppler-utils",
     );
-    assert!(out.status.success(), "pdftotext failed on {}", pdf.display());
+    assert!(
+        out.status.success(),
+        "pdftotext failed on {}",
+        pdf.display()
+    );
     String::from_utf8_lossy(&out.stdout).to_string()
 }
 
 /// Page count of a PDF through poppler's pdfinfo.
 pub fn pdf_pages(pdf: &Path) -> usize {
-    let out = Command::new("pdfinfo").arg(pdf).output().expect("pdfinfo (poppler-utils) is needed");
+    let out = Command::new("pdfinfo")
+        .arg(pdf)
+        .output()
+        .expect("pdfinfo (poppler-utils) is needed");
     let text = String::from_utf8_lossy(&out.stdout).to_string();
     text.lines()
-        .find_map(|l| l.strip_prefix("Pages:").map(|n| n.trim().parse().unwrap_or(0)))
+        .find_map(|l| {
+            l.strip_prefix("Pages:")
+                .map(|n| n.trim().parse().unwrap_or(0))
+        })
         .unwrap_or(0)
 }
 
@@ -58,10 +72,17 @@ pub fn starter_site_with(dir: &Path, extra: &str) {
 
 /// A fixture of `tests/fixtures/external/`, as an absolute path for a plugin's `args`.
 pub fn external_fixture(name: &str) -> String {
-    root().join("tests/fixtures/external").join(name).display().to_string()
+    root()
+        .join("tests/fixtures/external")
+        .join(name)
+        .display()
+        .to_string()
 }
 
 /// stdout and stderr of a run, as text.
 pub fn texts(out: &Output) -> (String, String) {
-    (String::from_utf8_lossy(&out.stdout).to_string(), String::from_utf8_lossy(&out.stderr).to_string())
+    (
+        String::from_utf8_lossy(&out.stdout).to_string(),
+        String::from_utf8_lossy(&out.stderr).to_string(),
+    )
 }

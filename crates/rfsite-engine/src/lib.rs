@@ -54,7 +54,11 @@ impl fmt::Display for EngineError {
                 Ok(())
             }
             EngineError::Io(s) => write!(f, "{s}"),
-            EngineError::Cycle(ids) => write!(f, "plugins order themselves in a cycle: {}", ids.join(" -> ")),
+            EngineError::Cycle(ids) => write!(
+                f,
+                "plugins order themselves in a cycle: {}",
+                ids.join(" -> ")
+            ),
             EngineError::Plugin { id, error } => write!(f, "plugin `{id}` failed: {error}"),
         }
     }
@@ -88,7 +92,11 @@ pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, 
     }
     let mut warnings = loaded.diagnostics;
     warnings.items.append(&mut survey_diags.items);
-    Ok(LoadedSite { site, warnings, surveys })
+    Ok(LoadedSite {
+        site,
+        warnings,
+        surveys,
+    })
 }
 
 /// The plugins known to a run.
@@ -101,13 +109,34 @@ impl Registry {
     pub fn builtin() -> Self {
         Registry {
             plugins: vec![
-                (Box::new(rfsite_plugin_free_space::FreeSpace), "built-in".into()),
-                (Box::new(rfsite_plugin_multi_wall::MultiWall), "built-in".into()),
-                (Box::new(rfsite_plugin_link_budget::LinkBudgetPlugin), "built-in".into()),
-                (Box::new(rfsite_plugin_reflection_nulls::ReflectionNulls), "built-in".into()),
-                (Box::new(rfsite_plugin_building_entry::BuildingEntry), "built-in".into()),
-                (Box::new(rfsite_plugin_survey_compare::SurveyCompare), "built-in".into()),
-                (Box::new(rfsite_plugin_calibration::Calibration), "built-in".into()),
+                (
+                    Box::new(rfsite_plugin_free_space::FreeSpace),
+                    "built-in".into(),
+                ),
+                (
+                    Box::new(rfsite_plugin_multi_wall::MultiWall),
+                    "built-in".into(),
+                ),
+                (
+                    Box::new(rfsite_plugin_link_budget::LinkBudgetPlugin),
+                    "built-in".into(),
+                ),
+                (
+                    Box::new(rfsite_plugin_reflection_nulls::ReflectionNulls),
+                    "built-in".into(),
+                ),
+                (
+                    Box::new(rfsite_plugin_building_entry::BuildingEntry),
+                    "built-in".into(),
+                ),
+                (
+                    Box::new(rfsite_plugin_survey_compare::SurveyCompare),
+                    "built-in".into(),
+                ),
+                (
+                    Box::new(rfsite_plugin_calibration::Calibration),
+                    "built-in".into(),
+                ),
                 (Box::new(rfsite_plugin_grading::Grading), "built-in".into()),
             ],
         }
@@ -138,21 +167,38 @@ impl Registry {
     /// An `after` naming a plugin that is not registered is ignored.
     pub fn ordered(&self) -> Result<Vec<&dyn Plugin>, EngineError> {
         let ids: BTreeSet<&str> = self.plugins.iter().map(|(p, _)| p.id()).collect();
-        let by_id: BTreeMap<&str, &dyn Plugin> = self.plugins.iter().map(|(p, _)| (p.id(), p.as_ref())).collect();
+        let by_id: BTreeMap<&str, &dyn Plugin> = self
+            .plugins
+            .iter()
+            .map(|(p, _)| (p.id(), p.as_ref()))
+            .collect();
         let mut deps: BTreeMap<&str, BTreeSet<String>> = BTreeMap::new();
         for (p, _) in &self.plugins {
-            deps.insert(p.id(), p.after().into_iter().filter(|a| ids.contains(a.as_str())).collect());
+            deps.insert(
+                p.id(),
+                p.after()
+                    .into_iter()
+                    .filter(|a| ids.contains(a.as_str()))
+                    .collect(),
+            );
         }
         let mut done: Vec<&str> = Vec::new();
         let mut left: BTreeSet<&str> = ids.clone();
         while !left.is_empty() {
-            let ready = left.iter().copied().find(|id| deps[id].iter().all(|d| done.contains(&d.as_str())));
+            let ready = left
+                .iter()
+                .copied()
+                .find(|id| deps[id].iter().all(|d| done.contains(&d.as_str())));
             match ready {
                 Some(id) => {
                     done.push(id);
                     left.remove(id);
                 }
-                None => return Err(EngineError::Cycle(left.iter().map(|s| s.to_string()).collect())),
+                None => {
+                    return Err(EngineError::Cycle(
+                        left.iter().map(|s| s.to_string()).collect(),
+                    ))
+                }
             }
         }
         Ok(done.into_iter().map(|id| by_id[id]).collect())
@@ -160,7 +206,11 @@ impl Registry {
 
     /// "built-in" or "external" for a plugin id.
     pub fn kind_of(&self, id: &str) -> &str {
-        self.plugins.iter().find(|(p, _)| p.id() == id).map(|(_, k)| k.as_str()).unwrap_or("built-in")
+        self.plugins
+            .iter()
+            .find(|(p, _)| p.id() == id)
+            .map(|(_, k)| k.as_str())
+            .unwrap_or("built-in")
     }
 }
 
@@ -173,7 +223,11 @@ fn enabled(site: &Site, id: &str) -> bool {
 }
 
 /// Runs the plugins on a loaded site and collects the assessment.
-pub fn run(loaded: &LoadedSite, registry: &Registry, inputs: Vec<InputFile>) -> Result<Assessment, EngineError> {
+pub fn run(
+    loaded: &LoadedSite,
+    registry: &Registry,
+    inputs: Vec<InputFile>,
+) -> Result<Assessment, EngineError> {
     let site = &loaded.site;
     let empty = toml::Table::new();
     let mut outputs: Vec<(String, PluginOutput)> = Vec::new();
@@ -188,17 +242,37 @@ pub fn run(loaded: &LoadedSite, registry: &Registry, inputs: Vec<InputFile>) -> 
             earlier: &outputs,
             surveys: &loaded.surveys,
         };
-        let out = p.run(&ctx).map_err(|error| EngineError::Plugin { id: p.id().into(), error })?;
-        runs.push(PluginRun { id: p.id().into(), version: p.version().into(), method: p.method(), kind: registry.kind_of(p.id()).into() });
+        let out = p.run(&ctx).map_err(|error| EngineError::Plugin {
+            id: p.id().into(),
+            error,
+        })?;
+        runs.push(PluginRun {
+            id: p.id().into(),
+            version: p.version().into(),
+            method: p.method(),
+            kind: registry.kind_of(p.id()).into(),
+        });
         outputs.push((p.id().to_string(), out));
     }
     Ok(collect(site, loaded, runs, outputs, inputs))
 }
 
-fn collect(site: &Site, loaded: &LoadedSite, plugins: Vec<PluginRun>, outputs: Vec<(String, PluginOutput)>, mut inputs: Vec<InputFile>) -> Assessment {
+fn collect(
+    site: &Site,
+    loaded: &LoadedSite,
+    plugins: Vec<PluginRun>,
+    outputs: Vec<(String, PluginOutput)>,
+    mut inputs: Vec<InputFile>,
+) -> Assessment {
     let mut a = Assessment {
-        tool: Tool { name: "rfsite".into(), version: VERSION.into() },
-        site: SiteRef { id: site.meta.id.clone(), name: site.meta.name.clone() },
+        tool: Tool {
+            name: "rfsite".into(),
+            version: VERSION.into(),
+        },
+        site: SiteRef {
+            id: site.meta.id.clone(),
+            name: site.meta.name.clone(),
+        },
         inputs: Vec::new(),
         plugins,
         services: Vec::new(),
@@ -233,15 +307,25 @@ fn collect(site: &Site, loaded: &LoadedSite, plugins: Vec<PluginRun>, outputs: V
         }
     }
     for w in &loaded.warnings.items {
-        a.warnings.push(Warning { plugin: "check".into(), message: format!("{}:{}:{}: {}", w.file, w.line, w.column, w.message) });
+        a.warnings.push(Warning {
+            plugin: "check".into(),
+            message: format!("{}:{}:{}: {}", w.file, w.line, w.column, w.message),
+        });
     }
     for m in &a.materials {
         for l in &m.losses {
             if l.extrapolated {
-                let (lo, hi) = site.materials.get(&m.id).and_then(|x| x.range_mhz()).unwrap_or((0.0, 0.0));
+                let (lo, hi) = site
+                    .materials
+                    .get(&m.id)
+                    .and_then(|x| x.range_mhz())
+                    .unwrap_or((0.0, 0.0));
                 a.warnings.push(Warning {
                     plugin: "materials".into(),
-                    message: format!("material `{}` at {} MHz ({}) is outside its range {}–{} MHz: extrapolated", m.id, l.freq_mhz, l.service, lo, hi),
+                    message: format!(
+                        "material `{}` at {} MHz ({}) is outside its range {}–{} MHz: extrapolated",
+                        m.id, l.freq_mhz, l.service, lo, hi
+                    ),
                 });
             }
         }
@@ -260,10 +344,21 @@ fn collect(site: &Site, loaded: &LoadedSite, plugins: Vec<PluginRun>, outputs: V
         rejected_rows: s.rejected.iter().take(50).cloned().collect(),
     };
     a.services.sort_by(|x, y| x.id.cmp(&y.id));
-    a.findings.sort_by(|x, y| x.severity.cmp(&y.severity).then(x.id.cmp(&y.id)));
+    a.findings
+        .sort_by(|x, y| x.severity.cmp(&y.severity).then(x.id.cmp(&y.id)));
     // Life-safety services first, then the largest shortfall.
-    let life = |r: &Remediation| r.service.as_ref().and_then(|s| site.service(s)).is_some_and(|s| s.life_safety);
-    a.remediation.sort_by(|x, y| life(y).cmp(&life(x)).then(y.margin_needed_db.total_cmp(&x.margin_needed_db)).then(x.id.cmp(&y.id)));
+    let life = |r: &Remediation| {
+        r.service
+            .as_ref()
+            .and_then(|s| site.service(s))
+            .is_some_and(|s| s.life_safety)
+    };
+    a.remediation.sort_by(|x, y| {
+        life(y)
+            .cmp(&life(x))
+            .then(y.margin_needed_db.total_cmp(&x.margin_needed_db))
+            .then(x.id.cmp(&y.id))
+    });
     a.warnings.sort();
     a.warnings.dedup();
     inputs.sort();
@@ -277,9 +372,13 @@ fn collect(site: &Site, loaded: &LoadedSite, plugins: Vec<PluginRun>, outputs: V
 pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
     let mut thickness: BTreeMap<&str, f64> = BTreeMap::new();
     for f in &site.floors {
-        thickness.entry(f.slab_material.as_str()).or_insert(f.slab_thickness_m);
+        thickness
+            .entry(f.slab_material.as_str())
+            .or_insert(f.slab_thickness_m);
         for p in &f.parts {
-            thickness.entry(p.material.as_str()).or_insert(p.thickness_m);
+            thickness
+                .entry(p.material.as_str())
+                .or_insert(p.thickness_m);
         }
     }
     site.materials_used
@@ -293,13 +392,23 @@ pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
                 .probes
                 .iter()
                 .filter(|p| p.material == m.id)
-                .map(|p| (p.freq_mhz, rfsite_model::material::probe_loss_db(p.clear_dbm, p.through_dbm)))
+                .map(|p| {
+                    (
+                        p.freq_mhz,
+                        rfsite_model::material::probe_loss_db(p.clear_dbm, p.through_dbm),
+                    )
+                })
                 .collect();
             let probe_loss_db = lib.and_then(|_| {
                 let at = |f: f64| probed.crossing_loss(f, 0.1, 1.0, Polarization::Te).loss_db;
                 site.services
                     .iter()
-                    .find(|s| probe_pts.iter().any(|(pf, _)| (pf - s.freq_mhz).abs() <= rfsite_model::material::PROBE_FREQ_TOLERANCE * s.freq_mhz))
+                    .find(|s| {
+                        probe_pts.iter().any(|(pf, _)| {
+                            (pf - s.freq_mhz).abs()
+                                <= rfsite_model::material::PROBE_FREQ_TOLERANCE * s.freq_mhz
+                        })
+                    })
                     .map(|s| at(s.freq_mhz))
                     .or_else(|| probe_pts.first().map(|p| at(p.0)))
             });
@@ -310,22 +419,34 @@ pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
                 name: m.name.clone(),
                 class: m.class.label().into(),
                 model: match (lib, probe_loss_db) {
-                    (Some(_), Some(pl)) => format!(
+                    (Some(_), Some(pl)) => {
+                        format!(
                         "{}; overridden by site probe: {:.1} dB at {} MHz (library values shown)",
                         m.model_label(),
                         pl,
                         probe_pts.iter().map(|p| format!("{}", p.0)).collect::<Vec<_>>().join(", ")
-                    ),
+                    )
+                    }
                     _ => m.model_label().into(),
                 },
                 source: m.source.clone(),
-                confidence: if lib.is_some() { format!("{}; site probe", m.confidence) } else { m.confidence.clone() },
+                confidence: if lib.is_some() {
+                    format!("{}; site probe", m.confidence)
+                } else {
+                    m.confidence.clone()
+                },
                 losses: site
                     .services
                     .iter()
                     .map(|s| {
                         let l = m.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te);
-                        MaterialLoss { service: s.id.clone(), freq_mhz: s.freq_mhz, thickness_m: (!empirical).then_some(t), loss_db: l.loss_db, extrapolated: l.note.is_some() }
+                        MaterialLoss {
+                            service: s.id.clone(),
+                            freq_mhz: s.freq_mhz,
+                            thickness_m: (!empirical).then_some(t),
+                            loss_db: l.loss_db,
+                            extrapolated: l.note.is_some(),
+                        }
                     })
                     .collect(),
                 probe_loss_db,
@@ -342,7 +463,11 @@ pub fn findings_json(a: &Assessment) -> String {
         #[serde(flatten)]
         a: &'a Assessment,
     }
-    let mut s = serde_json::to_string_pretty(&Doc { schema: FINDINGS_SCHEMA, a }).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    let mut s = serde_json::to_string_pretty(&Doc {
+        schema: FINDINGS_SCHEMA,
+        a,
+    })
+    .unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
     s.push('\n');
     s
 }

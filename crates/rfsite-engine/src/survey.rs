@@ -41,7 +41,12 @@ pub fn read_all(world: &mut World, site: &Site) -> (SurveyData, Diagnostics) {
         let path = match world.resolve(&s.file) {
             Ok(p) => p,
             Err(e) => {
-                diags.push(Diagnostic::whole_file(Severity::Error, &world.display_site_path(), e, None));
+                diags.push(Diagnostic::whole_file(
+                    Severity::Error,
+                    &world.display_site_path(),
+                    e,
+                    None,
+                ));
                 continue;
             }
         };
@@ -52,13 +57,28 @@ pub fn read_all(world: &mut World, site: &Site) -> (SurveyData, Diagnostics) {
                     Severity::Error,
                     &display_path(&path),
                     format!("survey file cannot be read: {e}"),
-                    Some(format!("check `file = \"{}\"` in the `[[surveys]]` entry of {}", s.file, world.display_site_path())),
+                    Some(format!(
+                        "check `file = \"{}\"` in the `[[surveys]]` entry of {}",
+                        s.file,
+                        world.display_site_path()
+                    )),
                 ));
                 continue;
             }
         };
-        let mut hr = HashingReader { inner: std::io::BufReader::new(file), hasher: Sha256::new() };
-        let rows = read_one(&mut hr, &s.file, s, site, &mut data, &mut diags, &display_path(&path));
+        let mut hr = HashingReader {
+            inner: std::io::BufReader::new(file),
+            hasher: Sha256::new(),
+        };
+        let rows = read_one(
+            &mut hr,
+            &s.file,
+            s,
+            site,
+            &mut data,
+            &mut diags,
+            &display_path(&path),
+        );
         // Drain whatever the CSV reader did not consume, so the hash covers the file.
         let _ = std::io::copy(&mut hr, &mut std::io::sink());
         let h = hr.hasher.finalize();
@@ -78,11 +98,20 @@ fn read_one<R: Read>(
     diags: &mut Diagnostics,
     shown: &str,
 ) -> usize {
-    let mut rdr = csv::ReaderBuilder::new().flexible(true).trim(csv::Trim::All).comment(Some(b'#')).from_reader(r);
+    let mut rdr = csv::ReaderBuilder::new()
+        .flexible(true)
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .from_reader(r);
     let headers = match rdr.headers() {
         Ok(h) => h.clone(),
         Err(e) => {
-            diags.push(Diagnostic::whole_file(Severity::Error, shown, format!("survey file has no readable header: {e}"), None));
+            diags.push(Diagnostic::whole_file(
+                Severity::Error,
+                shown,
+                format!("survey file has no readable header: {e}"),
+                None,
+            ));
             return 0;
         }
     };
@@ -97,7 +126,12 @@ fn read_one<R: Read>(
     let mut missing = Vec::new();
     for role in ["x", "y", "level_dbm"] {
         if idx[role].is_none() {
-            missing.push(s.columns.get(role).cloned().unwrap_or_else(|| role.to_string()));
+            missing.push(
+                s.columns
+                    .get(role)
+                    .cloned()
+                    .unwrap_or_else(|| role.to_string()),
+            );
         }
     }
     if s.floor.is_none() && idx["floor"].is_none() {
@@ -125,26 +159,42 @@ fn read_one<R: Read>(
             Ok(true) => {}
             Err(e) => {
                 rows += 1;
-                data.rejected.push(RejectedRow { file: name.into(), line, reason: "malformed".into(), detail: e.to_string() });
+                data.rejected.push(RejectedRow {
+                    file: name.into(),
+                    line,
+                    reason: "malformed".into(),
+                    detail: e.to_string(),
+                });
                 continue;
             }
         }
         rows += 1;
         let line = rec.position().map(|p| p.line() as usize).unwrap_or(line);
         let reject = |data: &mut SurveyData, reason: &str, detail: String| {
-            data.rejected.push(RejectedRow { file: name.into(), line, reason: reason.into(), detail });
+            data.rejected.push(RejectedRow {
+                file: name.into(),
+                line,
+                reason: reason.into(),
+                detail,
+            });
         };
         let get = |role: &str| idx[role].and_then(|i| rec.get(i)).filter(|v| !v.is_empty());
         let num = |role: &str| -> Result<f64, (String, String)> {
             match get(role) {
                 None => Err(("missing-value".into(), format!("no value for `{role}`"))),
-                Some(v) => v.parse::<f64>().ok().filter(|x| x.is_finite()).ok_or(("not-a-number".into(), format!("`{role}` = `{v}` is not a number"))),
+                Some(v) => v.parse::<f64>().ok().filter(|x| x.is_finite()).ok_or((
+                    "not-a-number".into(),
+                    format!("`{role}` = `{v}` is not a number"),
+                )),
             }
         };
         let (x, y, level) = match (num("x"), num("y"), num("level_dbm")) {
             (Ok(x), Ok(y), Ok(l)) => (x * to_m, y * to_m, l),
             (a, b, c) => {
-                let (reason, detail) = [a, b, c].into_iter().find_map(|r| r.err()).unwrap_or_default();
+                let (reason, detail) = [a, b, c]
+                    .into_iter()
+                    .find_map(|r| r.err())
+                    .unwrap_or_default();
                 reject(data, &reason, detail);
                 continue;
             }
@@ -157,7 +207,11 @@ fn read_one<R: Read>(
             }
         };
         let Some(fl) = site.floor(&floor) else {
-            reject(data, "unknown-floor", format!("floor `{floor}` is not in the site"));
+            reject(
+                data,
+                "unknown-floor",
+                format!("floor `{floor}` is not in the site"),
+            );
             continue;
         };
         let service = if let Some(sv) = get("service") {
@@ -180,14 +234,30 @@ fn read_one<R: Read>(
             }
         };
         if site.service(&service).is_none() {
-            reject(data, "unknown-service", format!("service `{service}` is not in the site"));
+            reject(
+                data,
+                "unknown-service",
+                format!("service `{service}` is not in the site"),
+            );
             continue;
         }
         if !rfsite_geometry::point_in_polygon(Point2::new(x, y), &fl.outline) {
-            reject(data, "off-plan", format!("({:.2}, {:.2}) m lies outside floor `{floor}`", x, y));
+            reject(
+                data,
+                "off-plan",
+                format!("({:.2}, {:.2}) m lies outside floor `{floor}`", x, y),
+            );
             continue;
         }
-        data.points.push(Measurement { floor, service, x_m: x, y_m: y, level_dbm: level, file: name.into(), line });
+        data.points.push(Measurement {
+            floor,
+            service,
+            x_m: x,
+            y_m: y,
+            level_dbm: level,
+            file: name.into(),
+            line,
+        });
     }
     rows
 }

@@ -39,16 +39,28 @@ impl World {
         let (root, file) = if site.is_dir() {
             (site.to_path_buf(), site.join("site.toml"))
         } else {
-            (site.parent().map(Path::to_path_buf).unwrap_or_else(|| PathBuf::from(".")), site.to_path_buf())
+            (
+                site.parent()
+                    .map(Path::to_path_buf)
+                    .unwrap_or_else(|| PathBuf::from(".")),
+                site.to_path_buf(),
+            )
         };
         if !file.is_file() {
             return Err(if site.is_dir() {
                 format!("{}: no site.toml in this folder\n  = hint: `rfsite init {}` writes one to start from", display_path(site), display_path(site))
             } else {
-                format!("{}: no such file\n  = hint: SITE is a site.toml or a folder holding one", display_path(site))
+                format!(
+                    "{}: no such file\n  = hint: SITE is a site.toml or a folder holding one",
+                    display_path(site)
+                )
             });
         }
-        Ok(World { root, site_file: file, hashes: BTreeMap::new() })
+        Ok(World {
+            root,
+            site_file: file,
+            hashes: BTreeMap::new(),
+        })
     }
 
     /// The site file as shown to the user.
@@ -58,18 +70,29 @@ impl World {
 
     /// Reads the site file.
     pub fn read_site_text(&mut self) -> Result<String, String> {
-        let name = self.site_file.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_else(|| "site.toml".into());
-        let bytes = std::fs::read(&self.site_file).map_err(|e| format!("{}: {e}", self.display_site_path()))?;
+        let name = self
+            .site_file
+            .file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_else(|| "site.toml".into());
+        let bytes = std::fs::read(&self.site_file)
+            .map_err(|e| format!("{}: {e}", self.display_site_path()))?;
         self.hashes.insert(name, sha256_hex(&bytes));
-        String::from_utf8(bytes).map_err(|_| format!("{}: the file is not UTF-8 text", self.display_site_path()))
+        String::from_utf8(bytes)
+            .map_err(|_| format!("{}: the file is not UTF-8 text", self.display_site_path()))
     }
 
     /// Resolves a path named in the site file (relative to the site folder); refuses
     /// absolute paths and `..` so a site cannot reach outside its folder.
     pub fn resolve(&self, rel: &str) -> Result<PathBuf, String> {
         let p = Path::new(rel);
-        if p.is_absolute() || p.components().any(|c| matches!(c, std::path::Component::ParentDir)) {
-            return Err(format!("`{rel}`: paths in a site file are relative to the site folder and stay inside it"));
+        if p.is_absolute()
+            || p.components()
+                .any(|c| matches!(c, std::path::Component::ParentDir))
+        {
+            return Err(format!(
+                "`{rel}`: paths in a site file are relative to the site folder and stay inside it"
+            ));
         }
         Ok(self.root.join(p))
     }
@@ -89,7 +112,13 @@ impl World {
 
     /// The inputs read so far, sorted by path.
     pub fn inputs(&self) -> Vec<InputFile> {
-        self.hashes.iter().map(|(p, h)| InputFile { path: p.clone(), sha256: h.clone() }).collect()
+        self.hashes
+            .iter()
+            .map(|(p, h)| InputFile {
+                path: p.clone(),
+                sha256: h.clone(),
+            })
+            .collect()
     }
 }
 
@@ -104,13 +133,23 @@ pub fn hash_file_if_exists(p: &Path) -> Option<String> {
 
 /// The `*.toml` files of a plugin folder, sorted by name: (path, text).
 pub fn read_plugin_folder(dir: &Path) -> Result<Vec<(PathBuf, String)>, String> {
-    let rd = std::fs::read_dir(dir).map_err(|e| format!("{}: {e}\n  = hint: --plugins names a folder of *.toml plugin declarations", display_path(dir)))?;
-    let mut files: Vec<PathBuf> = rd.flatten().map(|e| e.path()).filter(|p| p.is_file() && p.extension().is_some_and(|x| x == "toml")).collect();
+    let rd = std::fs::read_dir(dir).map_err(|e| {
+        format!(
+            "{}: {e}\n  = hint: --plugins names a folder of *.toml plugin declarations",
+            display_path(dir)
+        )
+    })?;
+    let mut files: Vec<PathBuf> = rd
+        .flatten()
+        .map(|e| e.path())
+        .filter(|p| p.is_file() && p.extension().is_some_and(|x| x == "toml"))
+        .collect();
     files.sort();
     files
         .into_iter()
         .map(|p| {
-            let text = std::fs::read_to_string(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?;
+            let text =
+                std::fs::read_to_string(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?;
             Ok((p, text))
         })
         .collect()
@@ -118,7 +157,12 @@ pub fn read_plugin_folder(dir: &Path) -> Result<Vec<(PathBuf, String)>, String> 
 
 /// Reads every file below `dir` (relative names with `/`), for template folders.
 pub fn read_dir_files(dir: &Path) -> Result<BTreeMap<String, Vec<u8>>, String> {
-    fn walk(base: &Path, d: &Path, out: &mut BTreeMap<String, Vec<u8>>, depth: usize) -> Result<(), String> {
+    fn walk(
+        base: &Path,
+        d: &Path,
+        out: &mut BTreeMap<String, Vec<u8>>,
+        depth: usize,
+    ) -> Result<(), String> {
         if depth > 4 {
             return Ok(());
         }
@@ -129,8 +173,15 @@ pub fn read_dir_files(dir: &Path) -> Result<BTreeMap<String, Vec<u8>>, String> {
             if p.is_dir() {
                 walk(base, &p, out, depth + 1)?;
             } else if p.is_file() {
-                let rel = p.strip_prefix(base).map_err(|e| e.to_string())?.to_string_lossy().replace('\\', "/");
-                out.insert(rel, std::fs::read(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?);
+                let rel = p
+                    .strip_prefix(base)
+                    .map_err(|e| e.to_string())?
+                    .to_string_lossy()
+                    .replace('\\', "/");
+                out.insert(
+                    rel,
+                    std::fs::read(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?,
+                );
             }
         }
         Ok(())
@@ -147,7 +198,13 @@ pub fn write_atomic(out: &Path, files: &[(String, Vec<u8>)]) -> Result<(), Strin
         let dest = out.join(rel);
         let parent = dest.parent().unwrap_or(out);
         std::fs::create_dir_all(parent).map_err(|e| format!("{}: {e}", display_path(parent)))?;
-        let tmp = dest.with_file_name(format!(".{}.tmp-{}", dest.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(), std::process::id()));
+        let tmp = dest.with_file_name(format!(
+            ".{}.tmp-{}",
+            dest.file_name()
+                .map(|n| n.to_string_lossy().to_string())
+                .unwrap_or_default(),
+            std::process::id()
+        ));
         std::fs::write(&tmp, bytes).map_err(|e| format!("{}: {e}", display_path(&tmp)))?;
         std::fs::rename(&tmp, &dest).map_err(|e| format!("{}: {e}", display_path(&dest)))?;
     }
@@ -169,7 +226,10 @@ pub fn write_outputs(out: &Path, files: &[(String, Vec<u8>)], world: &World) -> 
     // Remove figures of an earlier run so the folder holds exactly this run's outputs.
     let figs = out.join("figures");
     if figs.is_dir() {
-        for e in std::fs::read_dir(&figs).map_err(|e| e.to_string())?.flatten() {
+        for e in std::fs::read_dir(&figs)
+            .map_err(|e| e.to_string())?
+            .flatten()
+        {
             if e.path().extension().is_some_and(|x| x == "svg") {
                 let _ = std::fs::remove_file(e.path());
             }
@@ -178,14 +238,24 @@ pub fn write_outputs(out: &Path, files: &[(String, Vec<u8>)], world: &World) -> 
     for (rel, bytes) in files {
         let dest = out.join(rel);
         if let Some(parent) = dest.parent() {
-            std::fs::create_dir_all(parent).map_err(|e| format!("{}: {e}", display_path(parent)))?;
+            std::fs::create_dir_all(parent)
+                .map_err(|e| format!("{}: {e}", display_path(parent)))?;
         }
         if let Ok(c) = dest.canonicalize() {
             if inputs.contains(&c) {
-                return Err(format!("{}: refusing to overwrite an input file; choose another output folder with -o", display_path(&dest)));
+                return Err(format!(
+                    "{}: refusing to overwrite an input file; choose another output folder with -o",
+                    display_path(&dest)
+                ));
             }
         }
-        let tmp = dest.with_file_name(format!(".{}.tmp-{}", dest.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default(), std::process::id()));
+        let tmp = dest.with_file_name(format!(
+            ".{}.tmp-{}",
+            dest.file_name()
+                .map(|n| n.to_string_lossy().to_string())
+                .unwrap_or_default(),
+            std::process::id()
+        ));
         std::fs::write(&tmp, bytes).map_err(|e| format!("{}: {e}", display_path(&tmp)))?;
         std::fs::rename(&tmp, &dest).map_err(|e| format!("{}: {e}", display_path(&dest)))?;
     }

@@ -218,7 +218,12 @@ impl Diagnostics {
 pub fn closest<'a>(wanted: &str, known: impl IntoIterator<Item = &'a str>) -> Vec<&'a str> {
     let mut scored: Vec<(f64, &str)> = known
         .into_iter()
-        .map(|k| (strsim::jaro_winkler(&wanted.to_lowercase(), &k.to_lowercase()), k))
+        .map(|k| {
+            (
+                strsim::jaro_winkler(&wanted.to_lowercase(), &k.to_lowercase()),
+                k,
+            )
+        })
         .collect();
     scored.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(b.1)));
     scored

@@ -203,7 +203,10 @@ impl Material {
         pol: Polarization,
     ) -> CrossingLoss {
         let f_ghz = freq_mhz / 1000.0;
-        let theta = cos_incidence.clamp(0.0, 1.0).acos().min(89.0_f64.to_radians());
+        let theta = cos_incidence
+            .clamp(0.0, 1.0)
+            .acos()
+            .min(89.0_f64.to_radians());
         match &self.model {
             MaterialModel::Empirical { loss_db, .. } => {
                 let (l, extrapolated) = interp_log_f(loss_db, freq_mhz);
@@ -289,7 +292,9 @@ impl Material {
     pub fn range_mhz(&self) -> Option<(f64, f64)> {
         match &self.model {
             MaterialModel::Itu(m) => Some((m.f_min_ghz * 1000.0, m.f_max_ghz * 1000.0)),
-            MaterialModel::Empirical { loss_db, .. } => Some((loss_db.first()?.0, loss_db.last()?.0)),
+            MaterialModel::Empirical { loss_db, .. } => {
+                Some((loss_db.first()?.0, loss_db.last()?.0))
+            }
             MaterialModel::Layered(l) => l.iter().find_map(|(m, _)| match m {
                 MaterialModel::Itu(i) => Some((i.f_min_ghz * 1000.0, i.f_max_ghz * 1000.0)),
                 _ => None,
@@ -441,21 +446,35 @@ impl MaterialLibrary {
     /// the probed span, the library's normal-incidence value at `thickness_m` is kept in the
     /// table, so a probe overrides the material only at the frequencies it was made at.
     /// The library entry is kept in `before_probes`. Returns notes for the report.
-    pub fn apply_probes(&mut self, probes: &[ProbePoint], service_freqs_mhz: &[f64], thickness_m: &BTreeMap<String, f64>) -> Vec<String> {
+    pub fn apply_probes(
+        &mut self,
+        probes: &[ProbePoint],
+        service_freqs_mhz: &[f64],
+        thickness_m: &BTreeMap<String, f64>,
+    ) -> Vec<String> {
         let mut notes = Vec::new();
         let mut by_mat: BTreeMap<&str, Vec<(f64, f64)>> = BTreeMap::new();
         for p in probes {
-            by_mat.entry(p.material.as_str()).or_default().push((p.freq_mhz, p.loss_db));
+            by_mat
+                .entry(p.material.as_str())
+                .or_default()
+                .push((p.freq_mhz, p.loss_db));
         }
         for (id, mut pts) in by_mat {
-            let Some(orig) = self.materials.get(id).cloned() else { continue };
+            let Some(orig) = self.materials.get(id).cloned() else {
+                continue;
+            };
             pts.sort_by(|a, b| a.0.total_cmp(&b.0));
             // Average probes at the same frequency.
             let mut table: Vec<(f64, f64)> = Vec::new();
             let mut i = 0;
             while i < pts.len() {
                 let f = pts[i].0;
-                let same: Vec<f64> = pts[i..].iter().take_while(|p| (p.0 - f).abs() < 1e-9).map(|p| p.1).collect();
+                let same: Vec<f64> = pts[i..]
+                    .iter()
+                    .take_while(|p| (p.0 - f).abs() < 1e-9)
+                    .map(|p| p.1)
+                    .collect();
                 let n = same.len();
                 let mean = same.iter().sum::<f64>() / n as f64;
                 if mean < 0.0 {
@@ -471,7 +490,11 @@ impl MaterialLibrary {
                 if fs >= lo && fs <= hi {
                     continue;
                 }
-                let (fn_, ln) = if fs < lo { table[0] } else { table[table.len() - 1] };
+                let (fn_, ln) = if fs < lo {
+                    table[0]
+                } else {
+                    table[table.len() - 1]
+                };
                 if (fs - fn_).abs() <= PROBE_FREQ_TOLERANCE * fs {
                     extra.push((fs, ln));
                 } else {
@@ -484,16 +507,24 @@ impl MaterialLibrary {
             table.sort_by(|a, b| a.0.total_cmp(&b.0));
             table.dedup_by(|a, b| (a.0 - b.0).abs() < 1e-9);
             let reflection_loss_db = match &orig.model {
-                MaterialModel::Empirical { reflection_loss_db, .. } => reflection_loss_db.clone(),
+                MaterialModel::Empirical {
+                    reflection_loss_db, ..
+                } => reflection_loss_db.clone(),
                 _ => Vec::new(),
             };
             let probed = Material {
                 id: orig.id.clone(),
                 name: orig.name.clone(),
                 class: orig.class,
-                source: format!("site probe measurement (clear-path minus through level); library: {}", orig.source),
+                source: format!(
+                    "site probe measurement (clear-path minus through level); library: {}",
+                    orig.source
+                ),
                 confidence: "site probe".into(),
-                model: MaterialModel::Empirical { loss_db: table, reflection_loss_db },
+                model: MaterialModel::Empirical {
+                    loss_db: table,
+                    reflection_loss_db,
+                },
                 origin: "probe".into(),
             };
             self.before_probes.insert(id.to_string(), orig);
@@ -531,23 +562,40 @@ mod tests {
         // Hand numbers: clear -40 dBm, through -66 dBm gives 26 dB (issue 4 item 2:
         // loss = clear - through). A 2400 MHz service keeps the library value.
         let mut lib = MaterialLibrary::builtin();
-        let lib_2400 = lib.get("concrete").unwrap().crossing_loss(2400.0, 0.2, 1.0, Polarization::Te).loss_db;
+        let lib_2400 = lib
+            .get("concrete")
+            .unwrap()
+            .crossing_loss(2400.0, 0.2, 1.0, Polarization::Te)
+            .loss_db;
         let probes = vec![
-            ProbePoint { material: "concrete".into(), freq_mhz: 900.0, loss_db: probe_loss_db(-40.0, -66.0) },
-            ProbePoint { material: "concrete".into(), freq_mhz: 900.0, loss_db: probe_loss_db(-40.0, -68.0) },
+            ProbePoint {
+                material: "concrete".into(),
+                freq_mhz: 900.0,
+                loss_db: probe_loss_db(-40.0, -66.0),
+            },
+            ProbePoint {
+                material: "concrete".into(),
+                freq_mhz: 900.0,
+                loss_db: probe_loss_db(-40.0, -68.0),
+            },
         ];
         let th: BTreeMap<String, f64> = [("concrete".to_string(), 0.2)].into();
         let notes = lib.apply_probes(&probes, &[900.0, 2400.0], &th);
         let m = lib.get("concrete").unwrap();
         assert_eq!(m.origin, "probe");
         assert!((m.crossing_loss(900.0, 0.2, 0.3, Polarization::Te).loss_db - 27.0).abs() < 1e-12);
-        assert!((m.crossing_loss(2400.0, 0.2, 1.0, Polarization::Te).loss_db - lib_2400).abs() < 1e-9);
+        assert!(
+            (m.crossing_loss(2400.0, 0.2, 1.0, Polarization::Te).loss_db - lib_2400).abs() < 1e-9
+        );
         assert!(lib.before_probes.contains_key("concrete"));
         assert_eq!(notes.len(), 1);
         // 850 MHz lies within 10 % of the 900 MHz probe: the probe value holds there.
         let mut lib2 = MaterialLibrary::builtin();
         lib2.apply_probes(&probes[..1], &[850.0], &th);
-        let l = lib2.get("concrete").unwrap().crossing_loss(850.0, 0.2, 1.0, Polarization::Te);
+        let l = lib2
+            .get("concrete")
+            .unwrap()
+            .crossing_loss(850.0, 0.2, 1.0, Polarization::Te);
         assert!((l.loss_db - 26.0).abs() < 1e-12 && l.note.is_none());
     }
 

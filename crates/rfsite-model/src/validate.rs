@@ -31,8 +31,13 @@ impl<'a> V<'a> {
             .push(Diagnostic::at(Severity::Error, self.file, span, msg, hint));
     }
     fn warn(&mut self, span: Range<usize>, msg: impl Into<String>, hint: Option<String>) {
-        self.diags
-            .push(Diagnostic::at(Severity::Warning, self.file, span, msg, hint));
+        self.diags.push(Diagnostic::at(
+            Severity::Warning,
+            self.file,
+            span,
+            msg,
+            hint,
+        ));
     }
     fn req<'b, T>(
         &mut self,
@@ -65,9 +70,15 @@ impl<'a> V<'a> {
                 v.span(),
                 format!(
                     "`{field}` must be {} (got {x})",
-                    if allow_zero { "zero or more" } else { "more than zero" }
+                    if allow_zero {
+                        "zero or more"
+                    } else {
+                        "more than zero"
+                    }
                 ),
-                Some("lengths are in the units set by `site.units`; write a positive number".into()),
+                Some(
+                    "lengths are in the units set by `site.units`; write a positive number".into(),
+                ),
             );
             return None;
         }
@@ -112,7 +123,11 @@ impl<'a> V<'a> {
                 format!("`{field}` is a fraction from 0 to 1 (got {x})"),
                 Some(format!(
                     "write 95 % as 0.95: `{field} = {}`",
-                    if x > 1.0 && x <= 100.0 { x / 100.0 } else { 0.95 }
+                    if x > 1.0 && x <= 100.0 {
+                        x / 100.0
+                    } else {
+                        0.95
+                    }
                 )),
             );
             return None;
@@ -241,10 +256,7 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
         for seg in &path {
             let next = if let Some(val) = value {
                 match val.get_ref() {
-                    toml::de::DeValue::Array(a) => seg
-                        .parse::<usize>()
-                        .ok()
-                        .and_then(|i| a.get(i)),
+                    toml::de::DeValue::Array(a) => seg.parse::<usize>().ok().and_then(|i| a.get(i)),
                     toml::de::DeValue::Table(t) => {
                         table = t;
                         find_key(table, seg, &mut span)
@@ -267,8 +279,16 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
         let last = path.last().map(|s| s.as_str()).unwrap_or("");
         v.warn(
             span,
-            format!("unknown key `{}` is ignored", path.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(".")),
-            Some(format!("check the spelling of `{last}`; README.md lists every key")),
+            format!(
+                "unknown key `{}` is ignored",
+                path.iter()
+                    .map(|s| s.as_str())
+                    .collect::<Vec<_>>()
+                    .join(".")
+            ),
+            Some(format!(
+                "check the spelling of `{last}`; README.md lists every key"
+            )),
         );
     }
 }
@@ -328,7 +348,13 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     };
     v.to_m = units.to_m();
     let id = v
-        .req(&m.id, mspan.clone(), "`[site]`", "id", "add `id = \"short-name\"`")
+        .req(
+            &m.id,
+            mspan.clone(),
+            "`[site]`",
+            "id",
+            "add `id = \"short-name\"`",
+        )
         .cloned()
         .unwrap_or_default();
     if let Some(idv) = &m.id {
@@ -346,7 +372,13 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         }
     }
     let name = v
-        .req(&m.name, mspan.clone(), "`[site]`", "name", "add `name = \"...\"`")
+        .req(
+            &m.name,
+            mspan.clone(),
+            "`[site]`",
+            "name",
+            "add `name = \"...\"`",
+        )
         .cloned()
         .unwrap_or_default();
     let report_date = match &m.report_date {
@@ -355,7 +387,10 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 v.error(
                     d.span(),
                     format!("`report_date` must be YYYY-MM-DD (got `{}`)", d.get_ref()),
-                    Some("e.g. `report_date = \"2026-11-20\"`; the report never reads the clock".into()),
+                    Some(
+                        "e.g. `report_date = \"2026-11-20\"`; the report never reads the clock"
+                            .into(),
+                    ),
                 );
             }
             d.get_ref().clone()
@@ -487,7 +522,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         let span = rm.span();
         let r = rm.get_ref();
         let Some(idv) = &r.id else {
-            v.error(span, "`[[materials]]` entry is missing `id`", Some("add `id = \"my-material\"`".into()));
+            v.error(
+                span,
+                "`[[materials]]` entry is missing `id`",
+                Some("add `id = \"my-material\"`".into()),
+            );
             continue;
         };
         v.unique(&mut seen, idv, "material");
@@ -504,7 +543,10 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                     MaterialClass::Other
                 }
             },
-            None => lib.get(&id).map(|m| m.class).unwrap_or(MaterialClass::Other),
+            None => lib
+                .get(&id)
+                .map(|m| m.class)
+                .unwrap_or(MaterialClass::Other),
         };
         let kinds = [
             r.loss_db.is_some(),
@@ -569,7 +611,9 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                     v.error(l.span(), "a layer needs `material` and `thickness`", None);
                     continue;
                 };
-                let Some(t) = v.length(th, "thickness", false) else { continue };
+                let Some(t) = v.length(th, "thickness", false) else {
+                    continue;
+                };
                 match lib.get(mid.get_ref()).map(|m| m.model.clone()) {
                     Some(mm @ (MaterialModel::Itu(_) | MaterialModel::CustomSlab { .. })) => {
                         layers.push((mm, t))
@@ -589,7 +633,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         } else {
             continue;
         };
-        let name = r.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_else(|| id.clone());
+        let name = r
+            .name
+            .as_ref()
+            .map(|n| n.get_ref().clone())
+            .unwrap_or_else(|| id.clone());
         let source = r
             .source
             .as_ref()
@@ -613,26 +661,45 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let mut floors: Vec<Floor> = Vec::new();
     let mut floor_ids = BTreeSet::new();
     if raw.floors.is_empty() {
-        v.error(whole.clone(), "the site has no `[[floors]]`", Some("add at least one `[[floors]]` with `id`, `elevation`, `height` and `outline`".into()));
+        v.error(
+            whole.clone(),
+            "the site has no `[[floors]]`",
+            Some(
+                "add at least one `[[floors]]` with `id`, `elevation`, `height` and `outline`"
+                    .into(),
+            ),
+        );
     }
     let mut used_materials: BTreeSet<String> = BTreeSet::new();
     for rf in &raw.floors {
         let span = rf.span();
         let f = rf.get_ref();
         let Some(idv) = &f.id else {
-            v.error(span, "`[[floors]]` entry is missing `id`", Some("add `id = \"L1\"`".into()));
+            v.error(
+                span,
+                "`[[floors]]` entry is missing `id`",
+                Some("add `id = \"L1\"`".into()),
+            );
             continue;
         };
         v.unique(&mut floor_ids, idv, "floor");
         let what = format!("floor `{}`", idv.get_ref());
         let elevation_m = f.elevation.as_ref().and_then(|e| v.coord(e));
         if f.elevation.is_none() {
-            v.error(span.clone(), format!("{what} is missing `elevation`"), Some("add `elevation = 0.0` (site units, finished floor level)".into()));
+            v.error(
+                span.clone(),
+                format!("{what} is missing `elevation`"),
+                Some("add `elevation = 0.0` (site units, finished floor level)".into()),
+            );
         }
         let height_m = match &f.height {
             Some(h) => v.length(h, "height", false),
             None => {
-                v.error(span.clone(), format!("{what} is missing `height`"), Some("add the floor-to-floor `height` in site units".into()));
+                v.error(
+                    span.clone(),
+                    format!("{what} is missing `height`"),
+                    Some("add the floor-to-floor `height` in site units".into()),
+                );
                 None
             }
         };
@@ -656,19 +723,33 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 let pts = v.points(o);
                 if let Some(p) = &pts {
                     if p.len() < 3 || rfsite_geometry::polygon_area(p) <= 0.0 {
-                        v.error(o.span(), format!("{what}: the outline needs at least 3 points enclosing an area"), None);
+                        v.error(
+                            o.span(),
+                            format!(
+                                "{what}: the outline needs at least 3 points enclosing an area"
+                            ),
+                            None,
+                        );
                     }
                 }
                 pts.unwrap_or_default()
             }
             None => {
-                v.error(span.clone(), format!("{what} is missing `outline`"), Some("add `outline = [[0, 0], [40, 0], [40, 25], [0, 25]]`".into()));
+                v.error(
+                    span.clone(),
+                    format!("{what} is missing `outline`"),
+                    Some("add `outline = [[0, 0], [40, 0], [40, 25], [0, 25]]`".into()),
+                );
                 Vec::new()
             }
         };
         floors.push(Floor {
             id: idv.get_ref().clone(),
-            name: f.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_else(|| idv.get_ref().clone()),
+            name: f
+                .name
+                .as_ref()
+                .map(|n| n.get_ref().clone())
+                .unwrap_or_else(|| idv.get_ref().clone()),
             elevation_m: elevation_m.unwrap_or(0.0),
             height_m: height_m.unwrap_or(3.0),
             slab_material,
@@ -680,45 +761,66 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         });
     }
     let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();
-    let floor_of = |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<usize> {
-        match fid {
-            Some(f) => match floor_names.iter().position(|x| x == f.get_ref()) {
-                Some(i) => Some(i),
+    let floor_of =
+        |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<usize> {
+            match fid {
+                Some(f) => match floor_names.iter().position(|x| x == f.get_ref()) {
+                    Some(i) => Some(i),
+                    None => {
+                        let hint = unknown_name_hint(
+                            "floor",
+                            f.get_ref(),
+                            floor_names.iter().map(String::as_str),
+                        );
+                        v.error(
+                            f.span(),
+                            format!("{what} is on floor `{}`, which does not exist", f.get_ref()),
+                            Some(hint),
+                        );
+                        None
+                    }
+                },
                 None => {
-                    let hint = unknown_name_hint("floor", f.get_ref(), floor_names.iter().map(String::as_str));
-                    v.error(f.span(), format!("{what} is on floor `{}`, which does not exist", f.get_ref()), Some(hint));
+                    v.error(
+                        span,
+                        format!("{what} is missing `floor`"),
+                        Some(format!(
+                            "add `floor = \"{}\"`",
+                            floor_names.first().map(String::as_str).unwrap_or("L1")
+                        )),
+                    );
                     None
                 }
-            },
-            None => {
-                v.error(span, format!("{what} is missing `floor`"), Some(format!("add `floor = \"{}\"`", floor_names.first().map(String::as_str).unwrap_or("L1"))));
-                None
             }
-        }
-    };
+        };
 
     // ---- openings grouped by wall id
     let mut openings: BTreeMap<String, Vec<&S<RawOpening>>> = BTreeMap::new();
     for o in &raw.openings {
         match &o.get_ref().wall {
             Some(w) => openings.entry(w.get_ref().clone()).or_default().push(o),
-            None => v.error(o.span(), "`[[openings]]` entry is missing `wall`", Some("name the wall it sits in: `wall = \"W3\"` (the wall needs an `id`)".into())),
+            None => v.error(
+                o.span(),
+                "`[[openings]]` entry is missing `wall`",
+                Some("name the wall it sits in: `wall = \"W3\"` (the wall needs an `id`)".into()),
+            ),
         }
     }
     let mut wall_ids = BTreeSet::new();
     for (wi, rw) in raw.walls.iter().enumerate() {
         let span = rw.span();
         let w = rw.get_ref();
-        let wid = w.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_else(|| format!("wall-{}", wi + 1));
+        let wid =
+            w.id.as_ref()
+                .map(|i| i.get_ref().clone())
+                .unwrap_or_else(|| format!("wall-{}", wi + 1));
         if let Some(i) = &w.id {
             v.unique(&mut wall_ids, i, "wall");
         }
         let what = format!("wall `{wid}`");
         let fi = floor_of(v, &w.floor, span.clone(), &what);
         let material = match &w.material {
-            Some(m) => {
-                check_material(v, &lib, m).then(|| m.get_ref().clone())
-            }
+            Some(m) => check_material(v, &lib, m).then(|| m.get_ref().clone()),
             None => {
                 v.error(span.clone(), format!("{what} is missing `material`"), Some("add `material = \"plasterboard-partition\"`; `rfsite materials` lists them".into()));
                 None
@@ -727,7 +829,14 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         let thickness_m = match &w.thickness {
             Some(t) => v.length(t, "thickness", false),
             None => {
-                v.error(span.clone(), format!("{what} is missing `thickness`"), Some("add `thickness` in site units (e.g. 0.1 for a 100 mm partition in metres)".into()));
+                v.error(
+                    span.clone(),
+                    format!("{what} is missing `thickness`"),
+                    Some(
+                        "add `thickness` in site units (e.g. 0.1 for a 100 mm partition in metres)"
+                            .into(),
+                    ),
+                );
                 None
             }
         };
@@ -742,13 +851,22 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 pts
             }
             None => {
-                v.error(span.clone(), format!("{what} is missing `points`"), Some("add `points = [[x1, y1], [x2, y2]]`".into()));
+                v.error(
+                    span.clone(),
+                    format!("{what} is missing `points`"),
+                    Some("add `points = [[x1, y1], [x2, y2]]`".into()),
+                );
                 None
             }
         };
         let closed = w.closed.as_ref().map(|c| *c.get_ref()).unwrap_or(false);
-        let ops = w.id.as_ref().and_then(|i| openings.remove(i.get_ref())).unwrap_or_default();
-        let (Some(fi), Some(material), Some(thickness_m), Some(mut pts)) = (fi, material, thickness_m, pts) else {
+        let ops =
+            w.id.as_ref()
+                .and_then(|i| openings.remove(i.get_ref()))
+                .unwrap_or_default();
+        let (Some(fi), Some(material), Some(thickness_m), Some(mut pts)) =
+            (fi, material, thickness_m, pts)
+        else {
             continue;
         };
         if pts.len() < 2 {
@@ -763,13 +881,21 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         let mut intervals: Vec<(f64, f64, WallPart)> = Vec::new();
         for o in ops {
             let or = o.get_ref();
-            let oid = or.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_else(|| format!("{wid}-opening"));
+            let oid = or
+                .id
+                .as_ref()
+                .map(|i| i.get_ref().clone())
+                .unwrap_or_else(|| format!("{wid}-opening"));
             let kind = match &or.kind {
                 Some(k) => match k.get_ref().as_str() {
                     "door" => PartKind::Door,
                     "window" => PartKind::Window,
                     other => {
-                        v.error(k.span(), format!("unknown opening kind `{other}`"), Some("write `door` or `window`".into()));
+                        v.error(
+                            k.span(),
+                            format!("unknown opening kind `{other}`"),
+                            Some("write `door` or `window`".into()),
+                        );
                         continue;
                     }
                 },
@@ -783,16 +909,28 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                     m.get_ref().clone()
                 }
                 None => {
-                    v.error(o.span(), format!("opening `{oid}` is missing `material`"), Some("e.g. `material = \"wooden-door\"`".into()));
+                    v.error(
+                        o.span(),
+                        format!("opening `{oid}` is missing `material`"),
+                        Some("e.g. `material = \"wooden-door\"`".into()),
+                    );
                     continue;
                 }
             };
             used_materials.insert(om.clone());
             let (Some(off), Some(wd)) = (&or.offset, &or.width) else {
-                v.error(o.span(), format!("opening `{oid}` needs `offset` (from the wall's first point) and `width`"), None);
+                v.error(
+                    o.span(),
+                    format!(
+                        "opening `{oid}` needs `offset` (from the wall's first point) and `width`"
+                    ),
+                    None,
+                );
                 continue;
             };
-            let (Some(off_m), Some(w_m)) = (v.length(off, "offset", true), v.length(wd, "width", false)) else {
+            let (Some(off_m), Some(w_m)) =
+                (v.length(off, "offset", true), v.length(wd, "width", false))
+            else {
                 continue;
             };
             if off_m + w_m > polyline_len + 1e-9 {
@@ -810,24 +948,64 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             intervals.push((
                 off_m,
                 off_m + w_m,
-                WallPart { id: oid, segment: Segment { a: Point2::default(), b: Point2::default() }, material: om, thickness_m: th, kind },
+                WallPart {
+                    id: oid,
+                    segment: Segment {
+                        a: Point2::default(),
+                        b: Point2::default(),
+                    },
+                    material: om,
+                    thickness_m: th,
+                    kind,
+                },
             ));
         }
         intervals.sort_by(|a, b| a.0.total_cmp(&b.0));
         for w2 in intervals.windows(2) {
             if w2[1].0 < w2[0].1 - 1e-9 {
-                v.error(span.clone(), format!("openings `{}` and `{}` overlap on wall `{wid}`", w2[0].2.id, w2[1].2.id), None);
+                v.error(
+                    span.clone(),
+                    format!(
+                        "openings `{}` and `{}` overlap on wall `{wid}`",
+                        w2[0].2.id, w2[1].2.id
+                    ),
+                    None,
+                );
             }
         }
-        let wall_part = WallPart { id: wid.clone(), segment: Segment { a: pts[0], b: pts[1] }, material, thickness_m, kind: PartKind::Wall };
-        floors[fi].parts.extend(split_polyline(&pts, &intervals, &wall_part));
+        let wall_part = WallPart {
+            id: wid.clone(),
+            segment: Segment {
+                a: pts[0],
+                b: pts[1],
+            },
+            material,
+            thickness_m,
+            kind: PartKind::Wall,
+        };
+        floors[fi]
+            .parts
+            .extend(split_polyline(&pts, &intervals, &wall_part));
     }
     for (wid, ops) in openings {
         for o in ops {
-            let span = o.get_ref().wall.as_ref().map(|w| w.span()).unwrap_or(o.span());
-            let known: Vec<String> = raw.walls.iter().filter_map(|w| w.get_ref().id.as_ref().map(|i| i.get_ref().clone())).collect();
+            let span = o
+                .get_ref()
+                .wall
+                .as_ref()
+                .map(|w| w.span())
+                .unwrap_or(o.span());
+            let known: Vec<String> = raw
+                .walls
+                .iter()
+                .filter_map(|w| w.get_ref().id.as_ref().map(|i| i.get_ref().clone()))
+                .collect();
             let hint = unknown_name_hint("wall id", &wid, known.iter().map(String::as_str));
-            v.error(span, format!("opening refers to wall `{wid}`, which does not exist"), Some(hint));
+            v.error(
+                span,
+                format!("opening refers to wall `{wid}`, which does not exist"),
+                Some(hint),
+            );
         }
     }
 
@@ -836,7 +1014,10 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     for rz in &raw.zones {
         let span = rz.span();
         let z = rz.get_ref();
-        let zid = z.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_default();
+        let zid =
+            z.id.as_ref()
+                .map(|i| i.get_ref().clone())
+                .unwrap_or_default();
         if let Some(i) = &z.id {
             v.unique(&mut zone_ids, i, "zone");
         } else {
@@ -850,7 +1031,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 "critical" => Some(ZoneKind::Critical),
                 "excluded" => Some(ZoneKind::Excluded),
                 other => {
-                    v.error(k.span(), format!("unknown zone kind `{other}`"), Some("write `general`, `critical` or `excluded`".into()));
+                    v.error(
+                        k.span(),
+                        format!("unknown zone kind `{other}`"),
+                        Some("write `general`, `critical` or `excluded`".into()),
+                    );
                     None
                 }
             },
@@ -861,7 +1046,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 let pts = v.points(p);
                 if let Some(q) = &pts {
                     if q.len() < 3 {
-                        v.error(p.span(), format!("{what}: a polygon needs at least 3 points"), None);
+                        v.error(
+                            p.span(),
+                            format!("{what}: a polygon needs at least 3 points"),
+                            None,
+                        );
                         None
                     } else {
                         pts
@@ -876,7 +1065,16 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             }
         };
         if let (Some(fi), Some(kind), Some(polygon)) = (fi, kind, poly) {
-            floors[fi].zones.push(Zone { id: zid, name: z.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_default(), kind, polygon });
+            floors[fi].zones.push(Zone {
+                id: zid,
+                name: z
+                    .name
+                    .as_ref()
+                    .map(|n| n.get_ref().clone())
+                    .unwrap_or_default(),
+                kind,
+                polygon,
+            });
         }
     }
 
@@ -884,7 +1082,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let mut services = Vec::new();
     let mut service_ids = BTreeSet::new();
     if raw.services.is_empty() {
-        v.error(whole.clone(), "the site has no `[[services]]`", Some("add a `[[services]]` with `id`, `freq_mhz` and `threshold_dbm`".into()));
+        v.error(
+            whole.clone(),
+            "the site has no `[[services]]`",
+            Some("add a `[[services]]` with `id`, `freq_mhz` and `threshold_dbm`".into()),
+        );
     }
     for rs in &raw.services {
         let span = rs.span();
@@ -895,41 +1097,104 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         };
         v.unique(&mut service_ids, idv, "service");
         let what = format!("service `{}`", idv.get_ref());
-        let freq = v.req(&s.freq_mhz, span.clone(), &what, "freq_mhz", "add the centre frequency, e.g. `freq_mhz = 770.0`").copied();
+        let freq = v
+            .req(
+                &s.freq_mhz,
+                span.clone(),
+                &what,
+                "freq_mhz",
+                "add the centre frequency, e.g. `freq_mhz = 770.0`",
+            )
+            .copied();
         if let (Some(f), Some(fs)) = (freq, &s.freq_mhz) {
             if !(1.0..=100_000.0).contains(&f) {
-                v.error(fs.span(), format!("frequency {f} MHz is outside 1 MHz to 100 GHz"), Some("`freq_mhz` is in MHz: 2.4 GHz is 2400".into()));
+                v.error(
+                    fs.span(),
+                    format!("frequency {f} MHz is outside 1 MHz to 100 GHz"),
+                    Some("`freq_mhz` is in MHz: 2.4 GHz is 2400".into()),
+                );
             }
         }
-        let thr = v.req(&s.threshold_dbm, span.clone(), &what, "threshold_dbm", "add e.g. `threshold_dbm = -95.0`").copied();
-        let tg = s.target_general.as_ref().and_then(|t| v.fraction(t, "target_general")).unwrap_or(0.95);
-        let tc = s.target_critical.as_ref().and_then(|t| v.fraction(t, "target_critical")).unwrap_or(0.99);
-        let metric = s.metric.as_ref().map(|m| m.get_ref().clone()).unwrap_or_else(|| "rssi-dbm".into());
+        let thr = v
+            .req(
+                &s.threshold_dbm,
+                span.clone(),
+                &what,
+                "threshold_dbm",
+                "add e.g. `threshold_dbm = -95.0`",
+            )
+            .copied();
+        let tg = s
+            .target_general
+            .as_ref()
+            .and_then(|t| v.fraction(t, "target_general"))
+            .unwrap_or(0.95);
+        let tc = s
+            .target_critical
+            .as_ref()
+            .and_then(|t| v.fraction(t, "target_critical"))
+            .unwrap_or(0.99);
+        let metric = s
+            .metric
+            .as_ref()
+            .map(|m| m.get_ref().clone())
+            .unwrap_or_else(|| "rssi-dbm".into());
         if metric != "rssi-dbm" {
             if let Some(ms) = &s.metric {
-                v.error(ms.span(), format!("unknown metric `{metric}`"), Some("this version grades `rssi-dbm` (received power at an isotropic antenna)".into()));
+                v.error(
+                    ms.span(),
+                    format!("unknown metric `{metric}`"),
+                    Some(
+                        "this version grades `rssi-dbm` (received power at an isotropic antenna)"
+                            .into(),
+                    ),
+                );
             }
         }
         services.push(Service {
             id: idv.get_ref().clone(),
-            name: s.name.as_ref().map(|n| n.get_ref().clone()).unwrap_or_else(|| idv.get_ref().clone()),
+            name: s
+                .name
+                .as_ref()
+                .map(|n| n.get_ref().clone())
+                .unwrap_or_else(|| idv.get_ref().clone()),
             freq_mhz: freq.unwrap_or(1000.0),
             metric,
             threshold_dbm: thr.unwrap_or(-95.0),
             target_general: tg,
             target_critical: tc,
-            design_margin_db: s.design_margin_db.as_ref().map(|d| *d.get_ref()).unwrap_or(0.0),
-            life_safety: s.life_safety.as_ref().map(|d| *d.get_ref()).unwrap_or(false),
+            design_margin_db: s
+                .design_margin_db
+                .as_ref()
+                .map(|d| *d.get_ref())
+                .unwrap_or(0.0),
+            life_safety: s
+                .life_safety
+                .as_ref()
+                .map(|d| *d.get_ref())
+                .unwrap_or(false),
             rules: s.rules.as_ref().map(|r| r.get_ref().clone()),
         });
     }
     let svc_names: Vec<String> = services.iter().map(|s| s.id.clone()).collect();
-    let service_of = |v: &mut V<'_>, sid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<String> {
+    let service_of = |v: &mut V<'_>,
+                      sid: &Option<S<String>>,
+                      span: Range<usize>,
+                      what: &str|
+     -> Option<String> {
         match sid {
             Some(s) if svc_names.contains(s.get_ref()) => Some(s.get_ref().clone()),
             Some(s) => {
-                let hint = unknown_name_hint("service", s.get_ref(), svc_names.iter().map(String::as_str));
-                v.error(s.span(), format!("{what} names service `{}`, which does not exist", s.get_ref()), Some(hint));
+                let hint =
+                    unknown_name_hint("service", s.get_ref(), svc_names.iter().map(String::as_str));
+                v.error(
+                    s.span(),
+                    format!(
+                        "{what} names service `{}`, which does not exist",
+                        s.get_ref()
+                    ),
+                    Some(hint),
+                );
                 None
             }
             None => {
@@ -956,7 +1221,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         let pos = match &t.position {
             Some(p) => v.point(p),
             None => {
-                v.error(span.clone(), format!("{what} is missing `position`"), Some("add `position = [x, y]` in site units".into()));
+                v.error(
+                    span.clone(),
+                    format!("{what} is missing `position`"),
+                    Some("add `position = [x, y]` in site units".into()),
+                );
                 None
             }
         };
@@ -964,11 +1233,23 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             Some(h) => v.length(h, "height", true),
             None => Some(2.7),
         };
-        let power = v.req(&t.power_dbm, span.clone(), &what, "power_dbm", "add the conducted power, e.g. `power_dbm = 15.0`").copied();
+        let power = v
+            .req(
+                &t.power_dbm,
+                span.clone(),
+                &what,
+                "power_dbm",
+                "add the conducted power, e.g. `power_dbm = 15.0`",
+            )
+            .copied();
         let mut loss = |x: &Option<S<f64>>, name: &str| -> f64 {
             match x {
                 Some(l) if *l.get_ref() < 0.0 => {
-                    v.error(l.span(), format!("`{name}` is a loss and cannot be negative"), Some("write the loss as a positive number of dB".into()));
+                    v.error(
+                        l.span(),
+                        format!("`{name}` is a loss and cannot be negative"),
+                        Some("write the loss as a positive number of dB".into()),
+                    );
                     0.0
                 }
                 Some(l) => *l.get_ref(),
@@ -977,7 +1258,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         };
         let cable = loss(&t.cable_loss_db, "cable_loss_db");
         let conn = loss(&t.connector_loss_db, "connector_loss_db");
-        let gain = t.antenna_gain_dbi.as_ref().map(|g| *g.get_ref()).unwrap_or(0.0);
+        let gain = t
+            .antenna_gain_dbi
+            .as_ref()
+            .map(|g| *g.get_ref())
+            .unwrap_or(0.0);
         let pattern = match t.pattern.as_ref().map(|p| (p.get_ref().as_str(), p.span())) {
             None | Some(("omni-ceiling", _)) => Pattern::OmniCeiling,
             Some(("isotropic", _)) => Pattern::Isotropic,
@@ -986,18 +1271,33 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 downtilt_deg: t.downtilt_deg.as_ref().map(|a| *a.get_ref()).unwrap_or(0.0),
             },
             Some((other, sp)) => {
-                v.error(sp, format!("unknown antenna pattern `{other}`"), Some("write `omni-ceiling`, `sector` or `isotropic`".into()));
+                v.error(
+                    sp,
+                    format!("unknown antenna pattern `{other}`"),
+                    Some("write `omni-ceiling`, `sector` or `isotropic`".into()),
+                );
                 Pattern::Isotropic
             }
         };
         if let (Some(fi), Some(p)) = (fi, pos) {
-            if !floors[fi].outline.is_empty() && !rfsite_geometry::point_in_polygon(p, &floors[fi].outline) {
+            if !floors[fi].outline.is_empty()
+                && !rfsite_geometry::point_in_polygon(p, &floors[fi].outline)
+            {
                 if let Some(ps) = &t.position {
-                    v.warn(ps.span(), format!("{what} lies outside the outline of floor `{}`", floors[fi].id), Some("check the coordinates and the floor".into()));
+                    v.warn(
+                        ps.span(),
+                        format!(
+                            "{what} lies outside the outline of floor `{}`",
+                            floors[fi].id
+                        ),
+                        Some("check the coordinates and the floor".into()),
+                    );
                 }
             }
         }
-        if let (Some(svc), Some(fi), Some(position), Some(height_m), Some(power_dbm)) = (svc, fi, pos, height_m, power) {
+        if let (Some(svc), Some(fi), Some(position), Some(height_m), Some(power_dbm)) =
+            (svc, fi, pos, height_m, power)
+        {
             transmitters.push(Transmitter {
                 id: idv.get_ref().clone(),
                 service: svc,
@@ -1018,10 +1318,21 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     for rd in &raw.donors {
         let span = rd.span();
         let d = rd.get_ref();
-        let id = d.id.as_ref().map(|i| i.get_ref().clone()).unwrap_or_default();
+        let id =
+            d.id.as_ref()
+                .map(|i| i.get_ref().clone())
+                .unwrap_or_default();
         let what = format!("donor `{id}`");
         let svc = service_of(v, &d.service, span.clone(), &what);
-        let level = v.req(&d.level_dbm, span.clone(), &what, "level_dbm", "add the level measured outside the facade, e.g. `level_dbm = -70.0`").copied();
+        let level = v
+            .req(
+                &d.level_dbm,
+                span.clone(),
+                &what,
+                "level_dbm",
+                "add the level measured outside the facade, e.g. `level_dbm = -70.0`",
+            )
+            .copied();
         let mut dfloors = Vec::new();
         match &d.floors {
             Some(fs) => {
@@ -1033,7 +1344,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             }
             None => dfloors = floor_names.clone(),
         }
-        let facade = d.facade.as_ref().map(|f| f.get_ref().iter().map(|x| x.get_ref().clone()).collect()).unwrap_or_default();
+        let facade = d
+            .facade
+            .as_ref()
+            .map(|f| f.get_ref().iter().map(|x| x.get_ref().clone()).collect())
+            .unwrap_or_default();
         if let (Some(service), Some(level_dbm)) = (svc, level) {
             donors.push(Donor {
                 id,
@@ -1041,7 +1356,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 level_dbm,
                 floors: dfloors,
                 facade,
-                elevation_deg: d.elevation_deg.as_ref().map(|e| *e.get_ref()).unwrap_or(0.0),
+                elevation_deg: d
+                    .elevation_deg
+                    .as_ref()
+                    .map(|e| *e.get_ref())
+                    .unwrap_or(0.0),
                 direction_deg: d.direction_deg.as_ref().map(|e| *e.get_ref()),
             });
         }
@@ -1052,7 +1371,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     for rs in &raw.surveys {
         let s = rs.get_ref();
         let Some(file) = &s.file else {
-            v.error(rs.span(), "`[[surveys]]` entry is missing `file`", Some("add `file = \"survey/L1.csv\"` (relative to the site folder)".into()));
+            v.error(
+                rs.span(),
+                "`[[surveys]]` entry is missing `file`",
+                Some("add `file = \"survey/L1.csv\"` (relative to the site folder)".into()),
+            );
             continue;
         };
         let floor = match &s.floor {
@@ -1070,18 +1393,32 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                     Some(x) => {
                         columns.insert(k.clone(), x.to_string());
                     }
-                    None => v.error(c.span(), format!("survey column `{k}` must name a CSV header as a string"), None),
+                    None => v.error(
+                        c.span(),
+                        format!("survey column `{k}` must name a CSV header as a string"),
+                        None,
+                    ),
                 }
             }
         }
         let position_units = match &s.position_units {
             Some(u) => Units::parse(u.get_ref()).unwrap_or_else(|| {
-                v.error(u.span(), format!("unknown units `{}`", u.get_ref()), Some("write `metres` or `feet`".into()));
+                v.error(
+                    u.span(),
+                    format!("unknown units `{}`", u.get_ref()),
+                    Some("write `metres` or `feet`".into()),
+                );
                 units
             }),
             None => units,
         };
-        surveys.push(Survey { file: file.get_ref().clone(), floor, service, columns, position_units });
+        surveys.push(Survey {
+            file: file.get_ref().clone(),
+            floor,
+            service,
+            columns,
+            position_units,
+        });
     }
 
     // ---- probes
@@ -1100,16 +1437,43 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         if !check_material(v, &lib, m) {
             continue;
         }
-        let f = v.req(&p.freq_mhz, span.clone(), "probe", "freq_mhz", "add the probe frequency in MHz").copied();
-        let c = v.req(&p.clear_dbm, span.clone(), "probe", "clear_dbm", "add the level with a clear path").copied();
-        let t = v.req(&p.through_dbm, span.clone(), "probe", "through_dbm", "add the level through the material").copied();
+        let f = v
+            .req(
+                &p.freq_mhz,
+                span.clone(),
+                "probe",
+                "freq_mhz",
+                "add the probe frequency in MHz",
+            )
+            .copied();
+        let c = v
+            .req(
+                &p.clear_dbm,
+                span.clone(),
+                "probe",
+                "clear_dbm",
+                "add the level with a clear path",
+            )
+            .copied();
+        let t = v
+            .req(
+                &p.through_dbm,
+                span.clone(),
+                "probe",
+                "through_dbm",
+                "add the level through the material",
+            )
+            .copied();
         if let (Some(freq_mhz), Some(clear_dbm), Some(through_dbm)) = (f, c, t) {
             probes.push(Probe {
                 material: m.get_ref().clone(),
                 freq_mhz,
                 clear_dbm,
                 through_dbm,
-                distance_m: p.distance.as_ref().and_then(|d| v.length(d, "distance", false)),
+                distance_m: p
+                    .distance
+                    .as_ref()
+                    .and_then(|d| v.length(d, "distance", false)),
                 angle_deg: p.angle_deg.as_ref().map(|a| *a.get_ref()),
                 note: v.text(&p.note),
             });
@@ -1121,19 +1485,33 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     if !probes.is_empty() {
         let mut thickness: BTreeMap<String, f64> = BTreeMap::new();
         for f in &floors {
-            thickness.entry(f.slab_material.clone()).or_insert(f.slab_thickness_m);
+            thickness
+                .entry(f.slab_material.clone())
+                .or_insert(f.slab_thickness_m);
             for p in &f.parts {
                 thickness.entry(p.material.clone()).or_insert(p.thickness_m);
             }
         }
         let pts: Vec<crate::material::ProbePoint> = probes
             .iter()
-            .map(|p| crate::material::ProbePoint { material: p.material.clone(), freq_mhz: p.freq_mhz, loss_db: crate::material::probe_loss_db(p.clear_dbm, p.through_dbm) })
+            .map(|p| crate::material::ProbePoint {
+                material: p.material.clone(),
+                freq_mhz: p.freq_mhz,
+                loss_db: crate::material::probe_loss_db(p.clear_dbm, p.through_dbm),
+            })
             .collect();
         let freqs: Vec<f64> = services.iter().map(|s| s.freq_mhz).collect();
         for note in lib.apply_probes(&pts, &freqs, &thickness) {
-            let span = probe_spans.iter().find(|(m, _)| note.contains(&format!("`{m}`"))).map(|(_, s)| s.clone()).unwrap_or(whole.clone());
-            v.warn(span, note, Some("add a probe at that frequency to override the library there too".into()));
+            let span = probe_spans
+                .iter()
+                .find(|(m, _)| note.contains(&format!("`{m}`")))
+                .map(|(_, s)| s.clone())
+                .unwrap_or(whole.clone());
+            v.warn(
+                span,
+                note,
+                Some("add a probe at that frequency to override the library there too".into()),
+            );
         }
     }
 
@@ -1145,12 +1523,20 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 Some(t) => {
                     plugin_options.insert(k.clone(), t.clone());
                 }
-                None => v.error(p.span(), format!("`plugins.{k}` must be a table"), Some(format!("write `[plugins.{k}]` with its options below"))),
+                None => v.error(
+                    p.span(),
+                    format!("`plugins.{k}` must be a table"),
+                    Some(format!("write `[plugins.{k}]` with its options below")),
+                ),
             }
         }
     }
 
-    floors.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m).then(a.id.cmp(&b.id)));
+    floors.sort_by(|a, b| {
+        a.elevation_m
+            .total_cmp(&b.elevation_m)
+            .then(a.id.cmp(&b.id))
+    });
     let load_warnings = v
         .diags
         .items
@@ -1182,7 +1568,11 @@ fn check_material(v: &mut V<'_>, lib: &MaterialLibrary, m: &S<String>) -> bool {
         return true;
     }
     let hint = unknown_name_hint("material", m.get_ref(), lib.ids());
-    v.error(m.span(), format!("unknown material `{}`", m.get_ref()), Some(hint));
+    v.error(
+        m.span(),
+        format!("unknown material `{}`", m.get_ref()),
+        Some(hint),
+    );
     false
 }
 
@@ -1200,7 +1590,11 @@ fn table_points(v: &mut V<'_>, t: &S<Vec<Vec<f64>>>, field: &str) -> Option<Vec<
         pts.push((p[0], p[1]));
     }
     if pts.is_empty() || pts.windows(2).any(|w| w[1].0 <= w[0].0) {
-        v.error(t.span(), format!("`{field}` needs at least one point, frequencies ascending"), None);
+        v.error(
+            t.span(),
+            format!("`{field}` needs at least one point, frequencies ascending"),
+            None,
+        );
         return None;
     }
     Some(pts)
@@ -1217,7 +1611,11 @@ fn is_iso_date(s: &str) -> bool {
 
 /// Splits a polyline into wall parts, with opening intervals (arc length from the first
 /// point) cut out and given their own material.
-fn split_polyline(pts: &[Point2], intervals: &[(f64, f64, WallPart)], wall: &WallPart) -> Vec<WallPart> {
+fn split_polyline(
+    pts: &[Point2],
+    intervals: &[(f64, f64, WallPart)],
+    wall: &WallPart,
+) -> Vec<WallPart> {
     let mut out = Vec::new();
     let mut s0 = 0.0;
     for w in pts.windows(2) {
@@ -1250,7 +1648,10 @@ fn split_polyline(pts: &[Point2], intervals: &[(f64, f64, WallPart)], wall: &Wal
                 .map(|(_, _, p)| p)
                 .unwrap_or(wall);
             let mut part = template.clone();
-            part.segment = Segment { a: at(c0), b: at(c1) };
+            part.segment = Segment {
+                a: at(c0),
+                b: at(c1),
+            };
             out.push(part);
         }
         s0 = s1;

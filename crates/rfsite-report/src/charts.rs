@@ -23,14 +23,38 @@ pub struct Bin {
 /// and a lightness step, so it reads in greyscale and for red-green colour-blind readers;
 /// a black contour marks it too.
 pub const BINS: &[Bin] = &[
-    Bin { from_db: f64::NEG_INFINITY, rgb: (58, 40, 36) },
-    Bin { from_db: -20.0, rgb: (118, 78, 58) },
-    Bin { from_db: -10.0, rgb: (196, 142, 98) },
-    Bin { from_db: -5.0, rgb: (232, 196, 150) },
-    Bin { from_db: 0.0, rgb: (30, 70, 120) },
-    Bin { from_db: 5.0, rgb: (52, 118, 160) },
-    Bin { from_db: 10.0, rgb: (98, 168, 186) },
-    Bin { from_db: 20.0, rgb: (196, 226, 214) },
+    Bin {
+        from_db: f64::NEG_INFINITY,
+        rgb: (58, 40, 36),
+    },
+    Bin {
+        from_db: -20.0,
+        rgb: (118, 78, 58),
+    },
+    Bin {
+        from_db: -10.0,
+        rgb: (196, 142, 98),
+    },
+    Bin {
+        from_db: -5.0,
+        rgb: (232, 196, 150),
+    },
+    Bin {
+        from_db: 0.0,
+        rgb: (30, 70, 120),
+    },
+    Bin {
+        from_db: 5.0,
+        rgb: (52, 118, 160),
+    },
+    Bin {
+        from_db: 10.0,
+        rgb: (98, 168, 186),
+    },
+    Bin {
+        from_db: 20.0,
+        rgb: (196, 226, 214),
+    },
 ];
 
 fn bin_of(rel_db: f64) -> usize {
@@ -73,7 +97,12 @@ fn e<E: std::fmt::Debug>(x: E) -> String {
 }
 
 /// Draws the coverage map of one layer.
-pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, measured: &[&Measurement]) -> DrawResult<String> {
+pub fn coverage_map(
+    site: &Site,
+    layer: &CoverageLayer,
+    threshold_dbm: f64,
+    measured: &[&Measurement],
+) -> DrawResult<String> {
     let floor = site.floor(&layer.floor).ok_or("floor not found")?;
     let u = site.units;
     let g = layer.grid.to_grid();
@@ -129,7 +158,10 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
                 let xa = u.from_m(g.origin.x) + start as f64 * step;
                 let xb = u.from_m(g.origin.x) + ix as f64 * step;
                 let ya = u.from_m(g.origin.y) + iy as f64 * step;
-                rects.push(Rectangle::new([(xa, ya), (xb, ya + step)], rgb(BINS[b].rgb).filled()));
+                rects.push(Rectangle::new(
+                    [(xa, ya), (xb, ya + step)],
+                    rgb(BINS[b].rgb).filled(),
+                ));
             }
         }
         chart.draw_series(rects).map_err(e)?;
@@ -148,7 +180,10 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
                     if let Some(b) = ok(ix + 1, iy) {
                         if a != b {
                             let x = ox + (ix + 1) as f64 * step;
-                            edges.push(vec![(x, oy + iy as f64 * step), (x, oy + (iy + 1) as f64 * step)]);
+                            edges.push(vec![
+                                (x, oy + iy as f64 * step),
+                                (x, oy + (iy + 1) as f64 * step),
+                            ]);
                         }
                     }
                 }
@@ -156,73 +191,173 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
                     if let Some(b) = ok(ix, iy + 1) {
                         if a != b {
                             let y = oy + (iy + 1) as f64 * step;
-                            edges.push(vec![(ox + ix as f64 * step, y), (ox + (ix + 1) as f64 * step, y)]);
+                            edges.push(vec![
+                                (ox + ix as f64 * step, y),
+                                (ox + (ix + 1) as f64 * step, y),
+                            ]);
                         }
                     }
                 }
             }
         }
         for ed in edges {
-            chart.draw_series(std::iter::once(PathElement::new(ed, BLACK.stroke_width(2)))).map_err(e)?;
+            chart
+                .draw_series(std::iter::once(PathElement::new(ed, BLACK.stroke_width(2))))
+                .map_err(e)?;
         }
         // Outline and walls, each with a white halo.
-        let mut outline: Vec<(f64, f64)> = floor.outline.iter().map(|p| (u.from_m(p.x), u.from_m(p.y))).collect();
+        let mut outline: Vec<(f64, f64)> = floor
+            .outline
+            .iter()
+            .map(|p| (u.from_m(p.x), u.from_m(p.y)))
+            .collect();
         outline.push(outline[0]);
-        chart.draw_series(std::iter::once(PathElement::new(outline, BLACK.stroke_width(1)))).map_err(e)?;
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                outline,
+                BLACK.stroke_width(1),
+            )))
+            .map_err(e)?;
         for part in &floor.parts {
-            let class = site.materials.get(&part.material).map(|m| m.class).unwrap_or(MaterialClass::Other);
+            let class = site
+                .materials
+                .get(&part.material)
+                .map(|m| m.class)
+                .unwrap_or(MaterialClass::Other);
             let (col, wdt) = wall_style(class, part.kind);
-            let seg = vec![(u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)), (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y))];
-            chart.draw_series(std::iter::once(PathElement::new(seg.clone(), WHITE.stroke_width(wdt + 2)))).map_err(e)?;
-            chart.draw_series(std::iter::once(PathElement::new(seg, col.stroke_width(wdt)))).map_err(e)?;
+            let seg = vec![
+                (u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)),
+                (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y)),
+            ];
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    seg.clone(),
+                    WHITE.stroke_width(wdt + 2),
+                )))
+                .map_err(e)?;
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    seg,
+                    col.stroke_width(wdt),
+                )))
+                .map_err(e)?;
         }
         // Zones.
         for z in &floor.zones {
-            let mut pts: Vec<(f64, f64)> = z.polygon.iter().map(|p| (u.from_m(p.x), u.from_m(p.y))).collect();
+            let mut pts: Vec<(f64, f64)> = z
+                .polygon
+                .iter()
+                .map(|p| (u.from_m(p.x), u.from_m(p.y)))
+                .collect();
             pts.push(pts[0]);
             let (col, wdt) = match z.kind {
                 ZoneKind::Critical => (RGBColor(0, 0, 0), 3),
                 ZoneKind::Excluded => (RGBColor(90, 90, 90), 1),
                 ZoneKind::General => (RGBColor(90, 90, 90), 1),
             };
-            chart.draw_series(std::iter::once(PathElement::new(pts.clone(), WHITE.stroke_width(wdt + 3)))).map_err(e)?;
-            chart.draw_series(DashedLineSeries::new(pts.clone(), 9, 5, col.stroke_width(wdt))).map_err(e)?;
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    pts.clone(),
+                    WHITE.stroke_width(wdt + 3),
+                )))
+                .map_err(e)?;
+            chart
+                .draw_series(DashedLineSeries::new(
+                    pts.clone(),
+                    9,
+                    5,
+                    col.stroke_width(wdt),
+                ))
+                .map_err(e)?;
             let cx = pts[..pts.len() - 1].iter().map(|p| p.0).sum::<f64>() / (pts.len() - 1) as f64;
             let cy = pts[..pts.len() - 1].iter().map(|p| p.1).sum::<f64>() / (pts.len() - 1) as f64;
-            let name = if z.name.is_empty() { z.id.clone() } else { z.name.clone() };
-            let label = if z.kind == ZoneKind::Critical { format!("{name} (critical)") } else { name };
-            let style = TextStyle::from((CHART_FONT, 13).into_font()).color(&BLACK).pos(Pos::new(HPos::Center, VPos::Center));
-            chart.draw_series(std::iter::once(Text::new(label, (cx, cy), style))).map_err(e)?;
+            let name = if z.name.is_empty() {
+                z.id.clone()
+            } else {
+                z.name.clone()
+            };
+            let label = if z.kind == ZoneKind::Critical {
+                format!("{name} (critical)")
+            } else {
+                name
+            };
+            let style = TextStyle::from((CHART_FONT, 13).into_font())
+                .color(&BLACK)
+                .pos(Pos::new(HPos::Center, VPos::Center));
+            chart
+                .draw_series(std::iter::once(Text::new(label, (cx, cy), style)))
+                .map_err(e)?;
         }
         // Measured points: filled circle = meets threshold, cross = below.
         for m in measured {
             let p = (u.from_m(m.x_m), u.from_m(m.y_m));
             if m.level_dbm >= threshold_dbm {
-                chart.draw_series(std::iter::once(Circle::new(p, 4, WHITE.filled()))).map_err(e)?;
-                chart.draw_series(std::iter::once(Circle::new(p, 4, BLACK.stroke_width(1)))).map_err(e)?;
+                chart
+                    .draw_series(std::iter::once(Circle::new(p, 4, WHITE.filled())))
+                    .map_err(e)?;
+                chart
+                    .draw_series(std::iter::once(Circle::new(p, 4, BLACK.stroke_width(1))))
+                    .map_err(e)?;
             } else {
-                chart.draw_series(std::iter::once(Cross::new(p, 5, WHITE.stroke_width(4)))).map_err(e)?;
-                chart.draw_series(std::iter::once(Cross::new(p, 5, BLACK.stroke_width(2)))).map_err(e)?;
+                chart
+                    .draw_series(std::iter::once(Cross::new(p, 5, WHITE.stroke_width(4))))
+                    .map_err(e)?;
+                chart
+                    .draw_series(std::iter::once(Cross::new(p, 5, BLACK.stroke_width(2))))
+                    .map_err(e)?;
             }
         }
         // Transmitters of this service (on this floor).
-        for t in site.transmitters.iter().filter(|t| t.service == layer.service && t.floor == layer.floor) {
+        for t in site
+            .transmitters
+            .iter()
+            .filter(|t| t.service == layer.service && t.floor == layer.floor)
+        {
             let p = (u.from_m(t.position.x), u.from_m(t.position.y));
-            chart.draw_series(std::iter::once(TriangleMarker::new(p, 9, WHITE.filled()))).map_err(e)?;
-            chart.draw_series(std::iter::once(TriangleMarker::new(p, 7, BLACK.filled()))).map_err(e)?;
-            let style = TextStyle::from((CHART_FONT, 14).into_font().style(FontStyle::Bold)).color(&BLACK).pos(Pos::new(HPos::Left, VPos::Bottom));
+            chart
+                .draw_series(std::iter::once(TriangleMarker::new(p, 9, WHITE.filled())))
+                .map_err(e)?;
+            chart
+                .draw_series(std::iter::once(TriangleMarker::new(p, 7, BLACK.filled())))
+                .map_err(e)?;
+            let style = TextStyle::from((CHART_FONT, 14).into_font().style(FontStyle::Bold))
+                .color(&BLACK)
+                .pos(Pos::new(HPos::Left, VPos::Bottom));
             let off = (x1 - x0) * 0.008;
-            chart.draw_series(std::iter::once(Text::new(t.id.clone(), (p.0 + off, p.1 + off), style))).map_err(e)?;
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    t.id.clone(),
+                    (p.0 + off, p.1 + off),
+                    style,
+                )))
+                .map_err(e)?;
         }
         // Scale bar: a round length near a fifth of the width.
         let span = x1 - x0;
         let nice = [1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0, 200.0, 500.0];
-        let bar = nice.iter().copied().filter(|n| *n <= span / 4.0).fold(1.0, f64::max);
+        let bar = nice
+            .iter()
+            .copied()
+            .filter(|n| *n <= span / 4.0)
+            .fold(1.0, f64::max);
         let bx = x0 + span * 0.03;
         let by = y0 + (y1 - y0) * 0.045;
-        chart.draw_series(std::iter::once(Rectangle::new([(bx, by), (bx + bar, by + (y1 - y0) * 0.008)], BLACK.filled()))).map_err(e)?;
-        let style = TextStyle::from((CHART_FONT, 13).into_font()).color(&BLACK).pos(Pos::new(HPos::Left, VPos::Bottom));
-        chart.draw_series(std::iter::once(Text::new(format!("{bar} {unit}"), (bx, by + (y1 - y0) * 0.015), style))).map_err(e)?;
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(bx, by), (bx + bar, by + (y1 - y0) * 0.008)],
+                BLACK.filled(),
+            )))
+            .map_err(e)?;
+        let style = TextStyle::from((CHART_FONT, 13).into_font())
+            .color(&BLACK)
+            .pos(Pos::new(HPos::Left, VPos::Bottom));
+        chart
+            .draw_series(std::iter::once(Text::new(
+                format!("{bar} {unit}"),
+                (bx, by + (y1 - y0) * 0.015),
+                style,
+            )))
+            .map_err(e)?;
         // North arrow.
         if let Some(n) = site.north_deg {
             let r = (x1 - x0).min(y1 - y0) * 0.05;
@@ -231,14 +366,35 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
             let a = n.to_radians();
             let tip = (cx + r * a.cos(), cy + r * a.sin());
             let tail = (cx - r * a.cos(), cy - r * a.sin());
-            chart.draw_series(std::iter::once(PathElement::new(vec![tail, tip], BLACK.stroke_width(3)))).map_err(e)?;
-            chart.draw_series(std::iter::once(Circle::new(tip, 4, BLACK.filled()))).map_err(e)?;
-            let style = TextStyle::from((CHART_FONT, 15).into_font().style(FontStyle::Bold)).color(&BLACK).pos(Pos::new(HPos::Center, VPos::Center));
-            chart.draw_series(std::iter::once(Text::new("N", (cx + 1.45 * r * a.cos(), cy + 1.45 * r * a.sin()), style))).map_err(e)?;
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    vec![tail, tip],
+                    BLACK.stroke_width(3),
+                )))
+                .map_err(e)?;
+            chart
+                .draw_series(std::iter::once(Circle::new(tip, 4, BLACK.filled())))
+                .map_err(e)?;
+            let style = TextStyle::from((CHART_FONT, 15).into_font().style(FontStyle::Bold))
+                .color(&BLACK)
+                .pos(Pos::new(HPos::Center, VPos::Center));
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    "N",
+                    (cx + 1.45 * r * a.cos(), cy + 1.45 * r * a.sin()),
+                    style,
+                )))
+                .map_err(e)?;
         }
         // Legend.
         let font = (CHART_FONT, 14).into_font();
-        right.draw(&Text::new("Level (dBm)", (8, 18), font.clone().style(FontStyle::Bold))).map_err(e)?;
+        right
+            .draw(&Text::new(
+                "Level (dBm)",
+                (8, 18),
+                font.clone().style(FontStyle::Bold),
+            ))
+            .map_err(e)?;
         let mut y = 34;
         for (i, b) in BINS.iter().enumerate().rev() {
             let lo = b.from_db + threshold_dbm;
@@ -249,47 +405,117 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
             } else {
                 format!("{lo:.0} to {:.0}", BINS[i + 1].from_db + threshold_dbm)
             };
-            right.draw(&Rectangle::new([(8, y), (34, y + 18)], rgb(b.rgb).filled())).map_err(e)?;
-            right.draw(&Rectangle::new([(8, y), (34, y + 18)], BLACK.stroke_width(1))).map_err(e)?;
-            right.draw(&Text::new(label, (40, y + 3), font.clone())).map_err(e)?;
+            right
+                .draw(&Rectangle::new([(8, y), (34, y + 18)], rgb(b.rgb).filled()))
+                .map_err(e)?;
+            right
+                .draw(&Rectangle::new(
+                    [(8, y), (34, y + 18)],
+                    BLACK.stroke_width(1),
+                ))
+                .map_err(e)?;
+            right
+                .draw(&Text::new(label, (40, y + 3), font.clone()))
+                .map_err(e)?;
             if i == 4 {
-                right.draw(&PathElement::new(vec![(4, y + 19), (180, y + 19)], BLACK.stroke_width(3))).map_err(e)?;
-                right.draw(&Text::new(format!("required {threshold_dbm:.0}"), (40, y + 23), font.clone().style(FontStyle::Bold))).map_err(e)?;
+                right
+                    .draw(&PathElement::new(
+                        vec![(4, y + 19), (180, y + 19)],
+                        BLACK.stroke_width(3),
+                    ))
+                    .map_err(e)?;
+                right
+                    .draw(&Text::new(
+                        format!("required {threshold_dbm:.0}"),
+                        (40, y + 23),
+                        font.clone().style(FontStyle::Bold),
+                    ))
+                    .map_err(e)?;
                 y += 18;
             }
             y += 22;
         }
         y += 10;
-        right.draw(&Text::new("Walls", (8, y), font.clone().style(FontStyle::Bold))).map_err(e)?;
+        right
+            .draw(&Text::new(
+                "Walls",
+                (8, y),
+                font.clone().style(FontStyle::Bold),
+            ))
+            .map_err(e)?;
         y += 18;
         let mut classes: Vec<(MaterialClass, PartKind)> = floor
             .parts
             .iter()
-            .map(|p| (site.materials.get(&p.material).map(|m| m.class).unwrap_or(MaterialClass::Other), p.kind))
-            .map(|(c, k)| if k == PartKind::Door { (MaterialClass::Wood, PartKind::Door) } else { (c, PartKind::Wall) })
+            .map(|p| {
+                (
+                    site.materials
+                        .get(&p.material)
+                        .map(|m| m.class)
+                        .unwrap_or(MaterialClass::Other),
+                    p.kind,
+                )
+            })
+            .map(|(c, k)| {
+                if k == PartKind::Door {
+                    (MaterialClass::Wood, PartKind::Door)
+                } else {
+                    (c, PartKind::Wall)
+                }
+            })
             .collect();
         classes.sort_by_key(|(c, k)| (*k as u8, *c));
         classes.dedup();
         for (c, k) in classes {
             let (col, wdt) = wall_style(c, k);
-            right.draw(&PathElement::new(vec![(8, y + 8), (34, y + 8)], col.stroke_width(wdt))).map_err(e)?;
-            let label = if k == PartKind::Door { "door".to_string() } else { c.label().to_string() };
-            right.draw(&Text::new(label, (40, y), font.clone())).map_err(e)?;
+            right
+                .draw(&PathElement::new(
+                    vec![(8, y + 8), (34, y + 8)],
+                    col.stroke_width(wdt),
+                ))
+                .map_err(e)?;
+            let label = if k == PartKind::Door {
+                "door".to_string()
+            } else {
+                c.label().to_string()
+            };
+            right
+                .draw(&Text::new(label, (40, y), font.clone()))
+                .map_err(e)?;
             y += 20;
         }
         y += 8;
-        right.draw(&TriangleMarker::new((20, y + 8), 7, BLACK.filled())).map_err(e)?;
-        right.draw(&Text::new("antenna", (40, y), font.clone())).map_err(e)?;
+        right
+            .draw(&TriangleMarker::new((20, y + 8), 7, BLACK.filled()))
+            .map_err(e)?;
+        right
+            .draw(&Text::new("antenna", (40, y), font.clone()))
+            .map_err(e)?;
         y += 20;
-        right.draw(&PathElement::new(vec![(8, y + 8), (34, y + 8)], BLACK.stroke_width(3))).map_err(e)?;
-        right.draw(&Text::new("critical zone", (40, y), font.clone())).map_err(e)?;
+        right
+            .draw(&PathElement::new(
+                vec![(8, y + 8), (34, y + 8)],
+                BLACK.stroke_width(3),
+            ))
+            .map_err(e)?;
+        right
+            .draw(&Text::new("critical zone", (40, y), font.clone()))
+            .map_err(e)?;
         if !measured.is_empty() {
             y += 20;
-            right.draw(&Circle::new((20, y + 8), 4, BLACK.stroke_width(1))).map_err(e)?;
-            right.draw(&Text::new("measured, meets", (40, y), font.clone())).map_err(e)?;
+            right
+                .draw(&Circle::new((20, y + 8), 4, BLACK.stroke_width(1)))
+                .map_err(e)?;
+            right
+                .draw(&Text::new("measured, meets", (40, y), font.clone()))
+                .map_err(e)?;
             y += 20;
-            right.draw(&Cross::new((20, y + 8), 5, BLACK.stroke_width(2))).map_err(e)?;
-            right.draw(&Text::new("measured, below", (40, y), font.clone())).map_err(e)?;
+            right
+                .draw(&Cross::new((20, y + 8), 5, BLACK.stroke_width(2)))
+                .map_err(e)?;
+            right
+                .draw(&Text::new("measured, below", (40, y), font.clone()))
+                .map_err(e)?;
         }
         root.present().map_err(e)?;
     }
@@ -299,7 +525,12 @@ pub fn coverage_map(site: &Site, layer: &CoverageLayer, threshold_dbm: f64, meas
 /// Draws a line or scatter figure.
 pub fn figure(f: &Figure) -> DrawResult<String> {
     let pts = f.series.iter().flat_map(|s| s.points.iter());
-    let (mut x0, mut x1, mut y0, mut y1) = (f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY);
+    let (mut x0, mut x1, mut y0, mut y1) = (
+        f64::INFINITY,
+        f64::NEG_INFINITY,
+        f64::INFINITY,
+        f64::NEG_INFINITY,
+    );
     for p in pts {
         x0 = x0.min(p[0]);
         x1 = x1.max(p[0]);
@@ -336,16 +567,27 @@ pub fn figure(f: &Figure) -> DrawResult<String> {
             .axis_desc_style((CHART_FONT, 15))
             .draw()
             .map_err(e)?;
-        let palette = [RGBColor(30, 70, 120), RGBColor(196, 110, 40), RGBColor(60, 60, 60), RGBColor(176, 40, 125)];
+        let palette = [
+            RGBColor(30, 70, 120),
+            RGBColor(196, 110, 40),
+            RGBColor(60, 60, 60),
+            RGBColor(176, 40, 125),
+        ];
         for (i, s) in f.series.iter().enumerate() {
             let col = palette[i % palette.len()];
             let data: Vec<(f64, f64)> = s.points.iter().map(|p| (p[0], p[1])).collect();
             let anno = if f.kind == "scatter" {
-                chart.draw_series(data.iter().map(|p| Circle::new(*p, 3, col.filled()))).map_err(e)?
+                chart
+                    .draw_series(data.iter().map(|p| Circle::new(*p, 3, col.filled())))
+                    .map_err(e)?
             } else {
-                chart.draw_series(LineSeries::new(data, col.stroke_width(2))).map_err(e)?
+                chart
+                    .draw_series(LineSeries::new(data, col.stroke_width(2)))
+                    .map_err(e)?
             };
-            anno.label(s.name.clone()).legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], col.stroke_width(3)));
+            anno.label(s.name.clone()).legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 18, y)], col.stroke_width(3))
+            });
         }
         chart
             .configure_series_labels()

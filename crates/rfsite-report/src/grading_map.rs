@@ -16,21 +16,36 @@ fn e<E: std::fmt::Debug>(x: E) -> String {
 }
 
 fn clean(s: &str) -> String {
-    s.chars().map(|c| if c.is_ascii_alphanumeric() || c == '-' { c } else { '_' }).collect()
+    s.chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect()
 }
 
 /// Draws every grading map in the assessment: file name -> SVG. Names match the
 /// grading plugin's figures (`grading-<floor>-<service>.svg`).
 pub fn grading_maps(site: &Site, a: &Assessment) -> Result<Vec<(String, String)>, String> {
     let mut out = Vec::new();
-    let Some(services) = a.extra.get("grading").and_then(|g| g.get("services")).and_then(Value::as_array) else {
+    let Some(services) = a
+        .extra
+        .get("grading")
+        .and_then(|g| g.get("services"))
+        .and_then(Value::as_array)
+    else {
         return Ok(out);
     };
     for s in services {
         let sid = s["service"].as_str().unwrap_or_default();
         for f in s["floors"].as_array().into_iter().flatten() {
             let fid = f["floor"].as_str().unwrap_or_default();
-            let Some(floor) = site.floor(fid) else { continue };
+            let Some(floor) = site.floor(fid) else {
+                continue;
+            };
             let svg = draw(site, floor, f)?;
             out.push((format!("grading-{}-{}.svg", clean(fid), clean(sid)), svg));
         }
@@ -52,7 +67,12 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
         let (top, bottom) = root.split_vertically(h - 40);
-        let mut chart = ChartBuilder::on(&top).margin(8).x_label_area_size(36).y_label_area_size(48).build_cartesian_2d(x0..x1, y0..y1).map_err(e)?;
+        let mut chart = ChartBuilder::on(&top)
+            .margin(8)
+            .x_label_area_size(36)
+            .y_label_area_size(48)
+            .build_cartesian_2d(x0..x1, y0..y1)
+            .map_err(e)?;
         chart
             .configure_mesh()
             .disable_mesh()
@@ -64,18 +84,36 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
             .map_err(e)?;
         // Walls, light, under everything.
         for part in &floor.parts {
-            let seg = vec![(u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)), (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y))];
-            chart.draw_series(std::iter::once(PathElement::new(seg, RGBColor(200, 200, 200).stroke_width(2)))).map_err(e)?;
+            let seg = vec![
+                (u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)),
+                (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y)),
+            ];
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    seg,
+                    RGBColor(200, 200, 200).stroke_width(2),
+                )))
+                .map_err(e)?;
         }
         let cells = fg["cells"].as_array().cloned().unwrap_or_default();
         for c in &cells {
             let b = &c["bounds_m"];
             let n = |v: &Value| v.as_f64().unwrap_or(0.0);
-            let (ax, ay, bx, by) = (u.from_m(n(&b[0][0])), u.from_m(n(&b[0][1])), u.from_m(n(&b[1][0])), u.from_m(n(&b[1][1])));
+            let (ax, ay, bx, by) = (
+                u.from_m(n(&b[0][0])),
+                u.from_m(n(&b[0][1])),
+                u.from_m(n(&b[1][0])),
+                u.from_m(n(&b[1][1])),
+            );
             let pass = c["pass"].as_bool();
             let critical = c["kind"] == "critical";
             if pass == Some(false) {
-                chart.draw_series(std::iter::once(Rectangle::new([(ax, ay), (bx, by)], RGBColor(235, 235, 235).filled()))).map_err(e)?;
+                chart
+                    .draw_series(std::iter::once(Rectangle::new(
+                        [(ax, ay), (bx, by)],
+                        RGBColor(235, 235, 235).filled(),
+                    )))
+                    .map_err(e)?;
                 // 45-degree hatching clipped to the cell.
                 let (cw, ch) = (bx - ax, by - ay);
                 let step = cw.max(ch) / 8.0;
@@ -83,7 +121,12 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
                 while k < cw {
                     // Line x - ax - (y - ay) = k.
                     let mut pts = Vec::new();
-                    for (x, y) in [(ax + k, ay), (ax + k + ch, by), (ax, ay - k), (bx, ay + cw - k)] {
+                    for (x, y) in [
+                        (ax + k, ay),
+                        (ax + k + ch, by),
+                        (ax, ay - k),
+                        (bx, ay + cw - k),
+                    ] {
                         if x >= ax - 1e-9 && x <= bx + 1e-9 && y >= ay - 1e-9 && y <= by + 1e-9 {
                             pts.push((x, y));
                         }
@@ -91,13 +134,27 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
                     pts.sort_by(|p, q| p.0.total_cmp(&q.0));
                     pts.dedup_by(|p, q| (p.0 - q.0).abs() < 1e-9 && (p.1 - q.1).abs() < 1e-9);
                     if pts.len() >= 2 {
-                        chart.draw_series(std::iter::once(PathElement::new(vec![pts[0], pts[pts.len() - 1]], RGBColor(90, 90, 90).stroke_width(1)))).map_err(e)?;
+                        chart
+                            .draw_series(std::iter::once(PathElement::new(
+                                vec![pts[0], pts[pts.len() - 1]],
+                                RGBColor(90, 90, 90).stroke_width(1),
+                            )))
+                            .map_err(e)?;
                     }
                     k += step;
                 }
             }
-            let border = if critical { BLACK.stroke_width(3) } else { BLACK.stroke_width(1) };
-            chart.draw_series(std::iter::once(Rectangle::new([(ax, ay), (bx, by)], border))).map_err(e)?;
+            let border = if critical {
+                BLACK.stroke_width(3)
+            } else {
+                BLACK.stroke_width(1)
+            };
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(ax, ay), (bx, by)],
+                    border,
+                )))
+                .map_err(e)?;
             let mut label = match pass {
                 Some(true) => "P".to_string(),
                 Some(false) => "F".to_string(),
@@ -109,19 +166,44 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
             if critical {
                 label = format!("C {label}");
             }
-            let style = TextStyle::from((CHART_FONT, 17).into_font().style(FontStyle::Bold)).color(&BLACK).pos(Pos::new(HPos::Center, VPos::Center));
+            let style = TextStyle::from((CHART_FONT, 17).into_font().style(FontStyle::Bold))
+                .color(&BLACK)
+                .pos(Pos::new(HPos::Center, VPos::Center));
             let cx = 0.5 * (ax + bx);
             let cy = 0.5 * (ay + by);
-            chart.draw_series(std::iter::once(Rectangle::new([(cx - 0.09 * (bx - ax), cy - 0.12 * (by - ay)), (cx + 0.09 * (bx - ax), cy + 0.12 * (by - ay))], WHITE.filled()))).map_err(e)?;
-            chart.draw_series(std::iter::once(Text::new(label, (cx, cy), style))).map_err(e)?;
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [
+                        (cx - 0.09 * (bx - ax), cy - 0.12 * (by - ay)),
+                        (cx + 0.09 * (bx - ax), cy + 0.12 * (by - ay)),
+                    ],
+                    WHITE.filled(),
+                )))
+                .map_err(e)?;
+            chart
+                .draw_series(std::iter::once(Text::new(label, (cx, cy), style)))
+                .map_err(e)?;
         }
-        let mut outline: Vec<(f64, f64)> = floor.outline.iter().map(|p| (u.from_m(p.x), u.from_m(p.y))).collect();
+        let mut outline: Vec<(f64, f64)> = floor
+            .outline
+            .iter()
+            .map(|p| (u.from_m(p.x), u.from_m(p.y)))
+            .collect();
         if let Some(first) = outline.first().copied() {
             outline.push(first);
         }
-        chart.draw_series(std::iter::once(PathElement::new(outline, BLACK.stroke_width(2)))).map_err(e)?;
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                outline,
+                BLACK.stroke_width(2),
+            )))
+            .map_err(e)?;
         let v = &fg["result"];
-        let pct = |x: &Value| x.as_f64().map(|f| format!("{:.0} %", 100.0 * f)).unwrap_or_else(|| "n/a".into());
+        let pct = |x: &Value| {
+            x.as_f64()
+                .map(|f| format!("{:.0} %", 100.0 * f))
+                .unwrap_or_else(|| "n/a".into())
+        };
         let text = format!(
             "{}: general cells passing {}, critical {}; {} failed. P pass, F fail (hatched), m judged on measurements, C critical cell (thick border).",
             if fg["pass"].as_bool() == Some(true) { "PASS" } else { "FAIL" },
@@ -129,7 +211,13 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
             pct(&v["critical_fraction"]),
             v["failed_cells"].as_u64().unwrap_or(0)
         );
-        bottom.draw(&Text::new(text, (56, 12), (CHART_FONT, 14).into_font().color(&BLACK))).map_err(e)?;
+        bottom
+            .draw(&Text::new(
+                text,
+                (56, 12),
+                (CHART_FONT, 14).into_font().color(&BLACK),
+            ))
+            .map_err(e)?;
         root.present().map_err(e)?;
     }
     Ok(svg)

@@ -99,22 +99,50 @@ impl Template {
     pub fn builtin() -> Template {
         let mut snippets = BTreeMap::new();
         for (k, v) in [
-            ("executive_summary", builtin_file!("default", "snippets/executive_summary.hbs")),
-            ("service_verdict", builtin_file!("default", "snippets/service_verdict.hbs")),
-            ("floor_summary", builtin_file!("default", "snippets/floor_summary.hbs")),
+            (
+                "executive_summary",
+                builtin_file!("default", "snippets/executive_summary.hbs"),
+            ),
+            (
+                "service_verdict",
+                builtin_file!("default", "snippets/service_verdict.hbs"),
+            ),
+            (
+                "floor_summary",
+                builtin_file!("default", "snippets/floor_summary.hbs"),
+            ),
             ("method", builtin_file!("default", "snippets/method.hbs")),
-            ("recommendation", builtin_file!("default", "snippets/recommendation.hbs")),
+            (
+                "recommendation",
+                builtin_file!("default", "snippets/recommendation.hbs"),
+            ),
         ] {
             snippets.insert(k.to_string(), v.to_string());
         }
-        Template::from_parts(builtin_file!("default", "template.toml"), builtin_file!("default", "report.typ"), snippets, BTreeMap::new())
-            .expect("the built-in template is valid (tested)")
+        Template::from_parts(
+            builtin_file!("default", "template.toml"),
+            builtin_file!("default", "report.typ"),
+            snippets,
+            BTreeMap::new(),
+        )
+        .expect("the built-in template is valid (tested)")
     }
 
     /// A template from its files' contents.
-    pub fn from_parts(config_toml: &str, typst_main: &str, snippets: BTreeMap<String, String>, assets: BTreeMap<String, Vec<u8>>) -> Result<Template, ReportError> {
-        let config: TemplateConfig = toml::from_str(config_toml).map_err(|e| ReportError(format!("template.toml: {}", e.message())))?;
-        Ok(Template { config, typst_main: typst_main.to_string(), snippets, assets })
+    pub fn from_parts(
+        config_toml: &str,
+        typst_main: &str,
+        snippets: BTreeMap<String, String>,
+        assets: BTreeMap<String, Vec<u8>>,
+    ) -> Result<Template, ReportError> {
+        let config: TemplateConfig = toml::from_str(config_toml)
+            .map_err(|e| ReportError(format!("template.toml: {}", e.message())))?;
+        Ok(Template {
+            config,
+            typst_main: typst_main.to_string(),
+            snippets,
+            assets,
+        })
     }
 
     /// Fills missing snippets from the built-in template, so a custom template may override
@@ -145,22 +173,47 @@ fn f1(x: f64) -> String {
 }
 
 fn pct(x: Option<f64>) -> String {
-    x.map(|v| format!("{:.1} %", 100.0 * v)).unwrap_or_else(|| "n/a".into())
+    x.map(|v| format!("{:.1} %", 100.0 * v))
+        .unwrap_or_else(|| "n/a".into())
 }
 
 fn figure_name(floor: &str, service: &str) -> String {
-    let clean = |s: &str| s.chars().map(|c| if c.is_ascii_alphanumeric() || c == '-' { c } else { '_' }).collect::<String>();
+    let clean = |s: &str| {
+        s.chars()
+            .map(|c| {
+                if c.is_ascii_alphanumeric() || c == '-' {
+                    c
+                } else {
+                    '_'
+                }
+            })
+            .collect::<String>()
+    };
     format!("map-{}-{}.svg", clean(floor), clean(service))
 }
 
 /// Builds the figures: one coverage map per graded layer, plus the plugins' figures.
-pub fn figures(site: &Site, a: &Assessment, measured: &[Measurement]) -> Result<BTreeMap<String, String>, ReportError> {
+pub fn figures(
+    site: &Site,
+    a: &Assessment,
+    measured: &[Measurement],
+) -> Result<BTreeMap<String, String>, ReportError> {
     let mut out = BTreeMap::new();
     for s in &a.services {
-        let Some(svc) = site.service(&s.id) else { continue };
-        for l in a.layers.iter().filter(|l| l.service == s.id && l.model == s.model) {
-            let pts: Vec<&Measurement> = measured.iter().filter(|m| m.floor == l.floor && m.service == l.service).collect();
-            let svg = charts::coverage_map(site, l, svc.threshold_dbm + svc.design_margin_db, &pts).map_err(ReportError)?;
+        let Some(svc) = site.service(&s.id) else {
+            continue;
+        };
+        for l in a
+            .layers
+            .iter()
+            .filter(|l| l.service == s.id && l.model == s.model)
+        {
+            let pts: Vec<&Measurement> = measured
+                .iter()
+                .filter(|m| m.floor == l.floor && m.service == l.service)
+                .collect();
+            let svg = charts::coverage_map(site, l, svc.threshold_dbm + svc.design_margin_db, &pts)
+                .map_err(ReportError)?;
             out.insert(figure_name(&l.floor, &l.service), svg);
         }
     }
@@ -172,23 +225,43 @@ pub fn figures(site: &Site, a: &Assessment, measured: &[Measurement]) -> Result<
     Ok(out)
 }
 
-fn snippet(hb: &handlebars::Handlebars<'_>, name: &str, data: &Value) -> Result<String, ReportError> {
-    hb.render(name, data).map(|s| s.trim().to_string()).map_err(|e| ReportError(format!("snippet `{name}`: {e}")))
+fn snippet(
+    hb: &handlebars::Handlebars<'_>,
+    name: &str,
+    data: &Value,
+) -> Result<String, ReportError> {
+    hb.render(name, data)
+        .map(|s| s.trim().to_string())
+        .map_err(|e| ReportError(format!("snippet `{name}`: {e}")))
 }
 
 /// The view model handed to Typst: every number already formatted.
-pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names: &BTreeMap<String, String>) -> Result<Value, ReportError> {
+pub fn view_model(
+    site: &Site,
+    a: &Assessment,
+    template: &Template,
+    figure_names: &BTreeMap<String, String>,
+) -> Result<Value, ReportError> {
     let mut hb = handlebars::Handlebars::new();
     hb.register_escape_fn(handlebars::no_escape);
     hb.set_strict_mode(false);
     for (k, v) in &template.snippets {
-        hb.register_template_string(k, v).map_err(|e| ReportError(format!("snippet `{k}`: {e}")))?;
+        hb.register_template_string(k, v)
+            .map_err(|e| ReportError(format!("snippet `{k}`: {e}")))?;
     }
     let u = site.units;
     let ul = u.label();
     let overall_pass = a.services.iter().all(|s| s.pass);
     let failing_floors = |s: &rfsite_plugin::ServiceResult| -> Vec<String> {
-        s.floors.iter().filter(|f| !f.pass).map(|f| site.floor(&f.id).map(|x| x.name.clone()).unwrap_or(f.id.clone())).collect()
+        s.floors
+            .iter()
+            .filter(|f| !f.pass)
+            .map(|f| {
+                site.floor(&f.id)
+                    .map(|x| x.name.clone())
+                    .unwrap_or(f.id.clone())
+            })
+            .collect()
     };
     let mut verdicts = Vec::new();
     for s in &a.services {
@@ -207,7 +280,12 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
             "model": s.model,
         }));
     }
-    let key: Vec<&rfsite_plugin::Finding> = a.findings.iter().filter(|f| f.severity <= Severity::Major).take(6).collect();
+    let key: Vec<&rfsite_plugin::Finding> = a
+        .findings
+        .iter()
+        .filter(|f| f.severity <= Severity::Major)
+        .take(6)
+        .collect();
     let recommended = a.remediation.first();
     let summary_ctx = json!({
         "site": site.meta.name, "client": site.meta.client, "overall_pass": overall_pass,
@@ -219,7 +297,11 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
         "recommendation": recommended.map(|r| r.title.clone()).unwrap_or_default(),
     });
     let rec_text = match recommended {
-        Some(r) => snippet(&hb, "recommendation", &json!({"title": r.title, "detail": r.detail, "expected": r.expected, "margin_db": f1(r.margin_needed_db)}))?,
+        Some(r) => snippet(
+            &hb,
+            "recommendation",
+            &json!({"title": r.title, "detail": r.detail, "expected": r.expected, "margin_db": f1(r.margin_needed_db)}),
+        )?,
         None => String::new(),
     };
     let finding_view = |f: &rfsite_plugin::Finding| {
@@ -236,7 +318,9 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
     let mut pages = Vec::new();
     for s in &a.services {
         for fr in &s.floors {
-            let Some(floor) = site.floor(&fr.id) else { continue };
+            let Some(floor) = site.floor(&fr.id) else {
+                continue;
+            };
             let fig = figure_name(&fr.id, &s.id);
             let ctx = json!({
                 "floor": floor.name, "service": s.name, "pass": fr.pass,
@@ -262,14 +346,22 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
             }));
         }
     }
-    let svc_ids: Vec<String> = site.services.iter().map(|s| format!("{} ({} MHz)", s.name, f1(s.freq_mhz))).collect();
+    let svc_ids: Vec<String> = site
+        .services
+        .iter()
+        .map(|s| format!("{} ({} MHz)", s.name, f1(s.freq_mhz)))
+        .collect();
     let mat_rows: Vec<Vec<String>> = a
         .materials
         .iter()
         .map(|m| {
             let mut r = vec![m.name.clone(), m.class.clone(), m.model.clone()];
             for l in &m.losses {
-                r.push(format!("{}{}", f1(l.loss_db), if l.extrapolated { " *" } else { "" }));
+                r.push(format!(
+                    "{}{}",
+                    f1(l.loss_db),
+                    if l.extrapolated { " *" } else { "" }
+                ));
             }
             r.push(m.probe_loss_db.map(f1).unwrap_or_else(|| "-".into()));
             r.push(m.confidence.clone());
@@ -291,7 +383,11 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
                 format!("{} {ul}", f1(u.from_m(f.height_m))),
                 format!("{:.0} {ul}²", u.from_m(u.from_m(f.area_m2()))),
                 f.parts.len().to_string(),
-                f.zones.iter().filter(|z| z.kind == rfsite_model::ZoneKind::Critical).count().to_string(),
+                f.zones
+                    .iter()
+                    .filter(|z| z.kind == rfsite_model::ZoneKind::Critical)
+                    .count()
+                    .to_string(),
             ]
         })
         .collect();
@@ -302,26 +398,63 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
             let t = site.transmitters.iter().find(|t| t.id == l.transmitter);
             vec![
                 l.transmitter.clone(),
-                site.service(&l.service).map(|s| s.name.clone()).unwrap_or_default(),
-                site.floor(&l.floor).map(|s| s.name.clone()).unwrap_or_default(),
-                t.map(|t| format!("({}, {}) {ul}", f1(u.from_m(t.position.x)), f1(u.from_m(t.position.y)))).unwrap_or_default(),
+                site.service(&l.service)
+                    .map(|s| s.name.clone())
+                    .unwrap_or_default(),
+                site.floor(&l.floor)
+                    .map(|s| s.name.clone())
+                    .unwrap_or_default(),
+                t.map(|t| {
+                    format!(
+                        "({}, {}) {ul}",
+                        f1(u.from_m(t.position.x)),
+                        f1(u.from_m(t.position.y))
+                    )
+                })
+                .unwrap_or_default(),
                 f1(l.power_dbm),
                 f1(l.cable_loss_db + l.connector_loss_db),
                 f1(l.antenna_gain_dbi),
                 f1(l.eirp_dbm),
-                if l.free_space_range_m > 1000.0 { "> 1 km".to_string() } else { format!("{} {ul}", f1(u.from_m(l.free_space_range_m))) },
+                if l.free_space_range_m > 1000.0 {
+                    "> 1 km".to_string()
+                } else {
+                    format!("{} {ul}", f1(u.from_m(l.free_space_range_m)))
+                },
             ]
         })
         .collect();
     let donors: Vec<Vec<String>> = site
         .donors
         .iter()
-        .map(|d| vec![d.id.clone(), site.service(&d.service).map(|s| s.name.clone()).unwrap_or_default(), f1(d.level_dbm), d.floors.join(", "), f1(d.elevation_deg)])
+        .map(|d| {
+            vec![
+                d.id.clone(),
+                site.service(&d.service)
+                    .map(|s| s.name.clone())
+                    .unwrap_or_default(),
+                f1(d.level_dbm),
+                d.floors.join(", "),
+                f1(d.elevation_deg),
+            ]
+        })
         .collect();
-    let method_text = snippet(&hb, "method", &json!({"model": site.prediction.model, "step": f1(u.from_m(site.prediction.grid_step_m)), "units": ul,
-        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}))?;
-    let tables: Vec<Value> = a.tables.iter().map(|t| json!({"title": t.title, "columns": t.columns, "rows": t.rows})).collect();
-    let figs: Vec<Value> = a.figures.iter().map(|f| json!({"title": f.title, "file": format!("{}.svg", f.id)})).collect();
+    let method_text = snippet(
+        &hb,
+        "method",
+        &json!({"model": site.prediction.model, "step": f1(u.from_m(site.prediction.grid_step_m)), "units": ul,
+        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
+    )?;
+    let tables: Vec<Value> = a
+        .tables
+        .iter()
+        .map(|t| json!({"title": t.title, "columns": t.columns, "rows": t.rows}))
+        .collect();
+    let figs: Vec<Value> = a
+        .figures
+        .iter()
+        .map(|f| json!({"title": f.title, "file": format!("{}.svg", f.id)}))
+        .collect();
     Ok(json!({
         "meta": {
             "title": template.config.title, "site_name": site.meta.name, "site_id": site.meta.id, "client": site.meta.client,
@@ -375,32 +508,58 @@ pub fn view_model(site: &Site, a: &Assessment, template: &Template, figure_names
 }
 
 /// Renders the PDF and figures.
-pub fn render(site: &Site, a: &Assessment, template: &Template, measured: &[Measurement]) -> Result<Rendered, ReportError> {
+pub fn render(
+    site: &Site,
+    a: &Assessment,
+    template: &Template,
+    measured: &[Measurement],
+) -> Result<Rendered, ReportError> {
     let figs = figures(site, a, measured)?;
     let vm = view_model(site, a, template, &figs)?;
     let data = serde_json::to_vec(&vm).map_err(|e| ReportError(e.to_string()))?;
     let mut fig_dict = Dict::new();
     for (k, v) in &figs {
-        fig_dict.insert(k.as_str().into(), Bytes::new(v.clone().into_bytes()).into_value());
+        fig_dict.insert(
+            k.as_str().into(),
+            Bytes::new(v.clone().into_bytes()).into_value(),
+        );
     }
     let mut inputs = Dict::new();
     inputs.insert("data".into(), Bytes::new(data).into_value());
     inputs.insert("figures".into(), fig_dict.into_value());
-    if let Some(logo) = template.config.logo.as_ref().and_then(|l| template.assets.get(l)) {
+    if let Some(logo) = template
+        .config
+        .logo
+        .as_ref()
+        .and_then(|l| template.assets.get(l))
+    {
         inputs.insert("logo".into(), Bytes::new(logo.clone()).into_value());
     }
-    let engine = TypstEngine::builder().main_file(template.typst_main.as_str()).fonts(FONTS.iter().copied()).search_fonts_with(
-        typst_as_lib::typst_kit_options::TypstKitFontOptions::default().include_system_fonts(false).include_embedded_fonts(true),
-    ).build();
+    let engine = TypstEngine::builder()
+        .main_file(template.typst_main.as_str())
+        .fonts(FONTS.iter().copied())
+        .search_fonts_with(
+            typst_as_lib::typst_kit_options::TypstKitFontOptions::default()
+                .include_system_fonts(false)
+                .include_embedded_fonts(true),
+        )
+        .build();
     let compiled = engine.compile_with_input::<_, typst_layout::PagedDocument>(inputs);
-    let doc = compiled.output.map_err(|e| ReportError(format!("typesetting failed: {e:?}")))?;
+    let doc = compiled
+        .output
+        .map_err(|e| ReportError(format!("typesetting failed: {e:?}")))?;
     let (y, m, d) = parse_date(&site.meta.report_date);
     let opts = typst_pdf::PdfOptions {
-        ident: typst::foundations::Smart::Custom(format!("rfsite/{}/{}", site.meta.id, site.meta.revision)),
-        timestamp: typst::foundations::Datetime::from_ymd(y, m, d).map(typst_pdf::Timestamp::new_utc),
+        ident: typst::foundations::Smart::Custom(format!(
+            "rfsite/{}/{}",
+            site.meta.id, site.meta.revision
+        )),
+        timestamp: typst::foundations::Datetime::from_ymd(y, m, d)
+            .map(typst_pdf::Timestamp::new_utc),
         ..Default::default()
     };
-    let pdf = typst_pdf::pdf(&doc, &opts).map_err(|e| ReportError(format!("PDF export failed: {e:?}")))?;
+    let pdf = typst_pdf::pdf(&doc, &opts)
+        .map_err(|e| ReportError(format!("PDF export failed: {e:?}")))?;
     Ok(Rendered { pdf, figures: figs })
 }
 

@@ -372,7 +372,14 @@ impl Plugin for BuildingEntry {
                 let f_ok = indoor_f.map(|x| x >= need);
                 let (verdict, severity) = match (p_ok, f_ok) {
                     (true, Some(true)) | (true, None) => ("sufficient", Severity::Info),
-                    (false, Some(false)) | (false, None) => ("insufficient", if has_indoor_system { Severity::Minor } else { Severity::Major }),
+                    (false, Some(false)) | (false, None) => (
+                        "insufficient",
+                        if has_indoor_system {
+                            Severity::Minor
+                        } else {
+                            Severity::Major
+                        },
+                    ),
                     _ => ("marginal", Severity::Minor),
                 };
                 let e = DonorEntry {
@@ -487,10 +494,16 @@ impl Plugin for BuildingEntry {
             // (the table keeps every floor).
             let mut mine: Vec<Finding> = out.findings.drain(first_finding..).collect();
             let n = mine.len();
-            mine.sort_by(|a, b| b.shortfall_db.unwrap_or(f64::NEG_INFINITY).total_cmp(&a.shortfall_db.unwrap_or(f64::NEG_INFINITY)).then(a.id.cmp(&b.id)));
+            mine.sort_by(|a, b| {
+                b.shortfall_db
+                    .unwrap_or(f64::NEG_INFINITY)
+                    .total_cmp(&a.shortfall_db.unwrap_or(f64::NEG_INFINITY))
+                    .then(a.id.cmp(&b.id))
+            });
             if let Some(mut f) = mine.into_iter().next() {
                 if n > 1 {
-                    f.title.push_str(&format!(" (worst of {n} floors; the table lists each)"));
+                    f.title
+                        .push_str(&format!(" (worst of {n} floors; the table lists each)"));
                 }
                 f.id = format!("entry-{}", d.id);
                 out.findings.push(f);

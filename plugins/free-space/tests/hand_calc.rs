@@ -37,17 +37,24 @@ pattern = "isotropic"
 
 #[test]
 fn level_at_a_grid_point_is_eirp_minus_p525() {
-    let l = load(&SourceFile::new("fs.toml", SITE), &MaterialLibrary::builtin());
+    let l = load(
+        &SourceFile::new("fs.toml", SITE),
+        &MaterialLibrary::builtin(),
+    );
     let site = l.site.expect("valid");
     let layers = predict(&site, "free-space", &NoExtra);
     let layer = &layers[0];
     // Grid cell centres at 0.5, 1.5, ...; take (7.5, 5.5): index iy = 5, ix = 7.
     let i = 5 * layer.grid.nx + 7;
     let (dx, dy, dz) = (7.5 - 2.0, 5.5 - 5.0, 1.5 - 2.5);
-    let d: f64 = (dx * dx + dy * dy + dz * dz) as f64;
+    let d: f64 = dx * dx + dy * dy + dz * dz;
     let d = d.sqrt();
     let lambda = 299_792_458.0 / 900e6;
     let fspl = 20.0 * (4.0 * std::f64::consts::PI * d / lambda).log10();
     let expected = 20.0 - 2.0 - 1.0 - fspl;
-    assert!((layer.level_dbm[i] as f64 - expected).abs() < 1e-3, "{} vs {expected}", layer.level_dbm[i]);
+    assert!(
+        (layer.level_dbm[i] as f64 - expected).abs() < 1e-3,
+        "{} vs {expected}",
+        layer.level_dbm[i]
+    );
 }

@@ -120,9 +120,11 @@ pub fn rule_from_table(t: &toml::Table, strict: bool) -> Result<(Rule, Vec<Strin
                 Some(s) if !s.trim().is_empty() => {
                     sources.insert(base.to_string(), s.to_string());
                 }
-                _ => return Err(format!(
+                _ => {
+                    return Err(format!(
                     "`{k}` must be a non-empty string naming the source or saying \"from memory\""
-                )),
+                ))
+                }
             }
             if !t.contains_key(base) {
                 return Err(format!("`{k}` names no key `{base}`"));

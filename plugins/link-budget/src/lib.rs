@@ -79,18 +79,29 @@ impl Plugin for LinkBudgetPlugin {
         }
     }
     fn after(&self) -> Vec<String> {
-        vec!["free-space".into(), "multi-wall".into(), "calibration".into()]
+        vec![
+            "free-space".into(),
+            "multi-wall".into(),
+            "calibration".into(),
+        ]
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         // Grade the calibrated prediction when the calibration plugin made one, unless the
         // site names a model for this plugin.
-        let default_model = if ctx.layers_of("calibrated").is_empty() { site.prediction.model.clone() } else { "calibrated".to_string() };
+        let default_model = if ctx.layers_of("calibrated").is_empty() {
+            site.prediction.model.clone()
+        } else {
+            "calibrated".to_string()
+        };
         let model = ctx.option_str("model", &default_model)?;
         let mut layers = ctx.layers_of(&model);
         let mut out = PluginOutput::default();
         if layers.is_empty() && !site.transmitters.is_empty() {
-            out.warnings.push(Warning { plugin: self.id().into(), message: format!("no `{model}` layers; grading the free-space prediction instead") });
+            out.warnings.push(Warning {
+                plugin: self.id().into(),
+                message: format!("no `{model}` layers; grading the free-space prediction instead"),
+            });
             layers = ctx.layers_of("free-space");
         }
         let worst: Vec<WorstPoint> = ctx
@@ -100,10 +111,12 @@ impl Plugin for LinkBudgetPlugin {
             .unwrap_or_default();
 
         for t in &site.transmitters {
-            let Some(svc) = site.service(&t.service) else { continue };
+            let Some(svc) = site.service(&t.service) else {
+                continue;
+            };
             let need = svc.threshold_dbm + svc.design_margin_db;
             let budget = t.eirp_dbm() - need; // allowed free-space loss
-            // Free-space range: invert P.525 for the allowed loss.
+                                              // Free-space range: invert P.525 for the allowed loss.
             let range_m = 10f64.powf((budget - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0);
             out.link_budgets.push(LinkBudget {
                 transmitter: t.id.clone(),
@@ -123,7 +136,9 @@ impl Plugin for LinkBudgetPlugin {
             let thr = svc.threshold_dbm + svc.design_margin_db;
             let mut floors = Vec::new();
             for floor in &site.floors {
-                let layer = layers.iter().find(|l| l.floor == floor.id && l.service == svc.id);
+                let layer = layers
+                    .iter()
+                    .find(|l| l.floor == floor.id && l.service == svc.id);
                 let mut general = Vec::new();
                 let mut critical = Vec::new();
                 if let Some(l) = layer {
@@ -155,7 +170,8 @@ impl Plugin for LinkBudgetPlugin {
                 let gf = fraction_at_or_above(&general, thr);
                 let cf = fraction_at_or_above(&critical, thr);
                 let af = fraction_at_or_above(&all, thr).unwrap_or(0.0);
-                let pass = gf.is_none_or(|f| f >= svc.target_general) && cf.is_none_or(|f| f >= svc.target_critical);
+                let pass = gf.is_none_or(|f| f >= svc.target_general)
+                    && cf.is_none_or(|f| f >= svc.target_critical);
                 let dg = uplift_needed_db(&mut general.clone(), thr, svc.target_general);
                 let dc = uplift_needed_db(&mut critical.clone(), thr, svc.target_critical);
                 all.sort_by(f64::total_cmp);
@@ -170,12 +186,19 @@ impl Plugin for LinkBudgetPlugin {
                     pass,
                     min_level_dbm: if min.is_finite() { min } else { -200.0 },
                     median_level_dbm: if median.is_finite() { median } else { -200.0 },
-                    margin_needed_db: if margin_needed.is_finite() { margin_needed } else { 999.0 },
+                    margin_needed_db: if margin_needed.is_finite() {
+                        margin_needed
+                    } else {
+                        999.0
+                    },
                     points: all.len(),
                 });
                 // Findings.
                 let fr = floors.last().expect("just pushed");
-                let pct = |f: Option<f64>| f.map(|x| format!("{:.1} %", 100.0 * x)).unwrap_or_else(|| "n/a".into());
+                let pct = |f: Option<f64>| {
+                    f.map(|x| format!("{:.1} %", 100.0 * x))
+                        .unwrap_or_else(|| "n/a".into())
+                };
                 if fr.pass {
                     out.findings.push(Finding {
                         id: format!("coverage-{}-{}", svc.id, floor.id),
@@ -196,23 +219,46 @@ impl Plugin for LinkBudgetPlugin {
                     });
                     continue;
                 }
-                let critical_fail = fr.critical_fraction.is_some_and(|f| f < svc.target_critical);
-                let severity = if svc.life_safety || critical_fail { Severity::Critical } else { Severity::Major };
+                let critical_fail = fr
+                    .critical_fraction
+                    .is_some_and(|f| f < svc.target_critical);
+                let severity = if svc.life_safety || critical_fail {
+                    Severity::Critical
+                } else {
+                    Severity::Major
+                };
                 // Explain the weakest point of the zone kind that fails (critical first).
                 let general_fail = fr.general_fraction.is_some_and(|f| f < svc.target_general);
-                let want = if critical_fail || !general_fail { "critical" } else { "general" };
+                let want = if critical_fail || !general_fail {
+                    "critical"
+                } else {
+                    "general"
+                };
                 let wp = worst
                     .iter()
                     .find(|w| w.floor == floor.id && w.service == svc.id && w.zone == want)
-                    .or_else(|| worst.iter().find(|w| w.floor == floor.id && w.service == svc.id));
+                    .or_else(|| {
+                        worst
+                            .iter()
+                            .find(|w| w.floor == floor.id && w.service == svc.id)
+                    });
                 let mut causes = Vec::new();
                 let mut location = None;
                 if let Some(w) = wp {
                     location = Some(w.point_m);
                     let walls_db: f64 = w.walls.iter().map(|g| g.loss_db).sum();
-                    let mut parts: Vec<String> = w.walls.iter().take(4).map(|g| format!("{} x {} ({} dB)", g.count, g.name, fmt1(g.loss_db))).collect();
+                    let mut parts: Vec<String> = w
+                        .walls
+                        .iter()
+                        .take(4)
+                        .map(|g| format!("{} x {} ({} dB)", g.count, g.name, fmt1(g.loss_db)))
+                        .collect();
                     if w.floors_crossed > 0 {
-                        parts.push(format!("{} floor slab(s) ({} dB)", w.floors_crossed, fmt1(w.floor_loss_db)));
+                        parts.push(format!(
+                            "{} floor slab(s) ({} dB)",
+                            w.floors_crossed,
+                            fmt1(w.floor_loss_db)
+                        ));
                     }
                     if parts.is_empty() {
                         causes.push(format!(
@@ -235,11 +281,16 @@ impl Plugin for LinkBudgetPlugin {
                             causes.push("coated energy-efficient glazing reflects most of the signal that reaches it".into());
                         }
                         if g.class == "metal" && g.loss_db > 10.0 {
-                            causes.push("metal (doors, cladding or shafts) blocks the direct path".into());
+                            causes.push(
+                                "metal (doors, cladding or shafts) blocks the direct path".into(),
+                            );
                         }
                     }
                 } else if layer.is_none() {
-                    causes.push(format!("no transmitter of {} serves this floor or reaches it", svc.name));
+                    causes.push(format!(
+                        "no transmitter of {} serves this floor or reaches it",
+                        svc.name
+                    ));
                 }
                 causes.dedup();
                 let rid = format!("indoor-antennas-{}-{}", svc.id, floor.id);
@@ -261,14 +312,21 @@ impl Plugin for LinkBudgetPlugin {
                     remedies: vec![rid.clone()],
                 });
                 // Remediation, rule-based.
-                let on_floor = site.transmitters.iter().filter(|t| t.service == svc.id && t.floor == floor.id).count();
+                let on_floor = site
+                    .transmitters
+                    .iter()
+                    .filter(|t| t.service == svc.id && t.floor == floor.id)
+                    .count();
                 let area = floor.area_m2();
                 // Coverage radius of a typical indoor antenna (15 dBm EIRP) with 15 dB of
                 // clutter loss beyond free space (common practice planning figure).
                 let allowed = 15.0 - thr - 15.0;
-                let r = 10f64.powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0).clamp(3.0, 60.0);
+                let r = 10f64
+                    .powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0)
+                    .clamp(3.0, 60.0);
                 let failing = (1.0 - fr.predicted_area_fraction).max(0.0) * area;
-                let n_new = ((failing / (std::f64::consts::PI * r * r * 0.6)).ceil() as usize).max(1);
+                let n_new =
+                    ((failing / (std::f64::consts::PI * r * r * 0.6)).ceil() as usize).max(1);
                 let (title, detail) = if fr.margin_needed_db <= 6.0 && on_floor > 0 {
                     (
                         format!("Raise the EIRP or add one antenna on {} for {}", floor.name, svc.name),
@@ -296,9 +354,18 @@ impl Plugin for LinkBudgetPlugin {
                 });
             }
             let pass = floors.iter().all(|f| f.pass);
-            let failing: Vec<String> = floors.iter().filter(|f| !f.pass).map(|f| f.id.clone()).collect();
+            let failing: Vec<String> = floors
+                .iter()
+                .filter(|f| !f.pass)
+                .map(|f| f.id.clone())
+                .collect();
             if !failing.is_empty() && site.donors.iter().any(|d| d.service == svc.id) {
-                let best = site.donors.iter().filter(|d| d.service == svc.id).map(|d| d.level_dbm).fold(f64::NEG_INFINITY, f64::max);
+                let best = site
+                    .donors
+                    .iter()
+                    .filter(|d| d.service == svc.id)
+                    .map(|d| d.level_dbm)
+                    .fold(f64::NEG_INFINITY, f64::max);
                 out.remediation.push(Remediation {
                     id: format!("repeater-{}", svc.id),
                     title: format!("Off-air repeater for {} fed by a rooftop donor antenna", svc.name),
@@ -326,7 +393,10 @@ impl Plugin for LinkBudgetPlugin {
                 design_margin_db: svc.design_margin_db,
                 target_general: svc.target_general,
                 target_critical: svc.target_critical,
-                model: layers.first().map(|l| l.model.clone()).unwrap_or_else(|| model.clone()),
+                model: layers
+                    .first()
+                    .map(|l| l.model.clone())
+                    .unwrap_or_else(|| model.clone()),
                 floors,
                 pass,
             });
@@ -350,17 +420,38 @@ pub fn cautions(site: &Site) -> Vec<Caution> {
     // Exposure: the largest EIRP per service, with both general-public limits.
     let mut lines = Vec::new();
     for svc in &site.services {
-        let Some(t) = site.transmitters.iter().filter(|t| t.service == svc.id).max_by(|a, b| a.eirp_dbm().total_cmp(&b.eirp_dbm())) else { continue };
+        let Some(t) = site
+            .transmitters
+            .iter()
+            .filter(|t| t.service == svc.id)
+            .max_by(|a, b| a.eirp_dbm().total_cmp(&b.eirp_dbm()))
+        else {
+            continue;
+        };
         let eirp_w = 10f64.powf((t.eirp_dbm() - 30.0) / 10.0);
         let mut parts = Vec::new();
-        for lim in [exposure::ExposureLimit::FccGeneral, exposure::ExposureLimit::IcnirpGeneral] {
+        for lim in [
+            exposure::ExposureLimit::FccGeneral,
+            exposure::ExposureLimit::IcnirpGeneral,
+        ] {
             if let Ok(s) = exposure::limit_w_per_m2(lim, svc.freq_mhz) {
                 let d = exposure::compliance_distance_m(eirp_w, s);
-                parts.push(format!("{} {} {}", lim.id(), format_args!("{:.2}", site.units.from_m(d)), site.units.label()));
+                parts.push(format!(
+                    "{} {} {}",
+                    lim.id(),
+                    format_args!("{:.2}", site.units.from_m(d)),
+                    site.units.label()
+                ));
             }
         }
         if !parts.is_empty() {
-            lines.push(format!("{} ({} at {} dBm EIRP): {}", svc.name, t.id, fmt1(t.eirp_dbm()), parts.join(", ")));
+            lines.push(format!(
+                "{} ({} at {} dBm EIRP): {}",
+                svc.name,
+                t.id,
+                fmt1(t.eirp_dbm()),
+                parts.join(", ")
+            ));
         }
     }
     c.push(Caution {

@@ -8,16 +8,16 @@
 //! For a path between storeys, the 3D line is cut where it passes each slab; the part of it
 //! inside each storey is tested against that storey's walls only.
 
+use rayon::prelude::*;
+use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
 use rfsite_geometry::{Crossing, Point2, Scratch, Segment, WallIndex};
+use rfsite_model::Combine;
 use rfsite_model::{MaterialClass, Site, ZoneKind};
 use rfsite_physics::cost231;
+use rfsite_physics::fspl;
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 use rfsite_plugin_free_space::{floor_grid, gain_towards, PathLoss, MIN_DISTANCE_M, P3};
-use rayon::prelude::*;
-use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
-use rfsite_model::Combine;
-use rfsite_physics::fspl;
 use serde::Serialize;
 
 const ANGLE_SAMPLES: usize = 32;
@@ -84,7 +84,10 @@ fn loss_fn(
     let mut t = Box::new([0f32; ANGLE_SAMPLES + 1]);
     for (i, v) in t.iter_mut().enumerate() {
         let cos = (i as f64 / ANGLE_SAMPLES as f64).max(1e-3);
-        *v = m.crossing_loss(freq_mhz, thickness_m, cos, pol).loss_db.min(cap) as f32;
+        *v = m
+            .crossing_loss(freq_mhz, thickness_m, cos, pol)
+            .loss_db
+            .min(cap) as f32;
     }
     LossFn::Angle(t)
 }
@@ -120,7 +123,15 @@ impl Scene {
                         f.parts
                             .iter()
                             .map(|p| {
-                                loss_fn(site, &p.material, svc.freq_mhz, p.thickness_m, Polarization::Te, max_crossing_db, &mut notes)
+                                loss_fn(
+                                    site,
+                                    &p.material,
+                                    svc.freq_mhz,
+                                    p.thickness_m,
+                                    Polarization::Te,
+                                    max_crossing_db,
+                                    &mut notes,
+                                )
                             })
                             .collect()
                     })
@@ -129,7 +140,17 @@ impl Scene {
             slab_loss.push(
                 site.floors
                     .iter()
-                    .map(|f| loss_fn(site, &f.slab_material, svc.freq_mhz, f.slab_thickness_m, Polarization::Tm, max_crossing_db, &mut notes))
+                    .map(|f| {
+                        loss_fn(
+                            site,
+                            &f.slab_material,
+                            svc.freq_mhz,
+                            f.slab_thickness_m,
+                            Polarization::Tm,
+                            max_crossing_db,
+                            &mut notes,
+                        )
+                    })
                     .collect(),
             );
         }
@@ -182,7 +203,12 @@ impl Scene {
             if t1 <= t0 {
                 continue;
             }
-            let at = |t: f64| Point2::new(tx.p.x + t * (rx.p.x - tx.p.x), tx.p.y + t * (rx.p.y - tx.p.y));
+            let at = |t: f64| {
+                Point2::new(
+                    tx.p.x + t * (rx.p.x - tx.p.x),
+                    tx.p.y + t * (rx.p.y - tx.p.y),
+                )
+            };
             out.clear();
             fs.index.crossings_with(sc, at(t0), at(t1), out);
             for c in out.iter() {
@@ -191,15 +217,30 @@ impl Scene {
         }
     }
 
-    fn floor_db(&self, service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> (u32, f64) {
+    fn floor_db(
+        &self,
+        service: usize,
+        tx: P3,
+        tx_floor: usize,
+        rx: P3,
+        rx_floor: usize,
+    ) -> (u32, f64) {
         if tx_floor == rx_floor {
             return (0, 0.0);
         }
         let (lo, hi) = (tx_floor.min(rx_floor), tx_floor.max(rx_floor));
-        let d = ((rx.p.x - tx.p.x).powi(2) + (rx.p.y - tx.p.y).powi(2) + (rx.z - tx.z).powi(2)).sqrt();
-        let cos = if d > 0.0 { (rx.z - tx.z).abs() / d } else { 1.0 };
+        let d =
+            ((rx.p.x - tx.p.x).powi(2) + (rx.p.y - tx.p.y).powi(2) + (rx.z - tx.z).powi(2)).sqrt();
+        let cos = if d > 0.0 {
+            (rx.z - tx.z).abs() / d
+        } else {
+            1.0
+        };
         let n = (hi - lo) as u32;
-        let mean: f64 = ((lo + 1)..=hi).map(|j| self.slab_loss[service][j].eval(cos)).sum::<f64>() / n as f64;
+        let mean: f64 = ((lo + 1)..=hi)
+            .map(|j| self.slab_loss[service][j].eval(cos))
+            .sum::<f64>()
+            / n as f64;
         (n, cost231::floor_term_db(n, mean, self.b))
     }
 }
@@ -208,17 +249,33 @@ impl Scene {
     /// Wall crossings of the direct path from transmitter `tx_id` to point `p` on floor
     /// `rx_floor`, counted per material id, and the 3D path length (m). Used to fit
     /// per-material losses to measurements.
-    pub fn crossings_by_material(&self, site: &Site, tx_id: &str, rx_floor: usize, p: Point2) -> Option<(std::collections::BTreeMap<String, usize>, f64)> {
+    pub fn crossings_by_material(
+        &self,
+        site: &Site,
+        tx_id: &str,
+        rx_floor: usize,
+        p: Point2,
+    ) -> Option<(std::collections::BTreeMap<String, usize>, f64)> {
         let t = site.transmitters.iter().find(|t| t.id == tx_id)?;
         let tf = site.floor_index(&t.floor)?;
-        let tx = P3 { p: t.position, z: site.floors[tf].elevation_m + t.height_m };
-        let rx = P3 { p, z: site.floors.get(rx_floor)?.elevation_m + site.prediction.receiver_height_m };
+        let tx = P3 {
+            p: t.position,
+            z: site.floors[tf].elevation_m + t.height_m,
+        };
+        let rx = P3 {
+            p,
+            z: site.floors.get(rx_floor)?.elevation_m + site.prediction.receiver_height_m,
+        };
         let mut counts: std::collections::BTreeMap<String, usize> = Default::default();
         let mut scratch = self.scratch();
         self.for_each_crossing(&mut scratch, tx, tf, rx, rx_floor, |k, c| {
-            *counts.entry(site.floors[k].parts[c.wall].material.clone()).or_default() += 1;
+            *counts
+                .entry(site.floors[k].parts[c.wall].material.clone())
+                .or_default() += 1;
         });
-        let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2)).sqrt().max(rfsite_plugin_free_space::MIN_DISTANCE_M);
+        let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2))
+            .sqrt()
+            .max(rfsite_plugin_free_space::MIN_DISTANCE_M);
         Some((counts, d))
     }
 
@@ -246,7 +303,15 @@ impl Scene {
 
 impl Scene {
     /// Wall losses (no floor term) of one path, dB.
-    pub fn walls_db(&self, scratch: &mut (Scratch, Vec<Crossing>), service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> f64 {
+    pub fn walls_db(
+        &self,
+        scratch: &mut (Scratch, Vec<Crossing>),
+        service: usize,
+        tx: P3,
+        tx_floor: usize,
+        rx: P3,
+        rx_floor: usize,
+    ) -> f64 {
         let mut walls = 0.0;
         let table = &self.wall_loss[service];
         self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
@@ -261,7 +326,15 @@ impl PathLoss for Scene {
     fn scratch(&self) -> Self::Scratch {
         (Scratch::new(), Vec::new())
     }
-    fn extra_db(&self, scratch: &mut Self::Scratch, service: usize, tx: P3, tx_floor: usize, rx: P3, rx_floor: usize) -> f64 {
+    fn extra_db(
+        &self,
+        scratch: &mut Self::Scratch,
+        service: usize,
+        tx: P3,
+        tx_floor: usize,
+        rx: P3,
+        rx_floor: usize,
+    ) -> f64 {
         let mut walls = 0.0;
         let table = &self.wall_loss[service];
         self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
@@ -314,11 +387,25 @@ pub struct WallGroup {
 }
 
 /// Breaks down the path from transmitter `tx_id` to point `p` on floor `rx_floor`.
-pub fn breakdown(site: &Site, scene: &Scene, service: usize, tx_id: &str, rx_floor: usize, p: Point2, level_dbm: f64) -> Option<Breakdown> {
+pub fn breakdown(
+    site: &Site,
+    scene: &Scene,
+    service: usize,
+    tx_id: &str,
+    rx_floor: usize,
+    p: Point2,
+    level_dbm: f64,
+) -> Option<Breakdown> {
     let t = site.transmitters.iter().find(|t| t.id == tx_id)?;
     let tf = site.floor_index(&t.floor)?;
-    let tx = P3 { p: t.position, z: site.floors[tf].elevation_m + t.height_m };
-    let rx = P3 { p, z: site.floors[rx_floor].elevation_m + site.prediction.receiver_height_m };
+    let tx = P3 {
+        p: t.position,
+        z: site.floors[tf].elevation_m + t.height_m,
+    };
+    let rx = P3 {
+        p,
+        z: site.floors[rx_floor].elevation_m + site.prediction.receiver_height_m,
+    };
     let mut groups: std::collections::BTreeMap<String, (usize, f64)> = Default::default();
     let mut scratch = scene.scratch();
     scene.for_each_crossing(&mut scratch, tx, tf, rx, rx_floor, |k, c| {
@@ -328,7 +415,9 @@ pub fn breakdown(site: &Site, scene: &Scene, service: usize, tx_id: &str, rx_flo
         e.1 += scene.wall_loss[service][k][c.wall].eval(c.cos_incidence);
     });
     let (n, fl) = scene.floor_db(service, tx, tf, rx, rx_floor);
-    let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2)).sqrt().max(rfsite_plugin_free_space::MIN_DISTANCE_M);
+    let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2))
+        .sqrt()
+        .max(rfsite_plugin_free_space::MIN_DISTANCE_M);
     let fspl_db = rfsite_physics::fspl::fspl_db(site.services[service].freq_mhz, d);
     let mut walls: Vec<WallGroup> = groups
         .into_iter()
@@ -336,14 +425,22 @@ pub fn breakdown(site: &Site, scene: &Scene, service: usize, tx_id: &str, rx_flo
             let mat = site.materials.get(&m);
             WallGroup {
                 name: mat.map(|x| x.name.clone()).unwrap_or_else(|| m.clone()),
-                class: mat.map(|x| x.class).unwrap_or(MaterialClass::Other).label().to_string(),
+                class: mat
+                    .map(|x| x.class)
+                    .unwrap_or(MaterialClass::Other)
+                    .label()
+                    .to_string(),
                 material: m,
                 count,
                 loss_db,
             }
         })
         .collect();
-    walls.sort_by(|a, b| b.loss_db.total_cmp(&a.loss_db).then(a.material.cmp(&b.material)));
+    walls.sort_by(|a, b| {
+        b.loss_db
+            .total_cmp(&a.loss_db)
+            .then(a.material.cmp(&b.material))
+    });
     let wl: f64 = walls.iter().map(|w| w.loss_db).sum();
     Some(Breakdown {
         zone: site.floors[rx_floor].zone_kind_at(p).label().to_string(),
@@ -390,16 +487,32 @@ impl Plugin for MultiWall {
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let b = ctx.option_f64("floor_b", cost231::COST231_DEFAULT_B)?;
         if !(0.0..=2.0).contains(&b) {
-            return Err(PluginError::BadOption { key: "floor_b".into(), message: "must be between 0 and 2 (COST 231 fitted 0.46)".into() });
+            return Err(PluginError::BadOption {
+                key: "floor_b".into(),
+                message: "must be between 0 and 2 (COST 231 fitted 0.46)".into(),
+            });
         }
         let cap = ctx.option_f64("max_crossing_loss_db", 60.0)?;
         if cap <= 0.0 {
-            return Err(PluginError::BadOption { key: "max_crossing_loss_db".into(), message: "must be positive".into() });
+            return Err(PluginError::BadOption {
+                key: "max_crossing_loss_db".into(),
+                message: "must be positive".into(),
+            });
         }
         let site = ctx.site;
         let scene = Scene::new(site, b, cap);
         let layers = predict_grid(site, self.id(), &scene);
-        let mut out = PluginOutput { warnings: scene.notes.iter().map(|n| Warning { plugin: self.id().into(), message: n.clone() }).collect(), ..Default::default() };
+        let mut out = PluginOutput {
+            warnings: scene
+                .notes
+                .iter()
+                .map(|n| Warning {
+                    plugin: self.id().into(),
+                    message: n.clone(),
+                })
+                .collect(),
+            ..Default::default()
+        };
         out.warnings.push(Warning {
             plugin: self.id().into(),
             message: format!("a single crossing is capped at {cap:.0} dB: leakage and diffraction around real walls bound what one crossing costs (common practice)"),
@@ -407,7 +520,12 @@ impl Plugin for MultiWall {
         // Worst point of every layer in each graded zone kind, explained.
         let mut bds = Vec::new();
         for l in &layers {
-            let (Some(si), Some(fi)) = (site.services.iter().position(|s| s.id == l.service), site.floor_index(&l.floor)) else { continue };
+            let (Some(si), Some(fi)) = (
+                site.services.iter().position(|s| s.id == l.service),
+                site.floor_index(&l.floor),
+            ) else {
+                continue;
+            };
             let g = l.grid.to_grid();
             let floor = &site.floors[fi];
             for kind in [ZoneKind::General, ZoneKind::Critical] {
@@ -418,22 +536,29 @@ impl Plugin for MultiWall {
                     .filter(|(i, v)| v.is_finite() && floor.zone_kind_at(g.point(*i)) == kind)
                     .min_by(|a, b| a.1.total_cmp(b.1).then(a.0.cmp(&b.0)));
                 let Some((i, v)) = worst else { continue };
-                let server = l.best_server.get(i).and_then(|&s| l.servers.get(s as usize));
+                let server = l
+                    .best_server
+                    .get(i)
+                    .and_then(|&s| l.servers.get(s as usize));
                 if let Some(server) = server {
-                    if let Some(mut bd) = breakdown(site, &scene, si, server, fi, g.point(i), *v as f64) {
+                    if let Some(mut bd) =
+                        breakdown(site, &scene, si, server, fi, g.point(i), *v as f64)
+                    {
                         bd.zone = kind.label().to_string();
                         bds.push(bd);
                     }
                 }
             }
         }
-        out.extra.insert("worst_points".into(), serde_json::to_value(&bds).map_err(|e| PluginError::Failed(e.to_string()))?);
+        out.extra.insert(
+            "worst_points".into(),
+            serde_json::to_value(&bds).map_err(|e| PluginError::Failed(e.to_string()))?,
+        );
         let _ = scene.max_crossing_db;
         out.layers = layers;
         Ok(out)
     }
 }
-
 
 /// Whole-grid multi-wall prediction: per transmitter, every wall's shadow over the grid adds
 /// its loss through per-row difference arrays (rfsite-geometry `shadow`), so a floor costs
@@ -450,26 +575,47 @@ pub fn predict_grid(site: &Site, model: &str, scene: &Scene) -> Vec<CoverageLaye
             .filter(|t| t.service == svc.id)
             .filter_map(|t| {
                 let fi = site.floor_index(&t.floor)?;
-                Some((t, fi, P3 { p: t.position, z: site.floors[fi].elevation_m + t.height_m }))
+                Some((
+                    t,
+                    fi,
+                    P3 {
+                        p: t.position,
+                        z: site.floors[fi].elevation_m + t.height_m,
+                    },
+                ))
             })
             .collect();
         // Per floor: constant losses and the angle-dependent mask for this service.
         let consts: Vec<Vec<f32>> = scene.wall_loss[si]
             .iter()
-            .map(|ls| ls.iter().map(|l| if let LossFn::Const(v) = l { *v } else { 0.0 }).collect())
+            .map(|ls| {
+                ls.iter()
+                    .map(|l| if let LossFn::Const(v) = l { *v } else { 0.0 })
+                    .collect()
+            })
             .collect();
-        let masks: Vec<Vec<bool>> = scene.wall_loss[si].iter().map(|ls| ls.iter().map(|l| matches!(l, LossFn::Angle(_))).collect()).collect();
+        let masks: Vec<Vec<bool>> = scene.wall_loss[si]
+            .iter()
+            .map(|ls| ls.iter().map(|l| matches!(l, LossFn::Angle(_))).collect())
+            .collect();
         for (fi, floor) in site.floors.iter().enumerate() {
             let grid = floor_grid(site, fi);
             let n = grid.len();
             let rz = floor.elevation_m + site.prediction.receiver_height_m;
-            let inside: Vec<bool> = (0..n).into_par_iter().map(|i| rfsite_geometry::point_in_polygon(grid.point(i), &floor.outline)).collect();
+            let inside: Vec<bool> = (0..n)
+                .into_par_iter()
+                .map(|i| rfsite_geometry::point_in_polygon(grid.point(i), &floor.outline))
+                .collect();
             // Levels without wall losses (an upper bound: walls only take away).
             let base = |t: &rfsite_model::Transmitter, tfi: usize, t3: P3, i: usize| -> f64 {
                 let p = grid.point(i);
                 let rx = P3 { p, z: rz };
-                let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2)).sqrt().max(MIN_DISTANCE_M);
-                t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx) - fspl::fspl_db(svc.freq_mhz, d) - scene.floor_db(si, t3, tfi, rx, fi).1
+                let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2))
+                    .sqrt()
+                    .max(MIN_DISTANCE_M);
+                t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
+                    - fspl::fspl_db(svc.freq_mhz, d)
+                    - scene.floor_db(si, t3, tfi, rx, fi).1
             };
             // Same-floor transmitters: whole-grid shadows (exact, rfsite-geometry tests).
             let same: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 == fi).collect();
@@ -483,9 +629,32 @@ pub fn predict_grid(site: &Site, model: &str, scene: &Scene) -> Vec<CoverageLaye
                         loss.iter_mut().for_each(|x| *x = 0.0);
                         let table = &scene.wall_loss[si][fi];
                         let f = |w: usize, c: f64| table[w].eval(c) as f32;
-                        let wl = WallLosses { constant_db: &consts[fi], by_angle: if masks[fi].iter().any(|m| *m) { Some((&masks[fi][..], &f)) } else { None } };
-                        accumulate_path_part(t3.p, &grid, scene.floors[fi].index.walls(), &wl, (0.0, 1.0), loss, sc);
-                        let lv = (0..n).map(|i| if inside[i] { (base(t, tfi, t3, i) - loss[i] as f64) as f32 } else { f32::NAN }).collect();
+                        let wl = WallLosses {
+                            constant_db: &consts[fi],
+                            by_angle: if masks[fi].iter().any(|m| *m) {
+                                Some((&masks[fi][..], &f))
+                            } else {
+                                None
+                            },
+                        };
+                        accumulate_path_part(
+                            t3.p,
+                            &grid,
+                            scene.floors[fi].index.walls(),
+                            &wl,
+                            (0.0, 1.0),
+                            loss,
+                            sc,
+                        );
+                        let lv = (0..n)
+                            .map(|i| {
+                                if inside[i] {
+                                    (base(t, tfi, t3, i) - loss[i] as f64) as f32
+                                } else {
+                                    f32::NAN
+                                }
+                            })
+                            .collect();
                         (k, lv)
                     },
                 )
@@ -519,7 +688,10 @@ pub fn predict_grid(site: &Site, model: &str, scene: &Scene) -> Vec<CoverageLaye
                                 if strongest && (ub as f32) <= best_so_far[i] {
                                     return f32::NEG_INFINITY;
                                 }
-                                let rx = P3 { p: grid.point(i), z: rz };
+                                let rx = P3 {
+                                    p: grid.point(i),
+                                    z: rz,
+                                };
                                 let walls = scene.walls_db(sc, si, t3, tfi, rx, fi);
                                 (ub - walls) as f32
                             })

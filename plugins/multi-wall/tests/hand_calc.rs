@@ -57,7 +57,12 @@ pattern = "isotropic"
 
 #[test]
 fn same_floor_path_adds_each_crossed_wall() {
-    let site = load(&SourceFile::new("mw.toml", SITE), &MaterialLibrary::builtin()).site.expect("valid");
+    let site = load(
+        &SourceFile::new("mw.toml", SITE),
+        &MaterialLibrary::builtin(),
+    )
+    .site
+    .expect("valid");
     let scene = Scene::new(&site, 0.46, 60.0);
     let layers = predict(&site, "multi-wall", &scene);
     let l0 = layers.iter().find(|l| l.floor == "L0").unwrap();
@@ -67,7 +72,11 @@ fn same_floor_path_adds_each_crossed_wall() {
     let i = 5 * l0.grid.nx + 7;
     let d = (5.5f64 * 5.5 + 0.5 * 0.5).sqrt();
     let expected = 20.0 - fspl(900.0, d) - 4.0 - 23.27;
-    assert!((l0.level_dbm[i] as f64 - expected).abs() < 1e-3, "{} vs {expected}", l0.level_dbm[i]);
+    assert!(
+        (l0.level_dbm[i] as f64 - expected).abs() < 1e-3,
+        "{} vs {expected}",
+        l0.level_dbm[i]
+    );
     // (3.5, 5.5) is on the transmitter's side of both walls: free space only.
     let j = 5 * l0.grid.nx + 3;
     let d = (1.5f64 * 1.5 + 0.5 * 0.5).sqrt();
@@ -76,7 +85,12 @@ fn same_floor_path_adds_each_crossed_wall() {
 
 #[test]
 fn inter_floor_path_adds_the_cost231_floor_term() {
-    let site = load(&SourceFile::new("mw.toml", SITE), &MaterialLibrary::builtin()).site.expect("valid");
+    let site = load(
+        &SourceFile::new("mw.toml", SITE),
+        &MaterialLibrary::builtin(),
+    )
+    .site
+    .expect("valid");
     let scene = Scene::new(&site, 0.46, 60.0);
     let layers = predict(&site, "multi-wall", &scene);
     let l1 = layers.iter().find(|l| l.floor == "L1").unwrap();
@@ -87,16 +101,29 @@ fn inter_floor_path_adds_the_cost231_floor_term() {
     let i = 5 * l1.grid.nx + 2;
     let d = (0.5f64 * 0.5 + 0.5 * 0.5 + 3.0 * 3.0).sqrt();
     let expected = 20.0 - fspl(900.0, d) - lf;
-    assert!((l1.level_dbm[i] as f64 - expected).abs() < 1e-3, "{} vs {expected}", l1.level_dbm[i]);
+    assert!(
+        (l1.level_dbm[i] as f64 - expected).abs() < 1e-3,
+        "{} vs {expected}",
+        l1.level_dbm[i]
+    );
 }
 
 #[test]
 fn whole_grid_prediction_equals_per_ray_prediction() {
     // The shadow method (rfsite-geometry::shadow) must give the per-ray result (the
     // reference) at every point, on the hand plan and on the demo clinic.
-    let demo = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../../examples/kestrel-quay-clinic/site.toml")).unwrap();
+    let demo = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../examples/kestrel-quay-clinic/site.toml"
+    ))
+    .unwrap();
     for text in [SITE.to_string(), demo] {
-        let site = load(&SourceFile::new("x.toml", &text), &MaterialLibrary::builtin()).site.expect("valid");
+        let site = load(
+            &SourceFile::new("x.toml", &text),
+            &MaterialLibrary::builtin(),
+        )
+        .site
+        .expect("valid");
         let scene = Scene::new(&site, 0.46, 60.0);
         let a = predict(&site, "multi-wall", &scene);
         let b = rfsite_plugin_multi_wall::predict_grid(&site, "multi-wall", &scene);
@@ -108,7 +135,10 @@ fn whole_grid_prediction_equals_per_ray_prediction() {
                 assert_eq!(p.is_nan(), q.is_nan());
                 if p.is_finite() {
                     if (p - q).abs() as f64 > 1e-3 && worst <= 1e-3 {
-                        eprintln!("first mismatch: floor {} service {} {} vs {}", x.floor, x.service, p, q);
+                        eprintln!(
+                            "first mismatch: floor {} service {} {} vs {}",
+                            x.floor, x.service, p, q
+                        );
                     }
                     worst = worst.max((p - q).abs() as f64);
                 }
