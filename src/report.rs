@@ -171,6 +171,7 @@ pub fn run_site(
         &assessment,
         &settings.template,
         &loaded.surveys.points,
+        &loaded.plan_images,
     )
     .map_err(|e| SiteError::Failed(e.to_string()))?;
     let findings = findings_json(&assessment);

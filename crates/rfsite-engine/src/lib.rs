@@ -74,6 +74,8 @@ pub struct LoadedSite {
     pub warnings: Diagnostics,
     /// Survey data read.
     pub surveys: SurveyData,
+    /// Background plan images by floor id (PNG or JPEG bytes).
+    pub plan_images: BTreeMap<String, Vec<u8>>,
 }
 
 /// Reads and validates the site in `world`. Errors come back all at once.
@@ -92,10 +94,32 @@ pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, 
     }
     let mut warnings = loaded.diagnostics;
     warnings.items.append(&mut survey_diags.items);
+    let mut plan_images = BTreeMap::new();
+    let mut bad = Diagnostics::default();
+    for f in &site.floors {
+        if let Some(img) = &f.plan_image {
+            match world.read_bytes(img) {
+                Ok(b) => {
+                    plan_images.insert(f.id.clone(), b);
+                }
+                Err(e) => bad.push(rfsite_model::Diagnostic::whole_file(
+                    rfsite_model::Severity::Error,
+                    &world.display_site_path(),
+                    format!("floor `{}`: plan image cannot be read: {e}", f.id),
+                    Some("`plan_image` is a PNG or JPEG path relative to the site folder".into()),
+                )),
+            }
+        }
+    }
+    if bad.has_errors() {
+        warnings.items.append(&mut bad.items);
+        return Err(EngineError::BadInput(warnings));
+    }
     Ok(LoadedSite {
         site,
         warnings,
         surveys,
+        plan_images,
     })
 }
 

@@ -129,6 +129,10 @@ pub struct RawFloor {
     pub slab_thickness: Option<S<f64>>,
     pub outline: Option<S<Vec<S<RawPoint>>>>,
     pub plan_image: Option<S<String>>,
+    /// Site units per image pixel.
+    pub plan_scale: Option<S<f64>>,
+    /// Site coordinates of the image's lower-left corner.
+    pub plan_offset: Option<S<RawPoint>>,
 }
 
 /// `[[walls]]`

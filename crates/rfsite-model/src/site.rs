@@ -213,6 +213,11 @@ pub struct Floor {
     pub zones: Vec<Zone>,
     /// Background plan image (path relative to the site folder), if any.
     pub plan_image: Option<String>,
+    /// Metres per image pixel.
+    pub plan_m_per_px: f64,
+    /// Plan position of the image's lower-left corner, m.
+    #[serde(serialize_with = "ser_point")]
+    pub plan_offset: Point2,
 }
 
 impl Floor {

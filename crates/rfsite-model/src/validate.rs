@@ -743,6 +743,14 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 Vec::new()
             }
         };
+        let plan_m_per_px = f
+            .plan_scale
+            .as_ref()
+            .and_then(|s| v.length(s, "plan_scale", false));
+        let plan_offset = f.plan_offset.as_ref().and_then(|p| v.point(p));
+        if f.plan_image.is_some() && f.plan_scale.is_none() {
+            v.error(span.clone(), format!("{what} names a `plan_image` but no `plan_scale`"), Some("add `plan_scale` (site units per image pixel) and `plan_offset = [x, y]` (the image's lower-left corner)".into()));
+        }
         floors.push(Floor {
             id: idv.get_ref().clone(),
             name: f
@@ -758,6 +766,8 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             parts: Vec::new(),
             zones: Vec::new(),
             plan_image: f.plan_image.as_ref().map(|p| p.get_ref().clone()),
+            plan_m_per_px: plan_m_per_px.unwrap_or(0.05),
+            plan_offset: plan_offset.unwrap_or_default(),
         });
     }
     let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();

@@ -102,6 +102,7 @@ pub fn coverage_map(
     layer: &CoverageLayer,
     threshold_dbm: f64,
     measured: &[&Measurement],
+    plan: Option<&[u8]>,
 ) -> DrawResult<String> {
     let floor = site.floor(&layer.floor).ok_or("floor not found")?;
     let u = site.units;
@@ -115,6 +116,7 @@ pub fn coverage_map(
     let legend_w = 190u32;
     let (w, h) = (plot_w as u32 + 70 + legend_w, plot_h as u32 + 70);
     let mut svg = String::new();
+    let mut plan_svg: Option<String> = None;
     {
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
@@ -135,6 +137,19 @@ pub fn coverage_map(
             .axis_desc_style((CHART_FONT, 15))
             .draw()
             .map_err(e)?;
+        // Background plan image: its pixel rectangle on the chart.
+        if let (Some(bytes), Some(floor_ref)) = (plan, Some(floor)) {
+            if let Some((wpx, hpx, mime)) = image_size(bytes) {
+                let s = floor_ref.plan_m_per_px;
+                let (ox, oy) = (floor_ref.plan_offset.x, floor_ref.plan_offset.y);
+                let tl = chart.backend_coord(&(u.from_m(ox), u.from_m(oy + hpx as f64 * s)));
+                let br = chart.backend_coord(&(u.from_m(ox + wpx as f64 * s), u.from_m(oy)));
+                plan_svg = Some(format!(
+                    "<image x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" preserveAspectRatio=\"none\" href=\"data:{mime};base64,{}\"/>",
+                    tl.0, tl.1, br.0 - tl.0, br.1 - tl.1, base64(bytes)
+                ));
+            }
+        }
         // Cells, run-length merged along rows.
         let step = u.from_m(g.step_m);
         let mut rects = Vec::new();
@@ -160,7 +175,11 @@ pub fn coverage_map(
                 let ya = u.from_m(g.origin.y) + iy as f64 * step;
                 rects.push(Rectangle::new(
                     [(xa, ya), (xb, ya + step)],
-                    rgb(BINS[b].rgb).filled(),
+                    if plan.is_some() {
+                        rgb(BINS[b].rgb).mix(0.6).filled()
+                    } else {
+                        rgb(BINS[b].rgb).filled()
+                    },
                 ));
             }
         }
@@ -519,6 +538,14 @@ pub fn coverage_map(
         }
         root.present().map_err(e)?;
     }
+    if let Some(img) = plan_svg {
+        // Right after the white background, under everything else.
+        if let Some(r) = svg.find("<rect") {
+            if let Some(end) = svg[r..].find("/>") {
+                svg.insert_str(r + end + 2, &img);
+            }
+        }
+    }
     Ok(svg)
 }
 
@@ -600,4 +627,74 @@ pub fn figure(f: &Figure) -> DrawResult<String> {
         root.present().map_err(e)?;
     }
     Ok(svg)
+}
+
+/// Pixel size and MIME type of a PNG or JPEG.
+pub fn image_size(b: &[u8]) -> Option<(u32, u32, &'static str)> {
+    if b.len() > 24 && b.starts_with(&[0x89, b'P', b'N', b'G']) {
+        let w = u32::from_be_bytes([b[16], b[17], b[18], b[19]]);
+        let h = u32::from_be_bytes([b[20], b[21], b[22], b[23]]);
+        return Some((w, h, "image/png"));
+    }
+    if b.len() > 4 && b[0] == 0xFF && b[1] == 0xD8 {
+        let mut i = 2;
+        while i + 9 < b.len() {
+            if b[i] != 0xFF {
+                return None;
+            }
+            let marker = b[i + 1];
+            let len = u16::from_be_bytes([b[i + 2], b[i + 3]]) as usize;
+            if (0xC0..=0xCF).contains(&marker) && marker != 0xC4 && marker != 0xC8 && marker != 0xCC
+            {
+                let h = u16::from_be_bytes([b[i + 5], b[i + 6]]) as u32;
+                let w = u16::from_be_bytes([b[i + 7], b[i + 8]]) as u32;
+                return Some((w, h, "image/jpeg"));
+            }
+            i += 2 + len;
+        }
+    }
+    None
+}
+
+/// Standard base64 (RFC 4648) with padding.
+pub fn base64(data: &[u8]) -> String {
+    const T: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
+    let mut out = String::with_capacity(data.len().div_ceil(3) * 4);
+    for c in data.chunks(3) {
+        let n = (c[0] as u32) << 16
+            | (*c.get(1).unwrap_or(&0) as u32) << 8
+            | *c.get(2).unwrap_or(&0) as u32;
+        out.push(T[(n >> 18) as usize & 63] as char);
+        out.push(T[(n >> 12) as usize & 63] as char);
+        out.push(if c.len() > 1 {
+            T[(n >> 6) as usize & 63] as char
+        } else {
+            '='
+        });
+        out.push(if c.len() > 2 {
+            T[n as usize & 63] as char
+        } else {
+            '='
+        });
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    #[test]
+    fn base64_matches_rfc4648_vectors() {
+        // RFC 4648 section 10 test vectors.
+        for (i, o) in [
+            ("", ""),
+            ("f", "Zg=="),
+            ("fo", "Zm8="),
+            ("foo", "Zm9v"),
+            ("foob", "Zm9vYg=="),
+            ("fooba", "Zm9vYmE="),
+            ("foobar", "Zm9vYmFy"),
+        ] {
+            assert_eq!(super::base64(i.as_bytes()), o);
+        }
+    }
 }

@@ -197,6 +197,7 @@ pub fn figures(
     site: &Site,
     a: &Assessment,
     measured: &[Measurement],
+    plans: &BTreeMap<String, Vec<u8>>,
 ) -> Result<BTreeMap<String, String>, ReportError> {
     let mut out = BTreeMap::new();
     for s in &a.services {
@@ -212,8 +213,14 @@ pub fn figures(
                 .iter()
                 .filter(|m| m.floor == l.floor && m.service == l.service)
                 .collect();
-            let svg = charts::coverage_map(site, l, svc.threshold_dbm + svc.design_margin_db, &pts)
-                .map_err(ReportError)?;
+            let svg = charts::coverage_map(
+                site,
+                l,
+                svc.threshold_dbm + svc.design_margin_db,
+                &pts,
+                plans.get(&l.floor).map(|v| v.as_slice()),
+            )
+            .map_err(ReportError)?;
             out.insert(figure_name(&l.floor, &l.service), svg);
         }
     }
@@ -513,8 +520,9 @@ pub fn render(
     a: &Assessment,
     template: &Template,
     measured: &[Measurement],
+    plans: &BTreeMap<String, Vec<u8>>,
 ) -> Result<Rendered, ReportError> {
-    let figs = figures(site, a, measured)?;
+    let figs = figures(site, a, measured, plans)?;
     let vm = view_model(site, a, template, &figs)?;
     let data = serde_json::to_vec(&vm).map_err(|e| ReportError(e.to_string()))?;
     let mut fig_dict = Dict::new();
