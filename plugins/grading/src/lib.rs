@@ -937,6 +937,8 @@ mod tests {
             parts: vec![],
             zones,
             plan_image: None,
+            plan_m_per_px: 0.05,
+            plan_offset: Default::default(),
         }
     }
 
