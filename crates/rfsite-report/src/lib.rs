@@ -199,7 +199,9 @@ pub fn figures(
     measured: &[Measurement],
     plans: &BTreeMap<String, Vec<u8>>,
 ) -> Result<BTreeMap<String, String>, ReportError> {
-    let mut out = BTreeMap::new();
+    use rayon::prelude::*;
+    // Each chart is independent: draw them in parallel, collect into a sorted map.
+    let mut jobs: Vec<(&rfsite_plugin::CoverageLayer, f64)> = Vec::new();
     for s in &a.services {
         let Some(svc) = site.service(&s.id) else {
             continue;
@@ -209,6 +211,12 @@ pub fn figures(
             .iter()
             .filter(|l| l.service == s.id && l.model == s.model)
         {
+            jobs.push((l, svc.threshold_dbm + svc.design_margin_db));
+        }
+    }
+    let maps: Vec<Result<(String, String), ReportError>> = jobs
+        .par_iter()
+        .map(|(l, required)| {
             let pts: Vec<&Measurement> = measured
                 .iter()
                 .filter(|m| m.floor == l.floor && m.service == l.service)
@@ -216,17 +224,29 @@ pub fn figures(
             let svg = charts::coverage_map(
                 site,
                 l,
-                svc.threshold_dbm + svc.design_margin_db,
+                *required,
                 &pts,
                 plans.get(&l.floor).map(|v| v.as_slice()),
             )
             .map_err(ReportError)?;
-            out.insert(figure_name(&l.floor, &l.service), svg);
-        }
-    }
-    for f in a.figures.iter().filter(|f| f.kind != "grading-map") {
-        let svg = charts::figure(f).map_err(ReportError)?;
-        out.insert(format!("{}.svg", f.id), svg);
+            Ok((figure_name(&l.floor, &l.service), svg))
+        })
+        .collect();
+    let others: Vec<Result<(String, String), ReportError>> = a
+        .figures
+        .par_iter()
+        .filter(|f| f.kind != "grading-map")
+        .map(|f| {
+            Ok((
+                format!("{}.svg", f.id),
+                charts::figure(f).map_err(ReportError)?,
+            ))
+        })
+        .collect();
+    let mut out = BTreeMap::new();
+    for r in maps.into_iter().chain(others) {
+        let (k, v) = r?;
+        out.insert(k, v);
     }
     out.extend(grading_map::grading_maps(site, a).map_err(ReportError)?);
     Ok(out)
@@ -522,7 +542,12 @@ pub fn render(
     measured: &[Measurement],
     plans: &BTreeMap<String, Vec<u8>>,
 ) -> Result<Rendered, ReportError> {
+    let timing = std::env::var_os("RFSITE_TIMING").is_some();
+    let t0 = std::time::Instant::now();
     let figs = figures(site, a, measured, plans)?;
+    if timing {
+        eprintln!("timing: charts {:.3} s", t0.elapsed().as_secs_f64());
+    }
     let vm = view_model(site, a, template, &figs)?;
     let data = serde_json::to_vec(&vm).map_err(|e| ReportError(e.to_string()))?;
     let mut fig_dict = Dict::new();
@@ -552,7 +577,11 @@ pub fn render(
                 .include_embedded_fonts(true),
         )
         .build();
+    let t1 = std::time::Instant::now();
     let compiled = engine.compile_with_input::<_, typst_layout::PagedDocument>(inputs);
+    if timing {
+        eprintln!("timing: typst layout {:.3} s", t1.elapsed().as_secs_f64());
+    }
     let doc = compiled
         .output
         .map_err(|e| ReportError(format!("typesetting failed: {e:?}")))?;
@@ -566,8 +595,12 @@ pub fn render(
             .map(typst_pdf::Timestamp::new_utc),
         ..Default::default()
     };
+    let t2 = std::time::Instant::now();
     let pdf = typst_pdf::pdf(&doc, &opts)
         .map_err(|e| ReportError(format!("PDF export failed: {e:?}")))?;
+    if timing {
+        eprintln!("timing: pdf export {:.3} s", t2.elapsed().as_secs_f64());
+    }
     Ok(Rendered { pdf, figures: figs })
 }
 
