@@ -30,7 +30,7 @@ use rfsite_geometry::Point2;
 use rfsite_model::Site;
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
-use rfsite_plugin_free_space::{predict, PathLoss, P3};
+use rfsite_plugin_free_space::{PathLoss, P3};
 use rfsite_plugin_multi_wall::Scene;
 use rfsite_plugin_survey_compare::Interp;
 use serde::Serialize;
@@ -599,12 +599,13 @@ impl Plugin for Calibration {
                     }
                 }
             }
-            out.layers = predict(
+            out.layers = rfsite_plugin_multi_wall::predict_grid_adjusted(
                 site,
                 "calibrated",
-                &Calibrated {
-                    scene: &scene,
-                    terms: st,
+                &scene,
+                &|si, d| {
+                    let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
+                    -o + dn * 10.0 * d.log10()
                 },
             );
             out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters".into() });

@@ -567,6 +567,17 @@ impl Plugin for MultiWall {
 /// transmitters are evaluated in parallel and combined in a fixed order, so the result is
 /// deterministic.
 pub fn predict_grid(site: &Site, model: &str, scene: &Scene) -> Vec<CoverageLayer> {
+    predict_grid_adjusted(site, model, scene, &|_, _| 0.0)
+}
+
+/// As [`predict_grid`], with an extra loss `adjust(service, distance_m)` in dB on every path
+/// (a calibrated offset and distance term, say).
+pub fn predict_grid_adjusted(
+    site: &Site,
+    model: &str,
+    scene: &Scene,
+    adjust: &(dyn Fn(usize, f64) -> f64 + Sync),
+) -> Vec<CoverageLayer> {
     let mut layers = Vec::new();
     for (si, svc) in site.services.iter().enumerate() {
         let txs: Vec<(&rfsite_model::Transmitter, usize, P3)> = site
@@ -616,6 +627,7 @@ pub fn predict_grid(site: &Site, model: &str, scene: &Scene) -> Vec<CoverageLaye
                 t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
                     - fspl::fspl_db(svc.freq_mhz, d)
                     - scene.floor_db(si, t3, tfi, rx, fi).1
+                    - adjust(si, d)
             };
             // Same-floor transmitters: whole-grid shadows (exact, rfsite-geometry tests).
             let same: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 == fi).collect();
