@@ -22,6 +22,12 @@ use serde::Serialize;
 
 const ANGLE_SAMPLES: usize = 32;
 
+/// How far past a slab cut a storey's part of a path is traced (fraction of the path).
+const CUT_PAD: f64 = 1e-6;
+
+/// Tolerance on the path parameter when deciding which part a crossing belongs to.
+const CUT_TOL: f64 = 1e-9;
+
 /// Loss of one crossing as a function of |cos(incidence)|.
 #[derive(Debug, Clone)]
 enum LossFn {
@@ -209,10 +215,20 @@ impl Scene {
                     tx.p.y + t * (rx.p.y - tx.p.y),
                 )
             };
+            // Trace a little beyond both cuts and keep the crossings in [t0, t1): a wall
+            // lying exactly where the path passes a slab then counts once (in the upper
+            // part), not zero times (path endpoints never count as crossings).
+            let (a0, a1) = ((t0 - CUT_PAD).max(0.0), (t1 + CUT_PAD).min(1.0));
             out.clear();
-            fs.index.crossings_with(sc, at(t0), at(t1), out);
+            fs.index.crossings_with(sc, at(a0), at(a1), out);
             for c in out.iter() {
-                f(k, c);
+                let t = a0 + c.t * (a1 - a0);
+                // Half-open [t0, t1) with one tolerance, so a crossing on a cut lands in
+                // exactly one part (the one that starts there), as in rfsite-geometry's
+                // shadow path parts.
+                if t >= t0 - CUT_TOL && t < t1 - CUT_TOL {
+                    f(k, c);
+                }
             }
         }
     }

@@ -147,3 +147,105 @@ fn whole_grid_prediction_equals_per_ray_prediction() {
         assert!(worst < 1e-3, "largest difference {worst} dB");
     }
 }
+
+#[test]
+#[allow(clippy::needless_range_loop)]
+fn inter_floor_walls_agree_with_the_shadow_cut_paths() {
+    // Per-storey ray tracing against rfsite-geometry's whole-grid shadows of each storey's
+    // part of the path (exact against brute force, property-tested there), on the demo clinic,
+    // whose 0.25 m lattice puts walls exactly on slab cuts at many points.
+    use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
+    use rfsite_physics::p2040::Polarization;
+    let demo = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../examples/kestrel-quay-clinic/site.toml"
+    ))
+    .unwrap();
+    let site = load(
+        &SourceFile::new("x.toml", &demo),
+        &MaterialLibrary::builtin(),
+    )
+    .site
+    .expect("valid");
+    let scene = Scene::new(&site, 0.46, 60.0);
+    let mut scratch = rfsite_plugin_free_space::PathLoss::scratch(&scene);
+    let mut sc = ShadowScratch::default();
+    let mut compared = 0;
+    for (si, svc) in site.services.iter().enumerate() {
+        let losses: Vec<Vec<f32>> = site
+            .floors
+            .iter()
+            .map(|f| {
+                f.parts
+                    .iter()
+                    .map(|p| {
+                        site.materials
+                            .get(&p.material)
+                            .unwrap()
+                            .crossing_loss(svc.freq_mhz, p.thickness_m, 1.0, Polarization::Te)
+                            .loss_db
+                            .min(60.0) as f32
+                    })
+                    .collect()
+            })
+            .collect();
+        for t in site.transmitters.iter().filter(|t| t.service == svc.id) {
+            let tfi = site.floor_index(&t.floor).unwrap();
+            let tz = site.floors[tfi].elevation_m + t.height_m;
+            for fi in 0..site.floors.len() {
+                if fi == tfi {
+                    continue;
+                }
+                let grid = rfsite_plugin_free_space::floor_grid(&site, fi);
+                let rz = site.floors[fi].elevation_m + site.prediction.receiver_height_m;
+                let mut shadow = vec![0f32; grid.len()];
+                let (lo, hi) = (tfi.min(fi), tfi.max(fi));
+                for k in lo..=hi {
+                    let f = &site.floors[k];
+                    let top = if k + 1 < site.floors.len() {
+                        site.floors[k + 1].elevation_m
+                    } else {
+                        f.elevation_m + f.height_m
+                    };
+                    let (a, b) = ((f.elevation_m - tz) / (rz - tz), (top - tz) / (rz - tz));
+                    let (t0, t1) = (a.min(b).max(0.0), a.max(b).min(1.0));
+                    if t1 <= t0 {
+                        continue;
+                    }
+                    let walls: Vec<_> = f.parts.iter().map(|p| p.segment).collect();
+                    let wl = WallLosses {
+                        constant_db: &losses[k],
+                        by_angle: None,
+                    };
+                    accumulate_path_part(
+                        t.position,
+                        &grid,
+                        &walls,
+                        &wl,
+                        (t0, t1),
+                        &mut shadow,
+                        &mut sc,
+                    );
+                }
+                for (i, s) in shadow.iter().enumerate() {
+                    let p = grid.point(i);
+                    let tx = rfsite_plugin_free_space::P3 {
+                        p: t.position,
+                        z: tz,
+                    };
+                    let rx = rfsite_plugin_free_space::P3 { p, z: rz };
+                    let ray = scene.walls_db(&mut scratch, si, tx, tfi, rx, fi);
+                    assert!(
+                        (ray - *s as f64).abs() < 1e-3,
+                        "{} -> {:?} on {}: ray {ray} vs shadow {s}",
+                        t.id,
+                        p,
+                        site.floors[fi].id
+                    );
+                    compared += 1;
+                }
+            }
+        }
+    }
+    assert!(compared > 10_000);
+}
