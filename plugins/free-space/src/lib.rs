@@ -58,9 +58,7 @@ impl PathLoss for NoExtra {
 
 /// The grid of a floor: covering its outline's bounding box at the site's step.
 pub fn floor_grid(site: &Site, floor: usize) -> Grid {
-    let f = &site.floors[floor];
-    let (min, max) = rfsite_geometry::polygon_bbox(&f.outline);
-    Grid::covering(min, max, site.prediction.grid_step_m)
+    site.floor_grid(floor)
 }
 
 /// Antenna gain towards a point, dBi.

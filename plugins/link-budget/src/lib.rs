@@ -135,7 +135,7 @@ impl Plugin for LinkBudgetPlugin {
         for svc in &site.services {
             let thr = svc.threshold_dbm + svc.design_margin_db;
             let mut floors = Vec::new();
-            for floor in &site.floors {
+            for (fi, floor) in site.floors.iter().enumerate() {
                 let layer = layers
                     .iter()
                     .find(|l| l.floor == floor.id && l.service == svc.id);
@@ -155,7 +155,7 @@ impl Plugin for LinkBudgetPlugin {
                     }
                 } else {
                     // No transmitter for the service: nothing reaches the floor.
-                    let g = rfsite_plugin_grid(site, floor);
+                    let g = site.floor_grid(fi);
                     for p in g.points() {
                         if rfsite_geometry::point_in_polygon(p, &floor.outline) {
                             match floor.zone_kind_at(p) {
@@ -407,11 +407,6 @@ impl Plugin for LinkBudgetPlugin {
         }
         Ok(out)
     }
-}
-
-fn rfsite_plugin_grid(site: &Site, floor: &rfsite_model::Floor) -> rfsite_geometry::Grid {
-    let (min, max) = rfsite_geometry::polygon_bbox(&floor.outline);
-    rfsite_geometry::Grid::covering(min, max, site.prediction.grid_step_m)
 }
 
 /// The safety and compliance cautions for a site.

@@ -351,12 +351,8 @@ impl PathLoss for Scene {
         rx: P3,
         rx_floor: usize,
     ) -> f64 {
-        let mut walls = 0.0;
-        let table = &self.wall_loss[service];
-        self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
-            walls += table[k][c.wall].eval(c.cos_incidence);
-        });
-        walls + self.floor_db(service, tx, tx_floor, rx, rx_floor).1
+        self.walls_db(scratch, service, tx, tx_floor, rx, rx_floor)
+            + self.floor_db(service, tx, tx_floor, rx, rx_floor).1
     }
 }
 
@@ -570,7 +566,6 @@ impl Plugin for MultiWall {
             "worst_points".into(),
             serde_json::to_value(&bds).map_err(|e| PluginError::Failed(e.to_string()))?,
         );
-        let _ = scene.max_crossing_db;
         out.layers = layers;
         Ok(out)
     }
