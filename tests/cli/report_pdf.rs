@@ -50,6 +50,31 @@ fn demo_report_has_the_sections_verdicts_and_audit_trail() {
             assert!(fl["pass"].is_boolean() && fl["id"].is_string());
         }
     }
+    // No critical or major coverage finding contradicts a floor the verdict passes.
+    for x in f["findings"].as_array().unwrap() {
+        let (Some(svc), Some(floor)) = (x["service"].as_str(), x["floor"].as_str()) else {
+            continue;
+        };
+        let sev = x["severity"].as_str().unwrap();
+        if !x["id"].as_str().unwrap().starts_with("coverage-")
+            || !(sev == "critical" || sev == "major")
+        {
+            continue;
+        }
+        let s = f["services"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|s| s["id"] == svc)
+            .unwrap();
+        let fl = s["floors"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|x| x["id"] == floor)
+            .unwrap();
+        assert_eq!(fl["pass"], false, "{} is {sev} on a passing floor", x["id"]);
+    }
     for x in f["findings"].as_array().unwrap() {
         assert!(["critical", "major", "minor", "info"].contains(&x["severity"].as_str().unwrap()));
         for k in ["id", "title", "detail", "plugin"] {

@@ -368,6 +368,7 @@ fn collect(
         rejected_rows: s.rejected.iter().take(50).cloned().collect(),
     };
     a.services.sort_by(|x, y| x.id.cmp(&y.id));
+    reconcile_with_verdicts(&mut a);
     a.findings
         .sort_by(|x, y| x.severity.cmp(&y.severity).then(x.id.cmp(&y.id)));
     // Life-safety services first, then the largest shortfall.
@@ -389,6 +390,30 @@ fn collect(
     inputs.dedup();
     a.inputs = inputs;
     a
+}
+
+/// The per-service results are the verdict of record (the last plugin to grade a service
+/// sets them). A critical or major coverage finding about a floor that this verdict passes
+/// would contradict the summary, so it is kept as a minor, local weakness and says why.
+fn reconcile_with_verdicts(a: &mut Assessment) {
+    for f in &mut a.findings {
+        if f.severity > Severity::Major || !f.id.starts_with("coverage-") {
+            continue;
+        }
+        let (Some(svc), Some(floor)) = (&f.service, &f.floor) else {
+            continue;
+        };
+        let Some(result) = a.services.iter().find(|s| &s.id == svc) else {
+            continue;
+        };
+        if result.floors.iter().any(|fr| &fr.id == floor && fr.pass) {
+            f.severity = Severity::Minor;
+            f.detail.push_str(&format!(
+                " The floor passes the acceptance test of record ({} model, graded by test cells), so this point-area shortfall is reported as a local weakness, not a failure.",
+                result.model
+            ));
+        }
+    }
 }
 
 /// The losses of every material the site uses at every service frequency, at normal
