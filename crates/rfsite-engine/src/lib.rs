@@ -367,17 +367,21 @@ fn collect(
         rows_per_file: s.rows_per_file.clone(),
         rejected_rows: s.rejected.iter().take(50).cloned().collect(),
     };
-    a.services.sort_by(|x, y| x.id.cmp(&y.id));
-    reconcile_with_verdicts(&mut a);
-    a.findings
-        .sort_by(|x, y| x.severity.cmp(&y.severity).then(x.id.cmp(&y.id)));
-    // Life-safety services first, then the largest shortfall.
-    let life = |r: &Remediation| {
-        r.service
-            .as_ref()
-            .and_then(|s| site.service(s))
+    // Life safety first everywhere: services, findings, remediation.
+    let life_id = |sid: Option<&String>| {
+        sid.and_then(|s| site.service(s))
             .is_some_and(|s| s.life_safety)
     };
+    a.services
+        .sort_by(|x, y| y.life_safety.cmp(&x.life_safety).then(x.id.cmp(&y.id)));
+    a.findings.sort_by(|x, y| {
+        life_id(y.service.as_ref())
+            .cmp(&life_id(x.service.as_ref()))
+            .then(x.severity.cmp(&y.severity))
+            .then(x.id.cmp(&y.id))
+    });
+    // Then the largest shortfall.
+    let life = |r: &Remediation| life_id(r.service.as_ref());
     a.remediation.sort_by(|x, y| {
         life(y)
             .cmp(&life(x))
@@ -390,30 +394,6 @@ fn collect(
     inputs.dedup();
     a.inputs = inputs;
     a
-}
-
-/// The per-service results are the verdict of record (the last plugin to grade a service
-/// sets them). A critical or major coverage finding about a floor that this verdict passes
-/// would contradict the summary, so it is kept as a minor, local weakness and says why.
-fn reconcile_with_verdicts(a: &mut Assessment) {
-    for f in &mut a.findings {
-        if f.severity > Severity::Major || !f.id.starts_with("coverage-") {
-            continue;
-        }
-        let (Some(svc), Some(floor)) = (&f.service, &f.floor) else {
-            continue;
-        };
-        let Some(result) = a.services.iter().find(|s| &s.id == svc) else {
-            continue;
-        };
-        if result.floors.iter().any(|fr| &fr.id == floor && fr.pass) {
-            f.severity = Severity::Minor;
-            f.detail.push_str(&format!(
-                " The floor passes the acceptance test of record ({} model, graded by test cells), so this point-area shortfall is reported as a local weakness, not a failure.",
-                result.model
-            ));
-        }
-    }
 }
 
 /// The losses of every material the site uses at every service frequency, at normal

@@ -182,6 +182,9 @@ pub struct RawService {
     pub design_margin_db: Option<S<f64>>,
     pub life_safety: Option<S<bool>>,
     pub rules: Option<S<String>>,
+    pub bandwidth_khz: Option<S<f64>>,
+    pub noise_figure_db: Option<S<f64>>,
+    pub receiver_floor_dbm: Option<S<f64>>,
 }
 
 /// `[[transmitters]]`

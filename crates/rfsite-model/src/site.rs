@@ -264,7 +264,29 @@ pub struct Service {
     pub life_safety: bool,
     /// Acceptance rule set id, if any.
     pub rules: Option<String>,
+    /// Receiver bandwidth the noise floor is taken over, kHz.
+    pub bandwidth_khz: f64,
+    /// Receiver noise figure, dB.
+    pub noise_figure_db: f64,
+    /// Levels below this are no service, dBm: the site's `receiver_floor_dbm`, else
+    /// thermal noise over `bandwidth_khz` plus `noise_figure_db`.
+    pub receiver_floor_dbm: f64,
 }
+
+/// Default receiver bandwidth of a service, kHz: a 12.5 kHz land-mobile channel for a
+/// life-safety service, else one 15 kHz LTE resource element, the bandwidth RSRP is
+/// defined over (3GPP TS 36.214, RSRP; the 12.5 kHz channel is from memory).
+pub fn default_bandwidth_khz(life_safety: bool) -> f64 {
+    if life_safety {
+        12.5
+    } else {
+        15.0
+    }
+}
+
+/// Default receiver noise figure, dB (from memory: a typical portable or handset
+/// receiver; set `noise_figure_db` from the equipment data sheet).
+pub const DEFAULT_NOISE_FIGURE_DB: f64 = 7.0;
 
 /// Antenna pattern of a transmitter.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]

@@ -1161,6 +1161,13 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 );
             }
         }
+        let life_safety = s
+            .life_safety
+            .as_ref()
+            .map(|d| *d.get_ref())
+            .unwrap_or(false);
+        let (bandwidth_khz, noise_figure_db, receiver_floor_dbm) =
+            receiver_floor(v, s, life_safety);
         services.push(Service {
             id: idv.get_ref().clone(),
             name: s
@@ -1178,12 +1185,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 .as_ref()
                 .map(|d| *d.get_ref())
                 .unwrap_or(0.0),
-            life_safety: s
-                .life_safety
-                .as_ref()
-                .map(|d| *d.get_ref())
-                .unwrap_or(false),
+            life_safety,
             rules: s.rules.as_ref().map(|r| r.get_ref().clone()),
+            bandwidth_khz,
+            noise_figure_db,
+            receiver_floor_dbm,
         });
     }
     let svc_names: Vec<String> = services.iter().map(|s| s.id.clone()).collect();
@@ -1667,4 +1673,50 @@ fn split_polyline(
         s0 = s1;
     }
     out
+}
+
+/// A service's receiver bandwidth, noise figure and noise floor (given, or thermal noise
+/// over the bandwidth plus the noise figure: `rfsite_physics::noise`).
+fn receiver_floor(v: &mut V<'_>, s: &RawService, life_safety: bool) -> (f64, f64, f64) {
+    let mut bw = default_bandwidth_khz(life_safety);
+    if let Some(b) = &s.bandwidth_khz {
+        let x = *b.get_ref();
+        if x.is_finite() && x > 0.0 && x <= 1e6 {
+            bw = x;
+        } else {
+            v.error(
+                b.span(),
+                format!("`bandwidth_khz` must lie between 0 and 1 000 000 kHz (got {x})"),
+                Some("the receiver bandwidth in kHz, e.g. `bandwidth_khz = 12.5` for a narrowband channel".into()),
+            );
+        }
+    }
+    let mut nf = DEFAULT_NOISE_FIGURE_DB;
+    if let Some(n) = &s.noise_figure_db {
+        let x = *n.get_ref();
+        if (0.0..=30.0).contains(&x) {
+            nf = x;
+        } else {
+            v.error(
+                n.span(),
+                format!("`noise_figure_db` must lie between 0 and 30 dB (got {x})"),
+                Some("the receiver noise figure from its data sheet, e.g. `noise_figure_db = 7.0`".into()),
+            );
+        }
+    }
+    let thermal = rfsite_physics::noise::noise_floor_dbm(bw * 1e3, nf).unwrap_or(-174.0);
+    let mut floor = thermal;
+    if let Some(f) = &s.receiver_floor_dbm {
+        let x = *f.get_ref();
+        if (-200.0..=0.0).contains(&x) {
+            floor = x;
+        } else {
+            v.error(
+                f.span(),
+                format!("`receiver_floor_dbm` must lie between -200 and 0 dBm (got {x})"),
+                Some(format!("the level below which the receiver has no service; leave it out for thermal noise + noise figure ({thermal:.1} dBm here)")),
+            );
+        }
+    }
+    (bw, nf, floor)
 }

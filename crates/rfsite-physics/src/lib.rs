@@ -43,6 +43,7 @@ pub mod antenna;
 pub mod cost231;
 pub mod exposure;
 pub mod fspl;
+pub mod noise;
 pub mod p1238;
 pub mod p2040;
 pub mod p2109;

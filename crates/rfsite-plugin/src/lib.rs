@@ -18,8 +18,10 @@ use rfsite_model::Site;
 use serde::{Deserialize, Serialize};
 
 pub mod assessment;
+pub mod verdict;
 pub mod wire;
 pub use assessment::*;
+pub use verdict::*;
 
 fn nan_from_null<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Vec<f32>, D::Error> {
     let v: Vec<Option<f32>> = Vec::deserialize(d)?;
@@ -159,7 +161,8 @@ pub struct Finding {
 pub struct FloorResult {
     /// Floor id.
     pub id: String,
-    /// Fraction of graded area (general + critical) at or above threshold + margin, 0..1.
+    /// Fraction of predicted points (general + critical) at or above the predicted required
+    /// level, 0..1.
     pub predicted_area_fraction: f64,
     /// Fraction of general area meeting it.
     pub general_fraction: Option<f64>,
@@ -175,6 +178,24 @@ pub struct FloorResult {
     pub margin_needed_db: f64,
     /// Points graded.
     pub points: usize,
+    /// Area-weighted fraction of general test cells passing (rule-set cell test).
+    #[serde(default)]
+    pub general_cell_fraction: Option<f64>,
+    /// Area-weighted fraction of critical test cells passing.
+    #[serde(default)]
+    pub critical_cell_fraction: Option<f64>,
+    /// Each critical zone graded by itself.
+    #[serde(default)]
+    pub critical_zones: Vec<ZoneResult>,
+    /// Measured points on the floor, and how many are below the measured required level.
+    #[serde(default)]
+    pub measured_points: usize,
+    /// Measured points below the measured required level.
+    #[serde(default)]
+    pub measured_failures: usize,
+    /// Each failed criterion (empty when the floor passes).
+    #[serde(default)]
+    pub reasons: Vec<Reason>,
 }
 
 /// Result per service (findings.json contract: id, freq_mhz, threshold_dbm, floors).
@@ -188,8 +209,22 @@ pub struct ServiceResult {
     pub freq_mhz: f64,
     /// Threshold, dBm.
     pub threshold_dbm: f64,
-    /// Design margin applied, dB.
+    /// Design margin, dB: the site's value for the service (the shadowing margin and the
+    /// required level are in `required`).
     pub design_margin_db: f64,
+    /// The level graded at, by its parts.
+    #[serde(default)]
+    pub required: RequiredLevel,
+    /// Levels below this are no service: thermal noise over the service bandwidth plus
+    /// the receiver noise figure (or the site's value), dBm.
+    #[serde(default)]
+    pub receiver_floor_dbm: Option<f64>,
+    /// Life-safety service.
+    #[serde(default)]
+    pub life_safety: bool,
+    /// Acceptance rule set id.
+    #[serde(default)]
+    pub rule: String,
     /// Target fraction for general areas.
     pub target_general: f64,
     /// Target fraction for critical areas.

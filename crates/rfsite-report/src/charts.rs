@@ -96,11 +96,14 @@ fn e<E: std::fmt::Debug>(x: E) -> String {
     format!("{x:?}")
 }
 
-/// Draws the coverage map of one layer.
+/// Draws the coverage map of one layer: colour bins and the contour at `threshold_dbm`
+/// (the predicted required level the verdict uses), survey markers judged against
+/// `measured_required_dbm` (the measured required level).
 pub fn coverage_map(
     site: &Site,
     layer: &CoverageLayer,
     threshold_dbm: f64,
+    measured_required_dbm: f64,
     measured: &[&Measurement],
     plan: Option<&[u8]>,
 ) -> DrawResult<String> {
@@ -307,10 +310,10 @@ pub fn coverage_map(
                 .draw_series(std::iter::once(Text::new(label, (cx, cy), style)))
                 .map_err(e)?;
         }
-        // Measured points: filled circle = meets threshold, cross = below.
+        // Measured points: filled circle = meets the measured required level, cross = below.
         for m in measured {
             let p = (u.from_m(m.x_m), u.from_m(m.y_m));
-            if m.level_dbm >= threshold_dbm {
+            if m.level_dbm >= measured_required_dbm {
                 chart
                     .draw_series(std::iter::once(Circle::new(p, 4, WHITE.filled())))
                     .map_err(e)?;
@@ -418,11 +421,11 @@ pub fn coverage_map(
         for (i, b) in BINS.iter().enumerate().rev() {
             let lo = b.from_db + threshold_dbm;
             let label = if i == 0 {
-                format!("< {:.0}", BINS[1].from_db + threshold_dbm)
+                format!("< {:.1}", BINS[1].from_db + threshold_dbm)
             } else if i == BINS.len() - 1 {
-                format!(">= {lo:.0}")
+                format!(">= {lo:.1}")
             } else {
-                format!("{lo:.0} to {:.0}", BINS[i + 1].from_db + threshold_dbm)
+                format!("{lo:.1} to {:.1}", BINS[i + 1].from_db + threshold_dbm)
             };
             right
                 .draw(&Rectangle::new([(8, y), (34, y + 18)], rgb(b.rgb).filled()))
@@ -445,7 +448,7 @@ pub fn coverage_map(
                     .map_err(e)?;
                 right
                     .draw(&Text::new(
-                        format!("required {threshold_dbm:.0}"),
+                        format!("required {threshold_dbm:.1}"),
                         (40, y + 23),
                         font.clone().style(FontStyle::Bold),
                     ))

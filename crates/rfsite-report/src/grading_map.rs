@@ -198,14 +198,14 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
                 BLACK.stroke_width(2),
             )))
             .map_err(e)?;
-        let v = &fg["result"];
+        let v = &fg["cell_test"];
         let pct = |x: &Value| {
             x.as_f64()
                 .map(|f| format!("{:.0} %", 100.0 * f))
                 .unwrap_or_else(|| "n/a".into())
         };
         let text = format!(
-            "{}: general cells passing {}, critical {}; {} failed. P pass, F fail (hatched), m judged on measurements, C critical cell (thick border).",
+            "Floor verdict {}; cell test: general cells passing {}, critical {}, {} failed. P pass, F fail (hatched), m judged on measurements, C critical.",
             if fg["pass"].as_bool() == Some(true) { "PASS" } else { "FAIL" },
             pct(&v["general_fraction"]),
             pct(&v["critical_fraction"]),

@@ -22,6 +22,7 @@ use typst_as_lib::TypstEngine;
 pub mod charts;
 pub mod grading_map;
 pub mod portfolio;
+pub mod verdicts;
 
 /// Fonts shipped with the templates (Lato, SIL OFL 1.1; licence beside the files).
 pub const FONTS: &[&[u8]] = &[
@@ -177,6 +178,16 @@ fn pct(x: Option<f64>) -> String {
         .unwrap_or_else(|| "n/a".into())
 }
 
+/// The model a layer comes from, for captions.
+fn model_name(model: &str) -> String {
+    match model {
+        "multi-wall" => "COST 231 multi-wall".into(),
+        "free-space" => "Free-space (ITU-R P.525)".into(),
+        "calibrated" => "Calibrated multi-wall (fitted to the survey)".into(),
+        other => format!("External plugin `{other}`"),
+    }
+}
+
 fn figure_name(floor: &str, service: &str) -> String {
     let clean = |s: &str| {
         s.chars()
@@ -201,22 +212,20 @@ pub fn figures(
 ) -> Result<BTreeMap<String, String>, ReportError> {
     use rayon::prelude::*;
     // Each chart is independent: draw them in parallel, collect into a sorted map.
-    let mut jobs: Vec<(&rfsite_plugin::CoverageLayer, f64)> = Vec::new();
+    // Maps split pass/fail at the level the verdict uses.
+    let mut jobs: Vec<(&rfsite_plugin::CoverageLayer, f64, f64)> = Vec::new();
     for s in &a.services {
-        let Some(svc) = site.service(&s.id) else {
-            continue;
-        };
         for l in a
             .layers
             .iter()
             .filter(|l| l.service == s.id && l.model == s.model)
         {
-            jobs.push((l, svc.threshold_dbm + svc.design_margin_db));
+            jobs.push((l, s.required.predicted_dbm, s.required.measured_dbm));
         }
     }
     let maps: Vec<Result<(String, String), ReportError>> = jobs
         .par_iter()
-        .map(|(l, required)| {
+        .map(|(l, required, measured_required)| {
             let pts: Vec<&Measurement> = measured
                 .iter()
                 .filter(|m| m.floor == l.floor && m.service == l.service)
@@ -225,6 +234,7 @@ pub fn figures(
                 site,
                 l,
                 *required,
+                *measured_required,
                 &pts,
                 plans.get(&l.floor).map(|v| v.as_slice()),
             )
@@ -278,34 +288,11 @@ pub fn view_model(
     }
     let u = site.units;
     let ul = u.label();
-    let overall_pass = a.services.iter().all(|s| s.pass);
-    let failing_floors = |s: &rfsite_plugin::ServiceResult| -> Vec<String> {
-        s.floors
-            .iter()
-            .filter(|f| !f.pass)
-            .map(|f| {
-                site.floor(&f.id)
-                    .map(|x| x.name.clone())
-                    .unwrap_or(f.id.clone())
-            })
-            .collect()
-    };
-    let mut verdicts = Vec::new();
-    for s in &a.services {
-        let ff = failing_floors(s);
-        let ctx = json!({
-            "service": s.name, "freq_mhz": f1(s.freq_mhz), "threshold_dbm": f1(s.threshold_dbm),
-            "margin_db": f1(s.design_margin_db), "pass": s.pass, "failing_floors": ff.join(", "),
-            "failing_count": ff.len(), "floor_count": s.floors.len(),
-            "target_general": format!("{:.0} %", 100.0 * s.target_general), "target_critical": format!("{:.0} %", 100.0 * s.target_critical),
-        });
-        verdicts.push(json!({
-            "service": s.name, "id": s.id, "freq": f1(s.freq_mhz), "threshold": f1(s.threshold_dbm),
-            "pass": s.pass, "verdict": if s.pass { "PASS" } else { "FAIL" },
-            "floors_pass": s.floors.iter().filter(|f| f.pass).count(), "floors": s.floors.len(),
-            "text": snippet(&hb, "service_verdict", &ctx)?,
-            "model": s.model,
-        }));
+    let overall_pass = verdicts::overall_pass(site, a);
+    let mut verdict_lines = verdicts::service_lines(site, a);
+    for (v, s) in verdict_lines.iter_mut().zip(&a.services) {
+        v["text"] = snippet(&hb, "service_verdict", &verdicts::service_context(site, s))?.into();
+        v["model"] = s.model.clone().into();
     }
     let key: Vec<&rfsite_plugin::Finding> = a
         .findings
@@ -316,7 +303,7 @@ pub fn view_model(
     let recommended = a.remediation.first();
     let summary_ctx = json!({
         "site": site.meta.name, "client": site.meta.client, "overall_pass": overall_pass,
-        "service_count": a.services.len(), "failing_services": a.services.iter().filter(|s| !s.pass).map(|s| s.name.clone()).collect::<Vec<_>>().join(", "),
+        "service_count": site.services.len(), "failing_services": verdict_lines.iter().filter(|v| v["pass"] != true).filter_map(|v| v["service"].as_str().map(str::to_string)).collect::<Vec<_>>().join(", "),
         "critical_count": a.findings.iter().filter(|f| f.severity == Severity::Critical).count(),
         "major_count": a.findings.iter().filter(|f| f.severity == Severity::Major).count(),
         "floor_count": site.floors.len(),
@@ -349,26 +336,15 @@ pub fn view_model(
                 continue;
             };
             let fig = figure_name(&fr.id, &s.id);
-            let ctx = json!({
-                "floor": floor.name, "service": s.name, "pass": fr.pass,
-                "general": pct(fr.general_fraction), "critical": pct(fr.critical_fraction),
-                "area": pct(Some(fr.predicted_area_fraction)), "min": f1(fr.min_level_dbm), "median": f1(fr.median_level_dbm),
-                "needed": f1(fr.margin_needed_db), "threshold": f1(s.threshold_dbm + s.design_margin_db),
-                "has_critical": fr.critical_fraction.is_some(),
-            });
+            let ctx = verdicts::floor_context(site, s, fr);
             pages.push(json!({
                 "floor": floor.name, "floor_id": floor.id, "service": s.name, "service_id": s.id,
                 "figure": if figure_names.contains_key(&fig) { fig } else { String::new() },
+                "caption": format!("{} prediction, {} on {}: colours relative to the required {} dBm on prediction (black contour); markers judged against {} dBm", model_name(&s.model), s.name, floor.name, f1(s.required.predicted_dbm), f1(s.required.measured_dbm)),
                 "pass": fr.pass, "verdict": if fr.pass { "PASS" } else { "FAIL" },
                 "text": snippet(&hb, "floor_summary", &ctx)?,
-                "rows": [
-                    ["Area at or above threshold + margin", pct(Some(fr.predicted_area_fraction))],
-                    ["General areas (target)", format!("{} ({:.0} %)", pct(fr.general_fraction), 100.0 * s.target_general)],
-                    ["Critical areas (target)", format!("{} ({:.0} %)", pct(fr.critical_fraction), 100.0 * s.target_critical)],
-                    ["Weakest / median level", format!("{} / {} dBm", f1(fr.min_level_dbm), f1(fr.median_level_dbm))],
-                    ["Additional margin needed", format!("{} dB", f1(fr.margin_needed_db))],
-                    ["Grid points graded", fr.points.to_string()],
-                ],
+                "reasons": fr.reasons.iter().map(|r| r.text.clone()).collect::<Vec<_>>(),
+                "rows": verdicts::floor_rows(s, fr),
                 "findings": a.findings.iter().filter(|f| f.floor.as_deref() == Some(&fr.id) && f.service.as_deref() == Some(&s.id) && f.severity != Severity::Info).map(finding_view).collect::<Vec<_>>(),
             }));
         }
@@ -470,7 +446,7 @@ pub fn view_model(
         &hb,
         "method",
         &json!({"model": site.prediction.model, "step": f1(u.from_m(site.prediction.grid_step_m)), "units": ul,
-        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
+        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "sigma": f1(a.services.first().map(|s| s.required.shadowing_sigma_db).unwrap_or(site.prediction.shadowing_sigma_db)), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
     )?;
     let tables: Vec<Value> = a
         .tables
@@ -497,8 +473,9 @@ pub fn view_model(
         "summary": {
             "pass": overall_pass,
             "verdict": if overall_pass { "MEETS ALL CRITERIA" } else { "DOES NOT MEET ALL CRITERIA" },
+            "lines": verdict_lines.iter().map(|v| json!({"text": v["line"], "pass": v["pass"], "life_safety": v["life_safety"]})).collect::<Vec<_>>(),
             "text": snippet(&hb, "executive_summary", &summary_ctx)?,
-            "services": verdicts,
+            "services": verdict_lines,
             "key_findings": key.iter().map(|f| finding_view(f)).collect::<Vec<_>>(),
             "recommendation": rec_text,
         },

@@ -88,6 +88,11 @@ pub struct Rule {
     pub location_probability: f64,
     /// Fraction of a cell's predicted points that must meet threshold + margins.
     pub predicted_cell_point_fraction: f64,
+    /// Measured points below the required level tolerated in each critical zone before
+    /// the floor fails (none: such points give a finding but do not fail the floor by
+    /// themselves; a life-safety service then tolerates none).
+    #[serde(default)]
+    pub max_measured_failures_critical: Option<usize>,
     /// `<key>_source` strings, by key.
     #[serde(skip_deserializing, default)]
     pub sources: BTreeMap<String, String>,

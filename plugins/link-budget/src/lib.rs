@@ -1,12 +1,12 @@
 //! # link-budget plugin
 //!
-//! Turns predicted levels into a verdict: EIRP per transmitter, the margin against each
-//! service's threshold (plus its design margin) at every grid point, the fraction of the
-//! general and critical area that meets it on each floor, findings that explain the
-//! shortfalls, first rule-based remediation options, and the safety and compliance
-//! cautions that go with them.
+//! EIRP per transmitter, and for every floor the verdict of record (from the grading
+//! plugin, which runs first) explained: what it reached at the required level, why it
+//! falls short (the weakest point's path, wall by wall), first rule-based remediation
+//! options, and the safety and compliance cautions that go with them. This plugin never
+//! grades: where grading did not run, every service is reported as not assessed.
 
-use rfsite_model::{Site, ZoneKind};
+use rfsite_model::{Service, Site};
 use rfsite_physics::{exposure, fspl};
 use rfsite_plugin::*;
 
@@ -17,24 +17,9 @@ fn fmt1(x: f64) -> String {
     format!("{x:.1}")
 }
 
-/// Smallest uniform uplift (dB) that puts `target` of `levels` at or above `thr`.
-pub fn uplift_needed_db(levels: &mut [f64], thr: f64, target: f64) -> f64 {
-    if levels.is_empty() || target <= 0.0 {
-        return 0.0;
-    }
-    levels.sort_by(f64::total_cmp);
-    // The level that `target` of the points are at or above.
-    // How many points may stay below (the epsilon absorbs 1 - 0.9 = 0.0999...).
-    let k = (((1.0 - target) * levels.len() as f64 + 1e-9).floor() as usize).min(levels.len() - 1);
-    (thr - levels[k]).max(0.0)
-}
-
-fn fraction_at_or_above(levels: &[f64], thr: f64) -> Option<f64> {
-    if levels.is_empty() {
-        None
-    } else {
-        Some(levels.iter().filter(|l| **l >= thr).count() as f64 / levels.len() as f64)
-    }
+fn pct(f: Option<f64>) -> String {
+    f.map(|x| format!("{:.1} %", 100.0 * x))
+        .unwrap_or_else(|| "n/a".into())
 }
 
 /// One worst-point explanation as the multi-wall plugin writes it.
@@ -70,12 +55,12 @@ impl Plugin for LinkBudgetPlugin {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "EIRP = conducted power - cable - connector losses + antenna gain; margin = predicted level - (threshold + design margin); area fraction meeting it per floor and zone kind, graded against the service targets".into(),
+            summary: "EIRP = conducted power - cable - connector losses + antenna gain; each floor's verdict of record (grading) explained by the weakest point's path loss, wall by wall, with rule-based remediation sized on the margin the floor needs at the required level".into(),
             citations: vec![
                 "Link budget arithmetic (common practice)".into(),
                 "FCC 47 CFR 1.1310 Table 1 and ICNIRP Guidelines (2020) for the exposure distances in the cautions".into(),
             ],
-            validity: "as valid as the prediction model it grades; grid points represent equal areas".into(),
+            validity: "as valid as the prediction model graded; grid points represent equal areas".into(),
         }
     }
     fn after(&self) -> Vec<String> {
@@ -83,323 +68,41 @@ impl Plugin for LinkBudgetPlugin {
             "free-space".into(),
             "multi-wall".into(),
             "calibration".into(),
+            "grading".into(),
         ]
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
-        // Grade the calibrated prediction when the calibration plugin made one, unless the
-        // site names a model for this plugin.
-        let default_model = if ctx.layers_of("calibrated").is_empty() {
-            site.prediction.model.clone()
-        } else {
-            "calibrated".to_string()
-        };
-        let model = ctx.option_str("model", &default_model)?;
-        let mut layers = ctx.layers_of(&model);
         let mut out = PluginOutput::default();
-        if layers.is_empty() && !site.transmitters.is_empty() {
-            out.warnings.push(Warning {
-                plugin: self.id().into(),
-                message: format!("no `{model}` layers; grading the free-space prediction instead"),
-            });
-            layers = ctx.layers_of("free-space");
-        }
+        let graded: Vec<ServiceResult> = ctx
+            .output_of("grading")
+            .map(|o| o.services.clone())
+            .unwrap_or_default();
         let worst: Vec<WorstPoint> = ctx
             .output_of("multi-wall")
             .and_then(|o| o.extra.get("worst_points"))
             .and_then(|v| serde_json::from_value(v.clone()).ok())
             .unwrap_or_default();
-
-        for t in &site.transmitters {
-            let Some(svc) = site.service(&t.service) else {
+        out.link_budgets = link_budgets(site, &graded);
+        for svc in &site.services {
+            let Some(r) = graded.iter().find(|r| r.id == svc.id) else {
+                out.findings.push(not_assessed(svc));
                 continue;
             };
-            let need = svc.threshold_dbm + svc.design_margin_db;
-            let budget = t.eirp_dbm() - need; // allowed free-space loss
-                                              // Free-space range: invert P.525 for the allowed loss.
-            let range_m = 10f64.powf((budget - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0);
-            out.link_budgets.push(LinkBudget {
-                transmitter: t.id.clone(),
-                service: t.service.clone(),
-                floor: t.floor.clone(),
-                power_dbm: t.power_dbm,
-                cable_loss_db: t.cable_loss_db,
-                connector_loss_db: t.connector_loss_db,
-                antenna_gain_dbi: t.antenna_gain_dbi,
-                eirp_dbm: t.eirp_dbm(),
-                fspl_10m_db: fspl::fspl_db(svc.freq_mhz, 10.0),
-                free_space_range_m: range_m,
-            });
-        }
-
-        for svc in &site.services {
-            let thr = svc.threshold_dbm + svc.design_margin_db;
-            let mut floors = Vec::new();
-            for (fi, floor) in site.floors.iter().enumerate() {
-                let layer = layers
-                    .iter()
-                    .find(|l| l.floor == floor.id && l.service == svc.id);
-                let mut general = Vec::new();
-                let mut critical = Vec::new();
-                if let Some(l) = layer {
-                    let g = l.grid.to_grid();
-                    for (i, v) in l.level_dbm.iter().enumerate() {
-                        if !v.is_finite() {
-                            continue;
-                        }
-                        match floor.zone_kind_at(g.point(i)) {
-                            ZoneKind::General => general.push(*v as f64),
-                            ZoneKind::Critical => critical.push(*v as f64),
-                            ZoneKind::Excluded => {}
-                        }
-                    }
-                } else {
-                    // No transmitter for the service: nothing reaches the floor.
-                    let g = site.floor_grid(fi);
-                    for p in g.points() {
-                        if rfsite_geometry::point_in_polygon(p, &floor.outline) {
-                            match floor.zone_kind_at(p) {
-                                ZoneKind::General => general.push(f64::NEG_INFINITY),
-                                ZoneKind::Critical => critical.push(f64::NEG_INFINITY),
-                                ZoneKind::Excluded => {}
-                            }
-                        }
-                    }
-                }
-                let mut all: Vec<f64> = general.iter().chain(critical.iter()).copied().collect();
-                let gf = fraction_at_or_above(&general, thr);
-                let cf = fraction_at_or_above(&critical, thr);
-                let af = fraction_at_or_above(&all, thr).unwrap_or(0.0);
-                let pass = gf.is_none_or(|f| f >= svc.target_general)
-                    && cf.is_none_or(|f| f >= svc.target_critical);
-                let dg = uplift_needed_db(&mut general.clone(), thr, svc.target_general);
-                let dc = uplift_needed_db(&mut critical.clone(), thr, svc.target_critical);
-                all.sort_by(f64::total_cmp);
-                let min = all.first().copied().unwrap_or(f64::NAN);
-                let median = all.get(all.len() / 2).copied().unwrap_or(f64::NAN);
-                let margin_needed = if pass { 0.0 } else { dg.max(dc) };
-                floors.push(FloorResult {
-                    id: floor.id.clone(),
-                    predicted_area_fraction: af,
-                    general_fraction: gf,
-                    critical_fraction: cf,
-                    pass,
-                    min_level_dbm: if min.is_finite() { min } else { -200.0 },
-                    median_level_dbm: if median.is_finite() { median } else { -200.0 },
-                    margin_needed_db: if margin_needed.is_finite() {
-                        margin_needed
-                    } else {
-                        999.0
-                    },
-                    points: all.len(),
-                });
-                // Findings.
-                let fr = floors.last().expect("just pushed");
-                let pct = |f: Option<f64>| {
-                    f.map(|x| format!("{:.1} %", 100.0 * x))
-                        .unwrap_or_else(|| "n/a".into())
-                };
+            for fr in &r.floors {
+                let Some(floor) = site.floor(&fr.id) else { continue };
+                let e = Explain { site, svc, r, fr, floor_name: &floor.name };
                 if fr.pass {
-                    out.findings.push(Finding {
-                        id: format!("coverage-{}-{}", svc.id, floor.id),
-                        severity: Severity::Info,
-                        floor: Some(floor.id.clone()),
-                        service: Some(svc.id.clone()),
-                        title: format!("{} meets its targets on {}", svc.name, floor.name),
-                        detail: format!(
-                            "{} of general and {} of critical area at or above {} dBm (threshold {} dBm + design margin {} dB); targets {:.0} % and {:.0} %. Weakest point {} dBm.",
-                            pct(fr.general_fraction), pct(fr.critical_fraction), fmt1(thr), fmt1(svc.threshold_dbm), fmt1(svc.design_margin_db),
-                            100.0 * svc.target_general, 100.0 * svc.target_critical, fmt1(fr.min_level_dbm)
-                        ),
-                        plugin: self.id().into(),
-                        shortfall_db: None,
-                        location_m: None,
-                        causes: vec![],
-                        remedies: vec![],
-                    });
+                    out.findings.push(e.passing());
                     continue;
                 }
-                let critical_fail = fr
-                    .critical_fraction
-                    .is_some_and(|f| f < svc.target_critical);
-                let severity = if svc.life_safety || critical_fail {
-                    Severity::Critical
-                } else {
-                    Severity::Major
-                };
-                // Explain the weakest point of the zone kind that fails (critical first).
-                let general_fail = fr.general_fraction.is_some_and(|f| f < svc.target_general);
-                let want = if critical_fail || !general_fail {
-                    "critical"
-                } else {
-                    "general"
-                };
-                let wp = worst
-                    .iter()
-                    .find(|w| w.floor == floor.id && w.service == svc.id && w.zone == want)
-                    .or_else(|| {
-                        worst
-                            .iter()
-                            .find(|w| w.floor == floor.id && w.service == svc.id)
-                    });
-                let mut causes = Vec::new();
-                let mut location = None;
-                if let Some(w) = wp {
-                    location = Some(w.point_m);
-                    let walls_db: f64 = w.walls.iter().map(|g| g.loss_db).sum();
-                    let mut parts: Vec<String> = w
-                        .walls
-                        .iter()
-                        .take(4)
-                        .map(|g| format!("{} x {} ({} dB)", g.count, g.name, fmt1(g.loss_db)))
-                        .collect();
-                    if w.floors_crossed > 0 {
-                        parts.push(format!(
-                            "{} floor slab(s) ({} dB)",
-                            w.floors_crossed,
-                            fmt1(w.floor_loss_db)
-                        ));
-                    }
-                    if parts.is_empty() {
-                        causes.push(format!(
-                            "the weakest point is in free space from {}: {} dB of distance loss alone",
-                            w.server, fmt1(w.fspl_db)
-                        ));
-                    } else {
-                        causes.push(format!(
-                            "the path from {} to the weakest {} point crosses {}: {} dB of the {} dB path loss (free space {} dB)",
-                            w.server,
-                            if w.zone.is_empty() { "graded" } else { w.zone.as_str() },
-                            parts.join(", "),
-                            fmt1(walls_db + w.floor_loss_db),
-                            fmt1(w.total_loss_db),
-                            fmt1(w.fspl_db)
-                        ));
-                    }
-                    for g in &w.walls {
-                        if g.class == "coated glazing" && g.loss_db > 10.0 {
-                            causes.push("coated energy-efficient glazing reflects most of the signal that reaches it".into());
-                        }
-                        if g.class == "metal" && g.loss_db > 10.0 {
-                            causes.push(
-                                "metal (doors, cladding or shafts) blocks the direct path".into(),
-                            );
-                        }
-                    }
-                } else if layer.is_none() {
-                    causes.push(format!(
-                        "no transmitter of {} serves this floor or reaches it",
-                        svc.name
-                    ));
-                }
-                causes.dedup();
                 let rid = format!("indoor-antennas-{}-{}", svc.id, floor.id);
-                out.findings.push(Finding {
-                    id: format!("coverage-{}-{}", svc.id, floor.id),
-                    severity,
-                    floor: Some(floor.id.clone()),
-                    service: Some(svc.id.clone()),
-                    title: format!("{} falls short on {}", svc.name, floor.name),
-                    detail: format!(
-                        "{} of general area (target {:.0} %) and {} of critical area (target {:.0} %) reach {} dBm (threshold {} dBm + design margin {} dB). Weakest point {} dBm, {} dB short. About {} dB more margin across the floor would meet the targets.",
-                        pct(fr.general_fraction), 100.0 * svc.target_general, pct(fr.critical_fraction), 100.0 * svc.target_critical,
-                        fmt1(thr), fmt1(svc.threshold_dbm), fmt1(svc.design_margin_db), fmt1(fr.min_level_dbm), fmt1(thr - fr.min_level_dbm), fmt1(fr.margin_needed_db)
-                    ),
-                    plugin: self.id().into(),
-                    shortfall_db: Some(thr - fr.min_level_dbm),
-                    location_m: location,
-                    causes: causes.clone(),
-                    remedies: vec![rid.clone()],
-                });
-                // Remediation, rule-based.
-                let on_floor = site
-                    .transmitters
-                    .iter()
-                    .filter(|t| t.service == svc.id && t.floor == floor.id)
-                    .count();
-                let area = floor.area_m2();
-                // Coverage radius of a typical indoor antenna (15 dBm EIRP) with 15 dB of
-                // clutter loss beyond free space (common practice planning figure).
-                let allowed = 15.0 - thr - 15.0;
-                let r = 10f64
-                    .powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0)
-                    .clamp(3.0, 60.0);
-                let failing = (1.0 - fr.predicted_area_fraction).max(0.0) * area;
-                let n_new =
-                    ((failing / (std::f64::consts::PI * r * r * 0.6)).ceil() as usize).max(1);
-                let (title, detail) = if fr.margin_needed_db <= 6.0 && on_floor > 0 {
-                    (
-                        format!("Raise the EIRP or add one antenna on {} for {}", floor.name, svc.name),
-                        format!("The floor needs about {} dB more. Raising the feed power of the {} antenna(s) on this floor by that much, or adding one antenna near the weakest area, is expected to close the gap.", fmt1(fr.margin_needed_db), on_floor),
-                    )
-                } else {
-                    (
-                        format!("Add about {n_new} indoor antenna(s) on {} for {}", floor.name, svc.name),
-                        format!(
-                            "About {:.0} m² of the floor falls short by up to {} dB. With a typical 15 dBm EIRP ceiling antenna reaching about {:.0} m through partitions, roughly {n_new} more antenna(s) on a distributed antenna system, placed in the failing areas and on the far side of cores and coated glazing, are needed.",
-                            failing, fmt1(fr.margin_needed_db), r
-                        ),
-                    )
-                };
-                out.remediation.push(Remediation {
-                    id: rid,
-                    title,
-                    service: Some(svc.id.clone()),
-                    floors: vec![floor.id.clone()],
-                    detail,
-                    margin_needed_db: fr.margin_needed_db,
-                    expected: format!("general and critical areas to their targets ({:.0} % / {:.0} %) at {} dBm", 100.0 * svc.target_general, 100.0 * svc.target_critical, fmt1(thr)),
-                    caveats: vec!["rule-based estimate: confirm with a revised prediction and an acceptance survey".into()],
-                    plugin: self.id().into(),
-                });
+                out.findings.push(e.failing(&worst, &rid));
+                out.remediation.push(e.remediation(rid));
             }
-            let pass = floors.iter().all(|f| f.pass);
-            let failing: Vec<String> = floors
-                .iter()
-                .filter(|f| !f.pass)
-                .map(|f| f.id.clone())
-                .collect();
-            if !failing.is_empty() && site.donors.iter().any(|d| d.service == svc.id) {
-                let best = site
-                    .donors
-                    .iter()
-                    .filter(|d| d.service == svc.id)
-                    .map(|d| d.level_dbm)
-                    .fold(f64::NEG_INFINITY, f64::max);
-                out.remediation.push(Remediation {
-                    id: format!("repeater-{}", svc.id),
-                    title: format!("Off-air repeater for {} fed by a rooftop donor antenna", svc.name),
-                    service: Some(svc.id.clone()),
-                    floors: failing.clone(),
-                    detail: format!(
-                        "The outdoor signal measured at the facade is {} dBm. A repeater (bi-directional amplifier) fed by a directional donor antenna on the roof, distributing to indoor antennas on floors {}, brings that signal inside without relying on the facade.",
-                        fmt1(best), failing.join(", ")
-                    ),
-                    margin_needed_db: floors.iter().map(|f| f.margin_needed_db).fold(0.0, f64::max),
-                    expected: "indoor levels set by the repeater's output and the antenna layout, independent of facade loss".into(),
-                    caveats: vec![
-                        "donor-to-server antenna isolation must exceed the repeater gain by a safe margin (commonly 15 dB or more, common practice) to avoid oscillation".into(),
-                        "retransmitting a licensee's signal needs the licensee's consent and the regulator's rules for signal boosters".into(),
-                    ],
-                    plugin: self.id().into(),
-                });
+            if let Some(rep) = repeater_option(site, svc, r) {
+                out.remediation.push(rep);
             }
-            floors.sort_by(|a, b| a.id.cmp(&b.id));
-            out.services.push(ServiceResult {
-                id: svc.id.clone(),
-                name: svc.name.clone(),
-                freq_mhz: svc.freq_mhz,
-                threshold_dbm: svc.threshold_dbm,
-                design_margin_db: svc.design_margin_db,
-                target_general: svc.target_general,
-                target_critical: svc.target_critical,
-                model: layers
-                    .first()
-                    .map(|l| l.model.clone())
-                    .unwrap_or_else(|| model.clone()),
-                floors,
-                pass,
-            });
         }
         out.cautions = cautions(site);
         if site.prediction.combine == rfsite_model::Combine::Strongest {
@@ -409,7 +112,260 @@ impl Plugin for LinkBudgetPlugin {
     }
 }
 
-/// The safety and compliance cautions for a site.
+/// A service the grading did not judge: never a silent pass.
+fn not_assessed(svc: &Service) -> Finding {
+    Finding {
+        id: format!("not-assessed-{}", svc.id),
+        severity: if svc.life_safety { Severity::Critical } else { Severity::Major },
+        floor: None,
+        service: Some(svc.id.clone()),
+        title: format!("{} was not assessed", svc.name),
+        detail: "The grading plugin did not run (it is disabled or failed), so no verdict exists for this service; the report states no pass for it.".into(),
+        plugin: "link-budget".into(),
+        shortfall_db: None,
+        location_m: None,
+        causes: vec![],
+        remedies: vec![],
+    }
+}
+
+/// EIRP and free-space range per transmitter, at its service's predicted required level.
+fn link_budgets(site: &Site, graded: &[ServiceResult]) -> Vec<LinkBudget> {
+    let mut v = Vec::new();
+    for t in &site.transmitters {
+        let Some(svc) = site.service(&t.service) else {
+            continue;
+        };
+        let need = graded
+            .iter()
+            .find(|r| r.id == svc.id)
+            .map(|r| r.required.predicted_dbm)
+            .unwrap_or(svc.threshold_dbm + svc.design_margin_db);
+        // Free-space range: invert P.525 for the allowed loss.
+        let budget = t.eirp_dbm() - need;
+        let range_m = 10f64.powf((budget - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0);
+        v.push(LinkBudget {
+            transmitter: t.id.clone(),
+            service: t.service.clone(),
+            floor: t.floor.clone(),
+            power_dbm: t.power_dbm,
+            cable_loss_db: t.cable_loss_db,
+            connector_loss_db: t.connector_loss_db,
+            antenna_gain_dbi: t.antenna_gain_dbi,
+            eirp_dbm: t.eirp_dbm(),
+            fspl_10m_db: fspl::fspl_db(svc.freq_mhz, 10.0),
+            free_space_range_m: range_m,
+        });
+    }
+    v
+}
+
+/// One floor's verdict, explained.
+struct Explain<'a> {
+    site: &'a Site,
+    svc: &'a Service,
+    r: &'a ServiceResult,
+    fr: &'a FloorResult,
+    floor_name: &'a str,
+}
+
+impl Explain<'_> {
+    fn rf(&self) -> Option<f64> {
+        self.r.receiver_floor_dbm
+    }
+
+    fn reached(&self) -> String {
+        let (r, fr) = (self.r, self.fr);
+        format!(
+            "{} of general area (target {:.0} %) and {} of critical area (target {:.0} %) are predicted at or above the required {}",
+            pct(fr.general_fraction), 100.0 * r.target_general, pct(fr.critical_fraction), 100.0 * r.target_critical,
+            r.required.predicted_text()
+        )
+    }
+
+    fn passing(&self) -> Finding {
+        let fr = self.fr;
+        Finding {
+            id: format!("coverage-{}-{}", self.svc.id, fr.id),
+            severity: Severity::Info,
+            floor: Some(fr.id.clone()),
+            service: Some(self.svc.id.clone()),
+            title: format!("{} passes its acceptance test on {}", self.svc.name, self.floor_name),
+            detail: format!(
+                "{}; every critical zone meets its target and the {} cell test passes. Weakest point {}.",
+                self.reached(), self.r.rule, level_text(fr.min_level_dbm, self.rf())
+            ),
+            plugin: "link-budget".into(),
+            shortfall_db: None,
+            location_m: None,
+            causes: vec![],
+            remedies: vec![],
+        }
+    }
+
+    fn critical_fails(&self) -> bool {
+        self.fr.reasons.iter().any(|r| {
+            r.criterion.starts_with("critical") || r.criterion == "measured-critical"
+        })
+    }
+
+    fn failing(&self, worst: &[WorstPoint], rid: &str) -> Finding {
+        let fr = self.fr;
+        let severity = if self.svc.life_safety || self.critical_fails() {
+            Severity::Critical
+        } else {
+            Severity::Major
+        };
+        let want = if self.critical_fails() { "critical" } else { "general" };
+        let wp = worst
+            .iter()
+            .find(|w| w.floor == fr.id && w.service == self.svc.id && w.zone == want)
+            .or_else(|| worst.iter().find(|w| w.floor == fr.id && w.service == self.svc.id));
+        let mut causes = wp.map(|w| causes_of(w)).unwrap_or_default();
+        if fr.reasons.iter().any(|r| r.criterion == "no-coverage") {
+            causes.push(format!("no transmitter of {} serves this floor or reaches it", self.svc.name));
+        }
+        causes.dedup();
+        let why: Vec<&str> = fr.reasons.iter().map(|r| r.text.as_str()).collect();
+        let short = self.r.required.predicted_dbm - fr.min_level_dbm;
+        Finding {
+            id: format!("coverage-{}-{}", self.svc.id, fr.id),
+            severity,
+            floor: Some(fr.id.clone()),
+            service: Some(self.svc.id.clone()),
+            title: format!("{} fails its acceptance test on {}", self.svc.name, self.floor_name),
+            detail: format!(
+                "Fails because: {}. {}. Weakest point {}. {}",
+                why.join("; "),
+                self.reached(),
+                level_text(fr.min_level_dbm, self.rf()),
+                if fr.margin_needed_db > 0.0 && fr.margin_needed_db < 999.0 {
+                    format!("About {} dB more at every point would meet the area targets.", fmt1(fr.margin_needed_db))
+                } else {
+                    String::new()
+                }
+            ),
+            plugin: "link-budget".into(),
+            shortfall_db: short.is_finite().then_some(short),
+            location_m: wp.map(|w| w.point_m),
+            causes,
+            remedies: vec![rid.to_string()],
+        }
+    }
+
+    fn remediation(&self, rid: String) -> Remediation {
+        let (site, svc, fr) = (self.site, self.svc, self.fr);
+        let thr = self.r.required.predicted_dbm;
+        let floor = site.floor(&fr.id);
+        let on_floor = site.transmitters.iter().filter(|t| t.service == svc.id && t.floor == fr.id).count();
+        let area = floor.map(|f| f.area_m2()).unwrap_or(0.0);
+        // Coverage radius of a typical indoor antenna (15 dBm EIRP) with 15 dB of clutter
+        // loss beyond free space (common practice planning figure).
+        let allowed = 15.0 - thr - 15.0;
+        let r = 10f64.powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0).clamp(3.0, 60.0);
+        let failing = (1.0 - fr.predicted_area_fraction).max(0.0) * area;
+        let n_new = ((failing / (std::f64::consts::PI * r * r * 0.6)).ceil() as usize).max(1);
+        let needed = if fr.margin_needed_db < 999.0 { format!("{} dB", fmt1(fr.margin_needed_db)) } else { "a new signal source".into() };
+        let (title, detail) = if fr.margin_needed_db <= 6.0 && on_floor > 0 {
+            (
+                format!("Raise the EIRP or add one antenna on {} for {}", self.floor_name, svc.name),
+                format!("The floor needs about {needed} more at the required level. Raising the feed power of the {on_floor} antenna(s) on this floor by that much, or adding one antenna near the weakest area, is expected to close the gap."),
+            )
+        } else {
+            (
+                format!("Add about {n_new} indoor antenna(s) on {} for {}", self.floor_name, svc.name),
+                format!(
+                    "About {failing:.0} m² of the floor is below the required level, by up to {needed}. With a typical 15 dBm EIRP ceiling antenna reaching about {r:.0} m through partitions at {} MHz, roughly {n_new} more antenna(s) on a distributed antenna system, placed in the failing areas and on the far side of cores and coated glazing, are needed.",
+                    fmt1(svc.freq_mhz)
+                ),
+            )
+        };
+        Remediation {
+            id: rid,
+            title,
+            service: Some(svc.id.clone()),
+            floors: vec![fr.id.clone()],
+            detail,
+            margin_needed_db: fr.margin_needed_db,
+            expected: format!("general and critical areas, and every critical zone, to their targets ({:.0} % / {:.0} %) at the required {:.1} dBm", 100.0 * self.r.target_general, 100.0 * self.r.target_critical, thr),
+            caveats: vec!["rule-based estimate: confirm with a revised prediction and an acceptance survey".into()],
+            plugin: "link-budget".into(),
+        }
+    }
+}
+
+/// The weakest point's path, in words.
+fn causes_of(w: &WorstPoint) -> Vec<String> {
+    let mut causes = Vec::new();
+    let walls_db: f64 = w.walls.iter().map(|g| g.loss_db).sum();
+    let mut parts: Vec<String> = w
+        .walls
+        .iter()
+        .take(4)
+        .map(|g| format!("{} x {} ({} dB)", g.count, g.name, fmt1(g.loss_db)))
+        .collect();
+    if w.floors_crossed > 0 {
+        parts.push(format!("{} floor slab(s) ({} dB)", w.floors_crossed, fmt1(w.floor_loss_db)));
+    }
+    if parts.is_empty() {
+        causes.push(format!(
+            "the weakest point is in free space from {}: {} dB of distance loss alone",
+            w.server,
+            fmt1(w.fspl_db)
+        ));
+    } else {
+        causes.push(format!(
+            "the path from {} to the weakest {} point crosses {}: {} dB of the {} dB path loss (free space {} dB)",
+            w.server,
+            if w.zone.is_empty() { "graded" } else { w.zone.as_str() },
+            parts.join(", "),
+            fmt1(walls_db + w.floor_loss_db),
+            fmt1(w.total_loss_db),
+            fmt1(w.fspl_db)
+        ));
+    }
+    for g in &w.walls {
+        if g.class == "coated glazing" && g.loss_db > 10.0 {
+            causes.push("coated energy-efficient glazing reflects most of the signal that reaches it".into());
+        }
+        if g.class == "metal" && g.loss_db > 10.0 {
+            causes.push("metal (doors, cladding or shafts) blocks the direct path".into());
+        }
+    }
+    causes
+}
+
+/// An off-air repeater fed by a roof donor, where a donor signal exists and floors fail.
+fn repeater_option(site: &Site, svc: &Service, r: &ServiceResult) -> Option<Remediation> {
+    let failing: Vec<String> = r.floors.iter().filter(|f| !f.pass).map(|f| f.id.clone()).collect();
+    if failing.is_empty() || !site.donors.iter().any(|d| d.service == svc.id) {
+        return None;
+    }
+    let best = site
+        .donors
+        .iter()
+        .filter(|d| d.service == svc.id)
+        .map(|d| d.level_dbm)
+        .fold(f64::NEG_INFINITY, f64::max);
+    Some(Remediation {
+        id: format!("repeater-{}", svc.id),
+        title: format!("Off-air repeater for {} fed by a rooftop donor antenna", svc.name),
+        service: Some(svc.id.clone()),
+        floors: failing.clone(),
+        detail: format!(
+            "The outdoor signal measured at the facade is {} dBm. A repeater (bi-directional amplifier) fed by a directional donor antenna on the roof, distributing to indoor antennas on floors {}, brings that signal inside without relying on the facade.",
+            fmt1(best), failing.join(", ")
+        ),
+        margin_needed_db: r.floors.iter().map(|f| f.margin_needed_db).fold(0.0, f64::max),
+        expected: "indoor levels set by the repeater's output and the antenna layout, independent of facade loss".into(),
+        caveats: vec![
+            "donor-to-server antenna isolation must exceed the repeater gain by a safe margin (commonly 15 dB or more, common practice) to avoid oscillation".into(),
+            "retransmitting a licensee's signal needs the licensee's consent and the regulator's rules for signal boosters".into(),
+        ],
+        plugin: "link-budget".into(),
+    })
+}
+
 pub fn cautions(site: &Site) -> Vec<Caution> {
     let mut c = Vec::new();
     // Exposure: the largest EIRP per service, with both general-public limits.
@@ -480,19 +436,4 @@ pub fn cautions(site: &Site) -> Vec<Caution> {
         text: "This assessment defers to local codes, the authority having jurisdiction and licensed professional practice wherever they differ from or go beyond it.".into(),
     });
     c
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn uplift_for_a_quantile() {
-        // Hand count: 10 levels -100..-91; 90 % at or above -95 dBm needs the 2nd lowest
-        // (-99) to rise to -95: 4 dB.
-        let mut v: Vec<f64> = (0..10).map(|i| -100.0 + i as f64).collect();
-        assert!((uplift_needed_db(&mut v, -95.0, 0.9) - 4.0).abs() < 1e-12);
-        let mut v: Vec<f64> = (0..10).map(|i| -100.0 + i as f64).collect();
-        assert_eq!(uplift_needed_db(&mut v, -120.0, 0.9), 0.0);
-    }
 }
