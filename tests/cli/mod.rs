@@ -6,3 +6,4 @@ mod determinism;
 mod external;
 mod portfolio;
 mod report_pdf;
+mod verdict;

@@ -10,6 +10,12 @@ use sha2::{Digest, Sha256};
 
 use crate::world::{display_path, World};
 
+/// Levels a survey receiver can plausibly report, dBm: below about -150 dBm no field
+/// instrument has a usable noise floor, above +30 dBm (1 W into the receiver) it would be
+/// damaged or in saturation next to a transmitting antenna (common practice). Readings
+/// outside are counted as `suspicious-level` rows, never graded.
+pub const PLAUSIBLE_DBM: (f64, f64) = (-150.0, 30.0);
+
 /// Column roles and their default header names.
 pub const ROLES: &[(&str, &str)] = &[
     ("x", "x"),
@@ -238,6 +244,17 @@ fn read_one<R: Read>(
                 data,
                 "unknown-service",
                 format!("service `{service}` is not in the site"),
+            );
+            continue;
+        }
+        if !(PLAUSIBLE_DBM.0..=PLAUSIBLE_DBM.1).contains(&level) {
+            reject(
+                data,
+                "suspicious-level",
+                format!(
+                    "{level} dBm is outside the plausible instrument range {} to {} dBm (a no-signal code, a unit mix-up or a logging error)",
+                    PLAUSIBLE_DBM.0, PLAUSIBLE_DBM.1
+                ),
             );
             continue;
         }

@@ -39,6 +39,8 @@ x,y,floor,service,level_dbm
 6.0,1.0,L1,lte,-90.0
 7.0,oops,L1,lte,-90.0
 8.0,2.0,L1,lte,-91.0,extra
+9.0,2.0,L1,lte,-999.0
+9.5,2.0,L1,lte,47.0
 ";
 
 #[test]
@@ -67,13 +69,17 @@ fn every_bad_row_is_counted_with_file_line_and_reason() {
             (6, "off-plan"),
             (7, "unknown-service"),
             (8, "unknown-floor"),
-            (10, "not-a-number")
+            (10, "not-a-number"),
+            // Outside the plausible instrument range -150..+30 dBm (common practice):
+            // a -999 no-signal code and a +47 dBm reading are counted, never graded.
+            (12, "suspicious-level"),
+            (13, "suspicious-level")
         ]
     );
     assert!(s.rejected.iter().all(|r| r.file == "walk.csv"));
     // Nothing silently lost: every data row is accepted or rejected.
-    assert_eq!(s.rows_per_file, vec![("walk.csv".to_string(), 9)]);
-    assert_eq!(s.points.len() + s.rejected.len(), 9);
+    assert_eq!(s.rows_per_file, vec![("walk.csv".to_string(), 11)]);
+    assert_eq!(s.points.len() + s.rejected.len(), 11);
     // The file is hashed into the audit trail.
     assert!(world
         .inputs()

@@ -433,7 +433,7 @@ pub struct RejectedRow {
     pub file: String,
     /// 1-based line.
     pub line: usize,
-    /// Reason class: `missing-value`, `not-a-number`, `off-plan`, `unknown-service`, `unknown-floor`, `malformed`.
+    /// Reason class: `missing-value`, `not-a-number`, `off-plan`, `unknown-service`, `unknown-floor`, `malformed`, `suspicious-level`.
     pub reason: String,
     /// Detail.
     pub detail: String,

@@ -171,3 +171,13 @@ mod tests {
         assert!(r.predicted_text().starts_with("-82.3 dBm (threshold -95.0 dBm + design margin 5.0 dB + shadowing margin 7.7 dB"));
     }
 }
+
+/// A level for a table column already headed "dBm": the number with one decimal, or
+/// "below -N (no service)" under the receiver floor.
+pub fn level_cell(dbm: f64, receiver_floor_dbm: Option<f64>) -> String {
+    match receiver_floor_dbm {
+        Some(f) if !(dbm >= f) => format!("below {f:.1} (no service)"),
+        _ if !dbm.is_finite() => "no signal".into(),
+        _ => format!("{dbm:.1}"),
+    }
+}

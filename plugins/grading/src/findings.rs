@@ -163,7 +163,7 @@ fn measured_finding(
                 u.from_m(m.position_m[0]),
                 u.from_m(m.position_m[1]),
                 u.label(),
-                if m.zone.is_empty() { String::new() } else { format!(" in {}", m.zone) },
+                zone_name(inp, &m.zone).map(|z| format!(" in {z}")).unwrap_or_default(),
                 level_text(m.measured_dbm, rf),
                 m.predicted_dbm.map(|p| level_text(p, rf)).unwrap_or_else(|| "n/a".into())
             )
@@ -188,4 +188,12 @@ fn measured_finding(
         causes: vec![],
         remedies: vec![],
     }
+}
+
+fn zone_name(inp: &FloorInput<'_>, id: &str) -> Option<String> {
+    inp.site.floors[inp.fi]
+        .zones
+        .iter()
+        .find(|z| z.id == id)
+        .map(|z| z.name.clone())
 }

@@ -350,6 +350,7 @@ impl Plugin for SurveyCompare {
                 })
                 .collect(),
         });
+        let rfloor = |sid: &str| site.service(sid).map(|s| s.receiver_floor_dbm);
         out.tables.push(Table {
             id: "survey-worst".into(),
             title: format!("Survey points farthest from the prediction (worst {WORST_POINTS} per service and floor)"),
@@ -363,8 +364,8 @@ impl Plugin for SurveyCompare {
                             fname(&g.floor),
                             format!("{}:{}", w.file, w.line),
                             format!("({}, {})", f1(u.from_m(w.point_m[0])), f1(u.from_m(w.point_m[1]))),
-                            f1(w.measured_dbm),
-                            f1(w.predicted_dbm),
+                            level_cell(w.measured_dbm, rfloor(&g.service)),
+                            level_cell(w.predicted_dbm, rfloor(&g.service)),
                             format!("{:+.1}", w.error_db),
                         ]
                     })
