@@ -17,18 +17,33 @@ fn demo() -> (tempfile::TempDir, serde_json::Value, String) {
         .arg(out_dir.path())
         .output()
         .unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
-    let f = serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap()).unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let f = serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
+        .unwrap();
     let text = pdf_text(&out_dir.path().join("report.pdf"));
     (out_dir, f, text)
 }
 
 fn service<'a>(f: &'a serde_json::Value, id: &str) -> &'a serde_json::Value {
-    f["services"].as_array().unwrap().iter().find(|s| s["id"] == id).unwrap()
+    f["services"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["id"] == id)
+        .unwrap()
 }
 
 fn floor<'a>(s: &'a serde_json::Value, id: &str) -> &'a serde_json::Value {
-    s["floors"].as_array().unwrap().iter().find(|x| x["id"] == id).unwrap()
+    s["floors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|x| x["id"] == id)
+        .unwrap()
 }
 
 #[test]
@@ -37,14 +52,35 @@ fn demo_public_safety_first_floor_fails_on_its_critical_stair() {
     let ps = service(&f, "ps700");
     let l1 = floor(ps, "L1");
     assert_eq!(l1["pass"], false);
-    let stair = l1["critical_zones"].as_array().unwrap().iter().find(|z| z["id"] == "L1-stair").unwrap();
+    let stair = l1["critical_zones"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|z| z["id"] == "L1-stair")
+        .unwrap();
     assert_eq!(stair["pass"], false);
     assert!(stair["area_fraction"].as_f64().unwrap() < 0.99);
-    assert!(l1["reasons"].as_array().unwrap().iter().any(|r| r["criterion"] == "critical-zone-area" && r["zone"] == "L1-stair"));
+    assert!(l1["reasons"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|r| r["criterion"] == "critical-zone-area" && r["zone"] == "L1-stair"));
     // The shortfall is a critical finding, never downgraded.
-    let zf = f["findings"].as_array().unwrap().iter().find(|x| x["id"] == "critical-zone-ps700-L1-L1-stair").unwrap();
+    let zf = f["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|x| x["id"] == "critical-zone-ps700-L1-L1-stair")
+        .unwrap();
     assert_eq!(zf["severity"], "critical");
-    assert!(f["findings"].as_array().unwrap().iter().all(|x| !(x["service"] == "ps700" && x["floor"] == "L1" && x["severity"] == "minor" && x["id"].as_str().unwrap().starts_with("coverage-"))));
+    assert!(f["findings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .all(|x| !(x["service"] == "ps700"
+            && x["floor"] == "L1"
+            && x["severity"] == "minor"
+            && x["id"].as_str().unwrap().starts_with("coverage-"))));
     assert!(text.contains("Stair S1"));
     // Life safety first: the public-safety service leads the services and the findings.
     assert_eq!(f["services"][0]["id"], "ps700");
@@ -82,21 +118,35 @@ fn no_level_below_the_receiver_floor_is_printed_as_a_number() {
     for s in f["services"].as_array().unwrap() {
         let rf = s["receiver_floor_dbm"].as_f64().unwrap();
         // Default: thermal noise over 12.5 kHz (life safety) or 15 kHz, NF 7 dB.
-        let bw = if s["life_safety"] == true { 12.5e3 } else { 15e3 };
+        let bw = if s["life_safety"] == true {
+            12.5e3
+        } else {
+            15e3
+        };
         assert!((rf - (-173.975 + 10.0 * f64::log10(bw) + 7.0)).abs() < 0.01);
     }
-    let floor_min = f["services"].as_array().unwrap().iter().map(|s| s["receiver_floor_dbm"].as_f64().unwrap()).fold(f64::INFINITY, f64::min);
+    let floor_min = f["services"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["receiver_floor_dbm"].as_f64().unwrap())
+        .fold(f64::INFINITY, f64::min);
     // Every "-NNN.N dBm" in the PDF is at or above the lowest receiver floor, except the
     // floor itself printed as "below -N dBm (no service)".
     let flat = text.replace('\u{2212}', "-");
     let words: Vec<&str> = flat.split_whitespace().collect();
     for (i, w) in words.iter().enumerate() {
-        let Ok(v) = w.trim_end_matches([',', ';', ')', '.']).parse::<f64>() else { continue };
+        let Ok(v) = w.trim_end_matches([',', ';', ')', '.']).parse::<f64>() else {
+            continue;
+        };
         if v < -100.0 && words.get(i + 1).is_some_and(|n| n.starts_with("dBm")) {
             let below = i > 0 && words[i - 1] == "below";
             // A rejected survey row quotes the raw reading it refused.
             let quoted = words.get(i + 2) == Some(&"is") && words.get(i + 3) == Some(&"outside");
-            assert!(v >= floor_min - 0.05 || below || quoted, "`{w} dBm` printed below the receiver floor ({floor_min:.1})");
+            assert!(
+                v >= floor_min - 0.05 || below || quoted,
+                "`{w} dBm` printed below the receiver floor ({floor_min:.1})"
+            );
         }
     }
 }

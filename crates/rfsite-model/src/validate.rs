@@ -1700,7 +1700,10 @@ fn receiver_floor(v: &mut V<'_>, s: &RawService, life_safety: bool) -> (f64, f64
             v.error(
                 n.span(),
                 format!("`noise_figure_db` must lie between 0 and 30 dB (got {x})"),
-                Some("the receiver noise figure from its data sheet, e.g. `noise_figure_db = 7.0`".into()),
+                Some(
+                    "the receiver noise figure from its data sheet, e.g. `noise_figure_db = 7.0`"
+                        .into(),
+                ),
             );
         }
     }

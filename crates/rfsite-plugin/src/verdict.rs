@@ -119,7 +119,7 @@ pub struct MeasuredFailure {
 /// receiver's noise floor (a number there could not be seen by any receiver).
 pub fn level_text(dbm: f64, receiver_floor_dbm: Option<f64>) -> String {
     match receiver_floor_dbm {
-        Some(f) if !(dbm >= f) => format!("below {f:.1} dBm (no service)"),
+        Some(f) if dbm.is_nan() || dbm < f => format!("below {f:.1} dBm (no service)"),
         _ if !dbm.is_finite() => "no signal".into(),
         _ => format!("{dbm:.1} dBm"),
     }
@@ -148,14 +148,30 @@ impl RequiredLevel {
     }
 }
 
+/// A level for a table column already headed "dBm": the number with one decimal, or
+/// "below -N (no service)" under the receiver floor.
+pub fn level_cell(dbm: f64, receiver_floor_dbm: Option<f64>) -> String {
+    match receiver_floor_dbm {
+        Some(f) if dbm.is_nan() || dbm < f => format!("below {f:.1} (no service)"),
+        _ if !dbm.is_finite() => "no signal".into(),
+        _ => format!("{dbm:.1}"),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
     fn levels_below_the_receiver_floor_are_not_numbers() {
-        assert_eq!(level_text(-170.9, Some(-126.0)), "below -126.0 dBm (no service)");
-        assert_eq!(level_text(f64::NEG_INFINITY, Some(-126.0)), "below -126.0 dBm (no service)");
+        assert_eq!(
+            level_text(-170.9, Some(-126.0)),
+            "below -126.0 dBm (no service)"
+        );
+        assert_eq!(
+            level_text(f64::NEG_INFINITY, Some(-126.0)),
+            "below -126.0 dBm (no service)"
+        );
         assert_eq!(level_text(-90.04, Some(-126.0)), "-90.0 dBm");
         assert_eq!(level_text(f64::NAN, None), "no signal");
     }
@@ -168,16 +184,8 @@ mod tests {
         let r = RequiredLevel::new(-95.0, 5.0, 6.0, 0.9, 6.0 * 1.281_551_565_5);
         assert!((r.measured_dbm - -90.0).abs() < 1e-12);
         assert!((r.predicted_dbm - -82.310_690_6).abs() < 1e-6);
-        assert!(r.predicted_text().starts_with("-82.3 dBm (threshold -95.0 dBm + design margin 5.0 dB + shadowing margin 7.7 dB"));
-    }
-}
-
-/// A level for a table column already headed "dBm": the number with one decimal, or
-/// "below -N (no service)" under the receiver floor.
-pub fn level_cell(dbm: f64, receiver_floor_dbm: Option<f64>) -> String {
-    match receiver_floor_dbm {
-        Some(f) if !(dbm >= f) => format!("below {f:.1} (no service)"),
-        _ if !dbm.is_finite() => "no signal".into(),
-        _ => format!("{dbm:.1}"),
+        assert!(r.predicted_text().starts_with(
+            "-82.3 dBm (threshold -95.0 dBm + design margin 5.0 dB + shadowing margin 7.7 dB"
+        ));
     }
 }

@@ -30,7 +30,11 @@ pub fn service_lines(site: &Site, a: &Assessment) -> Vec<Value> {
             })
         })
         .collect();
-    for svc in site.services.iter().filter(|x| !a.services.iter().any(|s| s.id == x.id)) {
+    for svc in site
+        .services
+        .iter()
+        .filter(|x| !a.services.iter().any(|s| s.id == x.id))
+    {
         v.push(json!({
             "id": svc.id, "service": svc.name, "freq": f1(svc.freq_mhz), "threshold": f1(svc.threshold_dbm),
             "life_safety": svc.life_safety, "pass": false, "assessed": false, "verdict": "NOT ASSESSED",
@@ -56,18 +60,59 @@ pub fn floor_rows(s: &ServiceResult, fr: &FloorResult) -> Vec<[String; 2]> {
     let lvl = format!("{} dBm", f1(req.predicted_dbm));
     let rf = s.receiver_floor_dbm;
     let mut rows = vec![
-        ["Verdict of record".to_string(), format!("{} ({})", if fr.pass { "PASS" } else { "FAIL" }, s.rule)],
-        ["Required level, predicted points".into(), req.predicted_text()],
-        ["Required level, measured points and cells".into(), req.measured_text()],
-        [format!("General area at or above {lvl} (target {:.0} %)", 100.0 * s.target_general), pct(fr.general_fraction)],
-        [format!("Critical area at or above {lvl} (target {:.0} %)", 100.0 * s.target_critical), pct(fr.critical_fraction)],
-        [format!("General test cells passing (target {:.0} %)", 100.0 * s.target_general), pct(fr.general_cell_fraction)],
-        [format!("Critical test cells passing (target {:.0} %)", 100.0 * s.target_critical), pct(fr.critical_cell_fraction)],
+        [
+            "Verdict of record".to_string(),
+            format!("{} ({})", if fr.pass { "PASS" } else { "FAIL" }, s.rule),
+        ],
+        [
+            "Required level, predicted points".into(),
+            req.predicted_text(),
+        ],
+        [
+            "Required level, measured points and cells".into(),
+            req.measured_text(),
+        ],
+        [
+            format!(
+                "General area at or above {lvl} (target {:.0} %)",
+                100.0 * s.target_general
+            ),
+            pct(fr.general_fraction),
+        ],
+        [
+            format!(
+                "Critical area at or above {lvl} (target {:.0} %)",
+                100.0 * s.target_critical
+            ),
+            pct(fr.critical_fraction),
+        ],
+        [
+            format!(
+                "General test cells passing (target {:.0} %)",
+                100.0 * s.target_general
+            ),
+            pct(fr.general_cell_fraction),
+        ],
+        [
+            format!(
+                "Critical test cells passing (target {:.0} %)",
+                100.0 * s.target_critical
+            ),
+            pct(fr.critical_cell_fraction),
+        ],
     ];
     for z in &fr.critical_zones {
         rows.push([
-            format!("Critical zone {}: area at or above {lvl} / own cells passing", z.name),
-            format!("{} / {}{}", pct(z.area_fraction), pct(z.cell_fraction), if z.pass { "" } else { " — FAIL" }),
+            format!(
+                "Critical zone {}: area at or above {lvl} / own cells passing",
+                z.name
+            ),
+            format!(
+                "{} / {}{}",
+                pct(z.area_fraction),
+                pct(z.cell_fraction),
+                if z.pass { "" } else { " — FAIL" }
+            ),
         ]);
     }
     rows.push([
@@ -76,11 +121,19 @@ pub fn floor_rows(s: &ServiceResult, fr: &FloorResult) -> Vec<[String; 2]> {
     ]);
     rows.push([
         "Weakest / median predicted level".into(),
-        format!("{} / {}", level_text(fr.min_level_dbm, rf), level_text(fr.median_level_dbm, rf)),
+        format!(
+            "{} / {}",
+            level_text(fr.min_level_dbm, rf),
+            level_text(fr.median_level_dbm, rf)
+        ),
     ]);
     rows.push([
         "Uniform uplift that would meet the area targets".into(),
-        if fr.margin_needed_db >= 999.0 { "no signal to raise".into() } else { format!("{} dB", f1(fr.margin_needed_db)) },
+        if fr.margin_needed_db >= 999.0 {
+            "no signal to raise".into()
+        } else {
+            format!("{} dB", f1(fr.margin_needed_db))
+        },
     ]);
     rows.push(["Grid points graded".into(), fr.points.to_string()]);
     rows
@@ -88,7 +141,10 @@ pub fn floor_rows(s: &ServiceResult, fr: &FloorResult) -> Vec<[String; 2]> {
 
 /// The handlebars context of a floor page's summary sentence.
 pub fn floor_context(site: &Site, s: &ServiceResult, fr: &FloorResult) -> Value {
-    let name = site.floor(&fr.id).map(|f| f.name.clone()).unwrap_or(fr.id.clone());
+    let name = site
+        .floor(&fr.id)
+        .map(|f| f.name.clone())
+        .unwrap_or(fr.id.clone());
     json!({
         "floor": name, "service": s.name, "pass": fr.pass,
         "general": pct(fr.general_fraction), "critical": pct(fr.critical_fraction),
@@ -106,7 +162,11 @@ pub fn service_context(site: &Site, s: &ServiceResult) -> Value {
         .floors
         .iter()
         .filter(|f| !f.pass)
-        .map(|f| site.floor(&f.id).map(|x| x.name.clone()).unwrap_or(f.id.clone()))
+        .map(|f| {
+            site.floor(&f.id)
+                .map(|x| x.name.clone())
+                .unwrap_or(f.id.clone())
+        })
         .collect();
     json!({
         "service": s.name, "freq_mhz": f1(s.freq_mhz), "threshold_dbm": f1(s.threshold_dbm),

@@ -11,7 +11,6 @@ use serde::Serialize;
 
 use crate::rules::{Judge, Rule};
 
-
 /// Samples per cell side used to measure a cell's area inside the outline and by zone.
 pub const CELL_SAMPLES: usize = 10;
 
@@ -251,29 +250,46 @@ fn verdict_of(
     let (gf, cf) = (frac("general"), frac("critical"));
     let mut reasons = Vec::new();
     if let Some(g) = gf.filter(|g| *g < rule.target_general) {
-        reasons.push(reason("general-cells", g, rule.target_general, format!(
-            "{:.1} % of the general test cells pass, target {:.0} %",
-            100.0 * g,
-            100.0 * rule.target_general
-        )));
+        reasons.push(reason(
+            "general-cells",
+            g,
+            rule.target_general,
+            format!(
+                "{:.1} % of the general test cells pass, target {:.0} %",
+                100.0 * g,
+                100.0 * rule.target_general
+            ),
+        ));
     }
     if let Some(c) = cf.filter(|c| *c < rule.target_critical) {
-        reasons.push(reason("critical-cells", c, rule.target_critical, format!(
-            "{:.1} % of the critical test cells pass, target {:.0} %",
-            100.0 * c,
-            100.0 * rule.target_critical
-        )));
+        reasons.push(reason(
+            "critical-cells",
+            c,
+            rule.target_critical,
+            format!(
+                "{:.1} % of the critical test cells pass, target {:.0} %",
+                100.0 * c,
+                100.0 * rule.target_critical
+            ),
+        ));
     }
     if let Some(m) = rule.max_failed_cells.filter(|m| failed.len() > *m) {
-        reasons.push(reason("failed-cells", failed.len() as f64, m as f64, format!(
-            "{} failed test cells, at most {m} tolerated",
-            failed.len()
-        )));
+        reasons.push(reason(
+            "failed-cells",
+            failed.len() as f64,
+            m as f64,
+            format!("{} failed test cells, at most {m} tolerated", failed.len()),
+        ));
     }
     if !rule.failed_cells_may_be_adjacent && adjacent > 0 {
-        reasons.push(reason("adjacent-failed-cells", adjacent as f64, 0.0, format!(
+        reasons.push(reason(
+            "adjacent-failed-cells",
+            adjacent as f64,
+            0.0,
+            format!(
             "{adjacent} pair(s) of failed test cells are adjacent, which the rule does not allow"
-        )));
+        ),
+        ));
     }
     let judged = count("general") + count("critical");
     Verdict {
@@ -374,7 +390,11 @@ pub fn judge_region(
         measured_points: ms.len(),
         measured_mean_dbm: mm,
         measured_pass,
-        judged_by: if pass.is_none() { "not judged" } else { judged_by },
+        judged_by: if pass.is_none() {
+            "not judged"
+        } else {
+            judged_by
+        },
         pass,
     }
 }

@@ -33,19 +33,55 @@ pub fn reasons(
     let (rule, req) = (inp.rule, inp.req);
     let mut out = Vec::new();
     if no_layer {
-        out.push(reason("no-coverage", None, 0.0, 1.0, format!("no transmitter of {} reaches this floor", inp.svc.name)));
+        out.push(reason(
+            "no-coverage",
+            None,
+            0.0,
+            1.0,
+            format!("no transmitter of {} reaches this floor", inp.svc.name),
+        ));
     }
     if grade.verdict.pass.is_none() {
-        out.push(reason("not-judged", None, 0.0, 1.0, format!("no test cell could be judged ({} judges on {})", rule.id, rule.judge.label())));
+        out.push(reason(
+            "not-judged",
+            None,
+            0.0,
+            1.0,
+            format!(
+                "no test cell could be judged ({} judges on {})",
+                rule.id,
+                rule.judge.label()
+            ),
+        ));
     }
     out.extend(grade.verdict.reasons.iter().cloned());
     if rule.judge != Judge::Measured {
         let lvl = format!("{:.1} dBm", req.predicted_dbm);
         if let Some(g) = gf.filter(|g| *g < rule.target_general) {
-            out.push(reason("general-area", None, g, rule.target_general, format!("{} of the general area is predicted at or above {lvl}, target {:.0} %", pct(g), 100.0 * rule.target_general)));
+            out.push(reason(
+                "general-area",
+                None,
+                g,
+                rule.target_general,
+                format!(
+                    "{} of the general area is predicted at or above {lvl}, target {:.0} %",
+                    pct(g),
+                    100.0 * rule.target_general
+                ),
+            ));
         }
         if let Some(c) = cf.filter(|c| *c < rule.target_critical) {
-            out.push(reason("critical-area", None, c, rule.target_critical, format!("{} of the critical area is predicted at or above {lvl}, target {:.0} %", pct(c), 100.0 * rule.target_critical)));
+            out.push(reason(
+                "critical-area",
+                None,
+                c,
+                rule.target_critical,
+                format!(
+                    "{} of the critical area is predicted at or above {lvl}, target {:.0} %",
+                    pct(c),
+                    100.0 * rule.target_critical
+                ),
+            ));
         }
     }
     for z in zones {
@@ -63,7 +99,18 @@ fn zone_reasons(inp: &FloorInput<'_>, z: &ZoneResult, out: &mut Vec<Reason>) {
         }
     }
     if let Some(c) = z.cell_fraction.filter(|c| *c < t) {
-        out.push(reason("critical-zone-cells", Some(&z.id), c, t, format!("critical zone {}: {} of its own test cells pass, target {:.0} %", z.name, pct(c), 100.0 * t)));
+        out.push(reason(
+            "critical-zone-cells",
+            Some(&z.id),
+            c,
+            t,
+            format!(
+                "critical zone {}: {} of its own test cells pass, target {:.0} %",
+                z.name,
+                pct(c),
+                100.0 * t
+            ),
+        ));
     }
     if let Some(tol) = crate::tolerated_critical_failures(inp.svc, rule) {
         if z.measured_failures > tol {
@@ -98,7 +145,14 @@ pub fn floor_findings(inp: &FloorInput<'_>, o: &FloorOutcome) -> Vec<Finding> {
             _ if o.result.pass => Severity::Minor,
             _ => Severity::Major,
         };
-        out.push(measured_finding(inp, &f, kind, severity, &floor.id, &floor.name));
+        out.push(measured_finding(
+            inp,
+            &f,
+            kind,
+            severity,
+            &floor.id,
+            &floor.name,
+        ));
     }
     out
 }
@@ -110,13 +164,24 @@ fn zone_finding(inp: &FloorInput<'_>, o: &FloorOutcome, z: &ZoneResult) -> Findi
     let weakest = o.zone_weakest.iter().find(|w| w.0 == z.id);
     let mut parts = Vec::new();
     if let Some(a) = z.area_fraction {
-        parts.push(format!("{} of its area is predicted at or above the required {}", pct(a), req.predicted_text()));
+        parts.push(format!(
+            "{} of its area is predicted at or above the required {}",
+            pct(a),
+            req.predicted_text()
+        ));
     }
     if let Some(c) = z.cell_fraction {
-        parts.push(format!("{} of its {} own test cell(s) pass", pct(c), z.cells));
+        parts.push(format!(
+            "{} of its {} own test cell(s) pass",
+            pct(c),
+            z.cells
+        ));
     }
     if z.measured_points > 0 {
-        parts.push(format!("{} of {} measured points are below {:.1} dBm", z.measured_failures, z.measured_points, req.measured_dbm));
+        parts.push(format!(
+            "{} of {} measured points are below {:.1} dBm",
+            z.measured_failures, z.measured_points, req.measured_dbm
+        ));
     }
     if let Some(w) = weakest {
         parts.push(format!("weakest predicted point {}", level_text(w.2, rf)));
@@ -163,24 +228,40 @@ fn measured_finding(
                 u.from_m(m.position_m[0]),
                 u.from_m(m.position_m[1]),
                 u.label(),
-                zone_name(inp, &m.zone).map(|z| format!(" in {z}")).unwrap_or_default(),
+                zone_name(inp, &m.zone)
+                    .map(|z| format!(" in {z}"))
+                    .unwrap_or_default(),
                 level_text(m.measured_dbm, rf),
-                m.predicted_dbm.map(|p| level_text(p, rf)).unwrap_or_else(|| "n/a".into())
+                m.predicted_dbm
+                    .map(|p| level_text(p, rf))
+                    .unwrap_or_else(|| "n/a".into())
             )
         })
         .collect();
-    let worst = f.iter().min_by(|a, b| a.measured_dbm.total_cmp(&b.measured_dbm));
+    let worst = f
+        .iter()
+        .min_by(|a, b| a.measured_dbm.total_cmp(&b.measured_dbm));
     Finding {
         id: format!("measured-{}-{}-{}", inp.svc.id, floor_id, kind),
         severity,
         floor: Some(floor_id.to_string()),
         service: Some(inp.svc.id.clone()),
-        title: format!("{} measured point(s) below the required level in {} areas of {} ({})", f.len(), kind, floor_name, inp.svc.name),
+        title: format!(
+            "{} measured point(s) below the required level in {} areas of {} ({})",
+            f.len(),
+            kind,
+            floor_name,
+            inp.svc.name
+        ),
         detail: format!(
             "Survey readings below {}: {}{}.",
             inp.req.measured_text(),
             list.join("; "),
-            if f.len() > 8 { format!("; and {} more (all in findings.json)", f.len() - 8) } else { String::new() }
+            if f.len() > 8 {
+                format!("; and {} more (all in findings.json)", f.len() - 8)
+            } else {
+                String::new()
+            }
         ),
         plugin: "grading".into(),
         shortfall_db: worst.map(|w| inp.req.measured_dbm - w.measured_dbm),

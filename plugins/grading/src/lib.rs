@@ -253,8 +253,9 @@ fn floor_result(
     );
     let reasons = findings::reasons(inp, grade, gf, cf, &zones, inp.layer.is_none());
     let pass = reasons.is_empty();
-    let mut needed = uplift_needed_db(&mut general.to_vec(), thr, rule.target_general)
-        .max(uplift_needed_db(&mut critical.to_vec(), thr, rule.target_critical));
+    let mut needed = uplift_needed_db(&mut general.to_vec(), thr, rule.target_general).max(
+        uplift_needed_db(&mut critical.to_vec(), thr, rule.target_critical),
+    );
     for z in &inp.site.floors[inp.fi].zones {
         if z.kind != ZoneKind::Critical {
             continue;

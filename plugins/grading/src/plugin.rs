@@ -7,7 +7,9 @@ use rfsite_model::{Service, Site};
 use rfsite_plugin::*;
 
 use crate::rules::{self, builtin_rules, Rule};
-use crate::{clean, findings, grade_one_floor, required_level, rule_for, FloorInput, FloorOutcome, Grading};
+use crate::{
+    clean, findings, grade_one_floor, required_level, rule_for, FloorInput, FloorOutcome, Grading,
+};
 
 /// The rule sets in force: built in, then the site's `[plugins.grading.rule_sets.<id>]`.
 pub fn rule_sets(
@@ -29,10 +31,11 @@ pub fn rule_sets(
         })?;
         let mut rt = rt.clone();
         rt.entry("id").or_insert(toml::Value::String(id.clone()));
-        let (r, notes) = rules::rule_from_table(&rt, false).map_err(|m| PluginError::BadOption {
-            key: format!("rule_sets.{id}"),
-            message: m,
-        })?;
+        let (r, notes) =
+            rules::rule_from_table(&rt, false).map_err(|m| PluginError::BadOption {
+                key: format!("rule_sets.{id}"),
+                message: m,
+            })?;
         for n in notes {
             warnings.push(Warning {
                 plugin: "grading".into(),
@@ -159,16 +162,24 @@ impl Plugin for Grading {
             })?;
             rule_warnings(svc, &rule, &mut out.warnings);
             let lp = ctx.option_f64("location_probability", rule.location_probability)?;
-            let req = required_level(svc, &rule, sigma, lp).map_err(|m| PluginError::BadOption {
-                key: "location_probability".into(),
-                message: m,
-            })?;
-            let g = ServiceGrading { ctx, svc, rule: &rule, req: &req, layers: &layers };
+            let req =
+                required_level(svc, &rule, sigma, lp).map_err(|m| PluginError::BadOption {
+                    key: "location_probability".into(),
+                    message: m,
+                })?;
+            let g = ServiceGrading {
+                ctx,
+                svc,
+                rule: &rule,
+                req: &req,
+                layers: &layers,
+            };
             let outcomes = g.floors(&mut out);
             out.tables.push(g.table(&outcomes));
             out.figures.extend(g.figures(&outcomes));
             extra_services.push(g.extra(&outcomes, &model, &rejected));
-            out.services.push(g.result(outcomes.into_iter().map(|o| o.result).collect(), &model));
+            out.services
+                .push(g.result(outcomes.into_iter().map(|o| o.result).collect(), &model));
         }
         out.extra
             .insert("services".into(), serde_json::Value::Array(extra_services));
@@ -195,7 +206,10 @@ fn rule_warnings(svc: &Service, rule: &Rule, w: &mut Vec<Warning>) {
     if rule.metric != svc.metric {
         w.push(Warning {
             plugin: "grading".into(),
-            message: format!("service `{}` is `{}`, rule set `{}` grades `{}`", svc.id, svc.metric, rule.id, rule.metric),
+            message: format!(
+                "service `{}` is `{}`, rule set `{}` grades `{}`",
+                svc.id, svc.metric, rule.id, rule.metric
+            ),
         });
     }
 }
@@ -224,8 +238,18 @@ impl ServiceGrading<'_, '_> {
                 svc: self.svc,
                 rule: self.rule,
                 req: self.req,
-                layer: self.layers.iter().copied().find(|l| l.floor == floor.id && l.service == self.svc.id),
-                measured: self.ctx.surveys.points.iter().filter(|m| m.floor == floor.id && m.service == self.svc.id).collect(),
+                layer: self
+                    .layers
+                    .iter()
+                    .copied()
+                    .find(|l| l.floor == floor.id && l.service == self.svc.id),
+                measured: self
+                    .ctx
+                    .surveys
+                    .points
+                    .iter()
+                    .filter(|m| m.floor == floor.id && m.service == self.svc.id)
+                    .collect(),
             };
             let o = grade_one_floor(&inp);
             out.findings.extend(findings::floor_findings(&inp, &o));
@@ -236,7 +260,10 @@ impl ServiceGrading<'_, '_> {
     }
 
     fn fname(&self, fid: &str) -> String {
-        self.site().floor(fid).map(|s| s.name.clone()).unwrap_or_else(|| fid.to_string())
+        self.site()
+            .floor(fid)
+            .map(|s| s.name.clone())
+            .unwrap_or_else(|| fid.to_string())
     }
 
     fn table(&self, outcomes: &[FloorOutcome]) -> Table {

@@ -147,7 +147,6 @@ fn small_floor_respects_min_side() {
     assert_eq!((l.nx, l.ny), (9, 9));
 }
 
-
 /// A 100 ft x 80 ft floor (30.48 m x 24.384 m: 20 cells of 20 ft, the public-safety
 /// grid) with a 5 m x 5 m critical stair at (1, 1)-(6, 6).
 const SITE: &str = r#"
@@ -197,7 +196,10 @@ fn layer(site: &rfsite_model::Site, weak: impl Fn(Point2) -> bool) -> rfsite_plu
         service: "ps".into(),
         model: "multi-wall".into(),
         grid: rfsite_plugin::GridSpec::from_grid(&g),
-        level_dbm: g.points().map(|p| if weak(p) { -120.0 } else { -60.0 }).collect(),
+        level_dbm: g
+            .points()
+            .map(|p| if weak(p) { -120.0 } else { -60.0 })
+            .collect(),
         best_server: vec![],
         servers: vec![],
     }
@@ -232,7 +234,12 @@ fn a_critical_zone_at_90_percent_fails_a_life_safety_floor_whose_cells_pass() {
     let s = site();
     let l = layer(&s, |p| (p.x - 1.25).abs() < 1e-9 && p.y > 1.0 && p.y < 6.0);
     let (o, f) = outcome(&s, &l, vec![]);
-    assert_eq!(o.grade.verdict.pass, Some(true), "every cell passes: {:?}", o.grade.verdict);
+    assert_eq!(
+        o.grade.verdict.pass,
+        Some(true),
+        "every cell passes: {:?}",
+        o.grade.verdict
+    );
     assert_eq!(o.grade.verdict.failed_cells, 0);
     let z = &o.result.critical_zones[0];
     assert!((z.area_fraction.unwrap() - 0.9).abs() < 1e-12, "{z:?}");
@@ -245,11 +252,18 @@ fn a_critical_zone_at_90_percent_fails_a_life_safety_floor_whose_cells_pass() {
         .find(|r| r.criterion == "critical-zone-area")
         .expect("zone reason");
     assert_eq!((r.zone.as_deref(), r.target), (Some("stair"), 0.99));
-    let zf = f.iter().find(|f| f.id == "critical-zone-ps-L1-stair").expect("zone finding");
+    let zf = f
+        .iter()
+        .find(|f| f.id == "critical-zone-ps-L1-stair")
+        .expect("zone finding");
     assert_eq!(zf.severity, rfsite_plugin::Severity::Critical);
     // Without the weak column the floor passes: the test can tell the two apart.
     let (o, f) = outcome(&s, &layer(&s, |_| false), vec![]);
-    assert!(o.result.pass && o.result.reasons.is_empty() && f.is_empty(), "{:?}", o.result.reasons);
+    assert!(
+        o.result.pass && o.result.reasons.is_empty() && f.is_empty(),
+        "{:?}",
+        o.result.reasons
+    );
 }
 
 /// Issue 10: one measured point below the measured required level (-95 + 5 = -90 dBm)
@@ -268,15 +282,29 @@ fn a_measured_point_below_the_level_in_a_critical_zone_is_a_finding_with_file_an
         file: "survey/walk.csv".into(),
         line,
     };
-    let pts = [m(3.0, 3.0, -93.5, 7), m(3.5, 3.0, -70.0, 8), m(20.0, 20.0, -70.0, 9)];
+    let pts = [
+        m(3.0, 3.0, -93.5, 7),
+        m(3.5, 3.0, -70.0, 8),
+        m(20.0, 20.0, -70.0, 9),
+    ];
     let (o, f) = outcome(&s, &l, pts.iter().collect());
     assert_eq!(o.failures.len(), 1);
     let mf = &o.failures[0];
-    assert_eq!((mf.file.as_str(), mf.line, mf.zone.as_str()), ("survey/walk.csv", 7, "stair"));
+    assert_eq!(
+        (mf.file.as_str(), mf.line, mf.zone.as_str()),
+        ("survey/walk.csv", 7, "stair")
+    );
     assert_eq!(mf.predicted_dbm, Some(-60.0));
     assert!(!o.result.pass);
-    assert!(o.result.reasons.iter().any(|r| r.criterion == "measured-critical"));
-    let fi = f.iter().find(|f| f.id == "measured-ps-L1-critical").expect("finding");
+    assert!(o
+        .result
+        .reasons
+        .iter()
+        .any(|r| r.criterion == "measured-critical"));
+    let fi = f
+        .iter()
+        .find(|f| f.id == "measured-ps-L1-critical")
+        .expect("finding");
     assert!(fi.detail.contains("survey/walk.csv:7"), "{}", fi.detail);
     assert!(fi.detail.contains("-93.5 dBm"), "{}", fi.detail);
     assert_eq!(fi.severity, rfsite_plugin::Severity::Critical);

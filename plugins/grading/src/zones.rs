@@ -9,7 +9,7 @@
 
 use rfsite_geometry::{point_in_polygon, Point2};
 use rfsite_model::{Floor, Zone, ZoneKind};
-use rfsite_plugin::{Measurement, MeasuredFailure, RequiredLevel, ZoneResult};
+use rfsite_plugin::{MeasuredFailure, Measurement, RequiredLevel, ZoneResult};
 
 use crate::cells::{cell_samples, judge_region, CellLayout, CELL_SAMPLES};
 use crate::rules::Rule;
@@ -79,7 +79,10 @@ pub fn grade_zones(
             let area_fraction = if pts.is_empty() {
                 levels.is_empty().then_some(0.0)
             } else {
-                Some(pts.iter().filter(|v| **v >= req.predicted_dbm).count() as f64 / pts.len() as f64)
+                Some(
+                    pts.iter().filter(|v| **v >= req.predicted_dbm).count() as f64
+                        / pts.len() as f64,
+                )
             };
             let (cell_fraction, cells) = zone_cells(floor, z, layout, levels, measured, rule, req);
             let zm: Vec<f64> = measured
@@ -89,8 +92,7 @@ pub fn grade_zones(
                 .collect();
             let measured_failures = zm.iter().filter(|v| **v < req.measured_dbm).count();
             let on_prediction = rule.judge != crate::rules::Judge::Measured;
-            let area_ok = !on_prediction
-                || area_fraction.is_none_or(|f| f >= rule.target_critical);
+            let area_ok = !on_prediction || area_fraction.is_none_or(|f| f >= rule.target_critical);
             let cells_ok = cell_fraction.is_none_or(|f| f >= rule.target_critical);
             let measured_ok = tolerated.is_none_or(|t| measured_failures <= t);
             ZoneResult {

@@ -90,8 +90,16 @@ impl Plugin for LinkBudgetPlugin {
                 continue;
             };
             for fr in &r.floors {
-                let Some(floor) = site.floor(&fr.id) else { continue };
-                let e = Explain { site, svc, r, fr, floor_name: &floor.name };
+                let Some(floor) = site.floor(&fr.id) else {
+                    continue;
+                };
+                let e = Explain {
+                    site,
+                    svc,
+                    r,
+                    fr,
+                    floor_name: &floor.name,
+                };
                 if fr.pass {
                     out.findings.push(e.passing());
                     continue;
@@ -204,9 +212,10 @@ impl Explain<'_> {
     }
 
     fn critical_fails(&self) -> bool {
-        self.fr.reasons.iter().any(|r| {
-            r.criterion.starts_with("critical") || r.criterion == "measured-critical"
-        })
+        self.fr
+            .reasons
+            .iter()
+            .any(|r| r.criterion.starts_with("critical") || r.criterion == "measured-critical")
     }
 
     fn failing(&self, worst: &[WorstPoint], rid: &str) -> Finding {
@@ -216,14 +225,25 @@ impl Explain<'_> {
         } else {
             Severity::Major
         };
-        let want = if self.critical_fails() { "critical" } else { "general" };
+        let want = if self.critical_fails() {
+            "critical"
+        } else {
+            "general"
+        };
         let wp = worst
             .iter()
             .find(|w| w.floor == fr.id && w.service == self.svc.id && w.zone == want)
-            .or_else(|| worst.iter().find(|w| w.floor == fr.id && w.service == self.svc.id));
-        let mut causes = wp.map(|w| causes_of(w)).unwrap_or_default();
+            .or_else(|| {
+                worst
+                    .iter()
+                    .find(|w| w.floor == fr.id && w.service == self.svc.id)
+            });
+        let mut causes = wp.map(causes_of).unwrap_or_default();
         if fr.reasons.iter().any(|r| r.criterion == "no-coverage") {
-            causes.push(format!("no transmitter of {} serves this floor or reaches it", self.svc.name));
+            causes.push(format!(
+                "no transmitter of {} serves this floor or reaches it",
+                self.svc.name
+            ));
         }
         causes.dedup();
         let why: Vec<&str> = fr.reasons.iter().map(|r| r.text.as_str()).collect();
@@ -233,14 +253,20 @@ impl Explain<'_> {
             severity,
             floor: Some(fr.id.clone()),
             service: Some(self.svc.id.clone()),
-            title: format!("{} fails its acceptance test on {}", self.svc.name, self.floor_name),
+            title: format!(
+                "{} fails its acceptance test on {}",
+                self.svc.name, self.floor_name
+            ),
             detail: format!(
                 "Fails because: {}. {}. Weakest point {}. {}",
                 why.join("; "),
                 self.reached(),
                 level_text(fr.min_level_dbm, self.rf()),
                 if fr.margin_needed_db > 0.0 && fr.margin_needed_db < 999.0 {
-                    format!("About {} dB more at every point would meet the area targets.", fmt1(fr.margin_needed_db))
+                    format!(
+                        "About {} dB more at every point would meet the area targets.",
+                        fmt1(fr.margin_needed_db)
+                    )
                 } else {
                     String::new()
                 }
@@ -257,15 +283,25 @@ impl Explain<'_> {
         let (site, svc, fr) = (self.site, self.svc, self.fr);
         let thr = self.r.required.predicted_dbm;
         let floor = site.floor(&fr.id);
-        let on_floor = site.transmitters.iter().filter(|t| t.service == svc.id && t.floor == fr.id).count();
+        let on_floor = site
+            .transmitters
+            .iter()
+            .filter(|t| t.service == svc.id && t.floor == fr.id)
+            .count();
         let area = floor.map(|f| f.area_m2()).unwrap_or(0.0);
         // Coverage radius of a typical indoor antenna (15 dBm EIRP) with 15 dB of clutter
         // loss beyond free space (common practice planning figure).
         let allowed = 15.0 - thr - 15.0;
-        let r = 10f64.powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0).clamp(3.0, 60.0);
+        let r = 10f64
+            .powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0)
+            .clamp(3.0, 60.0);
         let failing = (1.0 - fr.predicted_area_fraction).max(0.0) * area;
         let n_new = ((failing / (std::f64::consts::PI * r * r * 0.6)).ceil() as usize).max(1);
-        let needed = if fr.margin_needed_db < 999.0 { format!("{} dB", fmt1(fr.margin_needed_db)) } else { "a new signal source".into() };
+        let needed = if fr.margin_needed_db < 999.0 {
+            format!("{} dB", fmt1(fr.margin_needed_db))
+        } else {
+            "a new signal source".into()
+        };
         let (title, detail) = if fr.margin_needed_db <= 6.0 && on_floor > 0 {
             (
                 format!("Raise the EIRP or add one antenna on {} for {}", self.floor_name, svc.name),
@@ -305,7 +341,11 @@ fn causes_of(w: &WorstPoint) -> Vec<String> {
         .map(|g| format!("{} x {} ({} dB)", g.count, g.name, fmt1(g.loss_db)))
         .collect();
     if w.floors_crossed > 0 {
-        parts.push(format!("{} floor slab(s) ({} dB)", w.floors_crossed, fmt1(w.floor_loss_db)));
+        parts.push(format!(
+            "{} floor slab(s) ({} dB)",
+            w.floors_crossed,
+            fmt1(w.floor_loss_db)
+        ));
     }
     if parts.is_empty() {
         causes.push(format!(
@@ -326,7 +366,10 @@ fn causes_of(w: &WorstPoint) -> Vec<String> {
     }
     for g in &w.walls {
         if g.class == "coated glazing" && g.loss_db > 10.0 {
-            causes.push("coated energy-efficient glazing reflects most of the signal that reaches it".into());
+            causes.push(
+                "coated energy-efficient glazing reflects most of the signal that reaches it"
+                    .into(),
+            );
         }
         if g.class == "metal" && g.loss_db > 10.0 {
             causes.push("metal (doors, cladding or shafts) blocks the direct path".into());
@@ -337,7 +380,12 @@ fn causes_of(w: &WorstPoint) -> Vec<String> {
 
 /// An off-air repeater fed by a roof donor, where a donor signal exists and floors fail.
 fn repeater_option(site: &Site, svc: &Service, r: &ServiceResult) -> Option<Remediation> {
-    let failing: Vec<String> = r.floors.iter().filter(|f| !f.pass).map(|f| f.id.clone()).collect();
+    let failing: Vec<String> = r
+        .floors
+        .iter()
+        .filter(|f| !f.pass)
+        .map(|f| f.id.clone())
+        .collect();
     if failing.is_empty() || !site.donors.iter().any(|d| d.service == svc.id) {
         return None;
     }
