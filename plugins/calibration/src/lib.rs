@@ -320,6 +320,99 @@ fn opt_enabled(site: &Site) -> bool {
         .unwrap_or(false)
 }
 
+/// The checked options of the calibration.
+struct CalOptions {
+    terms: Vec<Term>,
+    bounds: Vec<(f64, f64)>,
+    min_points: usize,
+    apply: bool,
+    base: String,
+}
+
+/// Reads and checks `fit`, `bounds`, `min_points`, `apply` and `model`.
+fn read_options(ctx: &Context<'_>) -> Result<CalOptions, PluginError> {
+    let site = ctx.site;
+    let bad = |key: &str, message: String| PluginError::BadOption {
+        key: key.into(),
+        message,
+    };
+    let terms: Vec<Term> = match ctx.options.get("fit") {
+        None => vec![Term::Offset],
+        Some(toml::Value::Array(a)) => a
+            .iter()
+            .map(|v| {
+                v.as_str().and_then(Term::parse).ok_or_else(|| {
+                    bad(
+                        "fit",
+                        format!("`{v}` is not `offset`, `material:<id>` or `distance-exponent`"),
+                    )
+                })
+            })
+            .collect::<Result<_, _>>()?,
+        Some(v) => {
+            return Err(bad(
+                "fit",
+                format!("expected a list, found {}", v.type_str()),
+            ))
+        }
+    };
+    for t in &terms {
+        if let Term::Material(m) = t {
+            if !site.materials_used.contains(m) {
+                return Err(bad(
+                    "fit",
+                    format!(
+                        "material `{m}` is not used on this site (used: {})",
+                        site.materials_used.join(", ")
+                    ),
+                ));
+            }
+        }
+    }
+    let min_points = ctx.option_f64("min_points", 20.0)?.max(1.0) as usize;
+    let apply = ctx.option_bool("apply", false)?;
+    let bt = ctx.options.get("bounds").and_then(|v| v.as_table());
+    let mut bounds = Vec::new();
+    for t in &terms {
+        let b = match bt.and_then(|b| b.get(&t.key())) {
+            None => t.default_bounds(),
+            Some(toml::Value::Array(a)) if a.len() == 2 => {
+                let n = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64));
+                match (n(&a[0]), n(&a[1])) {
+                    (Some(lo), Some(hi)) if lo <= hi => (lo, hi),
+                    _ => {
+                        return Err(bad(
+                            &format!("bounds.{}", t.key()),
+                            "needs [low, high] numbers, low <= high".into(),
+                        ))
+                    }
+                }
+            }
+            Some(_) => {
+                return Err(bad(
+                    &format!("bounds.{}", t.key()),
+                    "needs [low, high]".into(),
+                ))
+            }
+        };
+        bounds.push(b);
+    }
+    let base = ctx.option_str("model", "multi-wall")?;
+    if base != "multi-wall" && base != "free-space" {
+        return Err(bad(
+            "model",
+            format!("`{base}` is not a prediction model; write `multi-wall` or `free-space`"),
+        ));
+    }
+    Ok(CalOptions {
+        terms,
+        bounds,
+        min_points,
+        apply,
+        base,
+    })
+}
+
 impl Plugin for Calibration {
     fn id(&self) -> &str {
         "calibration"
@@ -347,72 +440,22 @@ impl Plugin for Calibration {
     fn applies(&self, site: &Site) -> bool {
         opt_enabled(site) && !site.transmitters.is_empty()
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec!["fit", "bounds", "min_points", "apply", "model"])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
+        rfsite_plugin::check::problems_of(read_options(ctx))
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let mut out = PluginOutput::default();
-        let bad = |key: &str, message: String| PluginError::BadOption {
-            key: key.into(),
-            message,
-        };
-        let terms: Vec<Term> = match ctx.options.get("fit") {
-            None => vec![Term::Offset],
-            Some(toml::Value::Array(a)) => a
-                .iter()
-                .map(|v| {
-                    v.as_str().and_then(Term::parse).ok_or_else(|| {
-                        bad(
-                            "fit",
-                            format!(
-                                "`{v}` is not `offset`, `material:<id>` or `distance-exponent`"
-                            ),
-                        )
-                    })
-                })
-                .collect::<Result<_, _>>()?,
-            Some(v) => {
-                return Err(bad(
-                    "fit",
-                    format!("expected a list, found {}", v.type_str()),
-                ))
-            }
-        };
-        for t in &terms {
-            if let Term::Material(m) = t {
-                if !site.materials_used.contains(m) {
-                    return Err(bad(
-                        "fit",
-                        format!(
-                            "material `{m}` is not used on this site (used: {})",
-                            site.materials_used.join(", ")
-                        ),
-                    ));
-                }
-            }
-        }
-        let min_points = ctx.option_f64("min_points", 20.0)?.max(1.0) as usize;
-        let apply = ctx.option_bool("apply", false)?;
-        let bt = ctx.options.get("bounds").and_then(|v| v.as_table());
-        let mut bounds = Vec::new();
-        for t in &terms {
-            let b = match bt.and_then(|b| b.get(&t.key())) {
-                None => t.default_bounds(),
-                Some(toml::Value::Array(a)) if a.len() == 2 => {
-                    let n = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64));
-                    match (n(&a[0]), n(&a[1])) {
-                        (Some(lo), Some(hi)) if lo <= hi => (lo, hi),
-                        _ => {
-                            return Err(bad(
-                                "bounds",
-                                format!("`{}` needs [low, high] numbers, low <= high", t.key()),
-                            ))
-                        }
-                    }
-                }
-                Some(_) => return Err(bad("bounds", format!("`{}` needs [low, high]", t.key()))),
-            };
-            bounds.push(b);
-        }
-        let base = ctx.option_str("model", "multi-wall")?;
+        let CalOptions {
+            terms,
+            bounds,
+            min_points,
+            apply,
+            base,
+        } = read_options(ctx)?;
         let layers = ctx.layers_of(&base);
         if layers.is_empty() {
             out.warnings.push(Warning {
