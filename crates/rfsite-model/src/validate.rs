@@ -253,7 +253,7 @@ fn storey_warnings(v: &mut V<'_>, raw: &[S<RawFloor>], floors: &[Floor]) {
 /// direction in 0…360°.
 fn donor_angles(v: &mut V<'_>, d: &RawDonor, what: &str) {
     if let Some(e) = &d.elevation_deg {
-        if !(e.get_ref().abs() <= 90.0) {
+        if !(-90.0..=90.0).contains(e.get_ref()) {
             v.error(
                 e.span(),
                 format!("{what}: `elevation_deg` {} is not an elevation angle", e.get_ref()),
