@@ -9,8 +9,13 @@
 //! `m` (dB) times `k_m`, the number of crossings of that material on the path from the
 //! point's best server (counted with the multi-wall scene's crossing machinery), and `dn`
 //! a change of the distance exponent over the 3D path length `d` (m). Bounds are honoured
-//! by holding a parameter that leaves them at its bound and refitting the others.
-//! Standard errors come from sigma^2 (X^T X)^-1 with sigma^2 = RSS / (n - p).
+//! exactly: the fit is the bounded optimum by bounded-variable least squares ([`bvls`](mod@bvls),
+//! Stark & Parker 1995), which frees a parameter again when holding it no longer pays
+//! (clamping or holding the worst violator misses the optimum when two bounds bind).
+//! A term no measured path informs, or one the paths cannot separate from the others, is
+//! held (at 0, or the bound nearest it) and named in a warning. Standard errors come from
+//! sigma^2 (X_F^T X_F)^-1 over the fitted terms F, sigma^2 = RSS / (n - |F|).
+//! A service without usable survey points is named in a warning, never silently skipped.
 //!
 //! With `apply = true` it re-predicts every layer with the fitted values as model
 //! `calibrated`, which the grading plugin then grades.
@@ -35,7 +40,10 @@ use rfsite_plugin_multi_wall::Scene;
 use rfsite_plugin_survey_compare::Interp;
 use serde::Serialize;
 
+pub mod bvls;
 pub mod lstsq;
+pub mod qr;
+pub use bvls::{bvls, BvlsError, VarState};
 pub use lstsq::{bounded_lstsq, lstsq, Fit};
 
 /// The calibration plugin.
@@ -192,14 +200,16 @@ pub struct ServiceFit {
     pub points: usize,
     /// Points without a prediction or best server.
     pub skipped: usize,
-    /// Terms fitted (after dropping unidentifiable ones).
+    /// Terms asked for.
     pub terms: Vec<Term>,
-    /// Fitted values.
+    /// Fitted values (a term not fitted keeps the point of its bounds nearest 0).
     pub values: Vec<f64>,
-    /// Standard errors (NaN at a bound).
+    /// Standard errors (NaN when not fitted).
     pub std_errors: Vec<f64>,
     /// Bounds.
     pub bounds: Vec<(f64, f64)>,
+    /// Where each term ended: fitted, at a bound, not informed, not separable.
+    pub state: Vec<VarState>,
     /// Held at a bound.
     pub at_bound: Vec<bool>,
     /// Residual mean, std, RMS before, dB.
@@ -208,11 +218,31 @@ pub struct ServiceFit {
     pub after: (f64, f64, f64),
     /// sqrt(RSS / dof), dB.
     pub sigma_db: f64,
-    /// Notes (dropped terms).
+    /// Free subproblems the bounded solver solved.
+    pub steps: usize,
+    /// Notes for the user (terms not fitted, and why).
     pub notes: Vec<String>,
 }
 
-/// Fits `terms` to observations, dropping terms no observation informs.
+/// What the user is told about a term the data cannot fit.
+fn state_note(t: &Term, st: VarState, v: f64) -> Option<String> {
+    let why = match st {
+        VarState::Uninformed => "no measured path crosses it",
+        VarState::Dependent => {
+            "the measured paths cannot tell it apart from the other fitted terms (e.g. every path crosses it the same number of times)"
+        }
+        _ => return None,
+    };
+    Some(format!(
+        "`{}` not fitted: {why}; held at {} {} (no change from the model, or the bound nearest it)",
+        t.key(),
+        f2(v),
+        t.unit()
+    ))
+}
+
+/// Fits `terms` to observations by bounded-variable least squares; a term no observation
+/// informs, or one the observations cannot separate from the others, is held and noted.
 pub fn fit_terms(
     service: &str,
     obs: &[(PathInfo, f64)],
@@ -220,44 +250,35 @@ pub fn fit_terms(
     terms: &[Term],
     bounds: &[(f64, f64)],
 ) -> Result<ServiceFit, String> {
-    let mut notes = Vec::new();
-    let mut keep = Vec::new();
-    for (t, b) in terms.iter().zip(bounds) {
-        let used = obs
-            .iter()
-            .any(|(i, _)| design_row(std::slice::from_ref(t), i)[0] != 0.0);
-        if used {
-            keep.push((t.clone(), *b));
-        } else {
-            notes.push(format!(
-                "`{}` not fitted: no measured path crosses it",
-                t.key()
-            ));
-        }
-    }
-    let ts: Vec<Term> = keep.iter().map(|k| k.0.clone()).collect();
-    let x: Vec<Vec<f64>> = obs.iter().map(|(i, _)| design_row(&ts, i)).collect();
+    let x: Vec<Vec<f64>> = obs.iter().map(|(i, _)| design_row(terms, i)).collect();
     let y: Vec<f64> = obs.iter().map(|o| o.1).collect();
-    let lo: Vec<f64> = keep.iter().map(|k| k.1 .0).collect();
-    let hi: Vec<f64> = keep.iter().map(|k| k.1 .1).collect();
-    let f = bounded_lstsq(&x, &y, &lo, &hi)?;
+    let lo: Vec<f64> = bounds.iter().map(|b| b.0).collect();
+    let hi: Vec<f64> = bounds.iter().map(|b| b.1).collect();
+    let f = bounded_lstsq(&x, &y, &lo, &hi).map_err(|e| e.to_string())?;
     let after: Vec<f64> = x
         .iter()
         .zip(&y)
         .map(|(r, yy)| yy - r.iter().zip(&f.beta).map(|(a, b)| a * b).sum::<f64>())
         .collect();
+    let notes = terms
+        .iter()
+        .zip(f.state.iter().zip(&f.beta))
+        .filter_map(|(t, (st, v))| state_note(t, *st, *v))
+        .collect();
     Ok(ServiceFit {
         service: service.into(),
         points: obs.len(),
         skipped,
-        terms: ts,
+        terms: terms.to_vec(),
         values: f.beta.clone(),
         std_errors: f.se.clone(),
-        bounds: keep.iter().map(|k| k.1).collect(),
+        bounds: bounds.to_vec(),
+        state: f.state.clone(),
         at_bound: f.at_bound.clone(),
         before: moments(&y),
         after: moments(&after),
         sigma_db: f.sigma,
+        steps: f.steps,
         notes,
     })
 }
@@ -312,12 +333,70 @@ fn f2(x: f64) -> String {
     }
 }
 
+/// The standard-error cell of the parameter table.
+fn se_cell(st: VarState, se: f64) -> String {
+    match st {
+        VarState::Free => format!("± {}", f2(se)),
+        VarState::AtLower | VarState::AtUpper => "at bound".into(),
+        VarState::Uninformed => "not informed".into(),
+        VarState::Dependent => "not separable".into(),
+    }
+}
+
+fn state_key(st: VarState) -> &'static str {
+    match st {
+        VarState::Free => "fitted",
+        VarState::AtLower => "at_lower_bound",
+        VarState::AtUpper => "at_upper_bound",
+        VarState::Uninformed => "not_informed",
+        VarState::Dependent => "not_separable",
+    }
+}
+
 fn opt_enabled(site: &Site) -> bool {
     site.plugin_options
         .get("calibration")
         .and_then(|t| t.get("enabled"))
         .and_then(|v| v.as_bool())
         .unwrap_or(false)
+}
+
+/// Observations and fit of one service; Err says why it was not calibrated.
+fn fit_service(
+    ctx: &Context<'_>,
+    scene: &Scene,
+    layers: &[&CoverageLayer],
+    service: &str,
+    terms: &[Term],
+    bounds: &[(f64, f64)],
+    min_points: usize,
+) -> Result<ServiceFit, String> {
+    let pts: Vec<&Measurement> = ctx
+        .surveys
+        .points
+        .iter()
+        .filter(|m| m.service == service)
+        .collect();
+    if pts.is_empty() {
+        return Err("no survey point was measured for this service".into());
+    }
+    let ls: Vec<&CoverageLayer> = layers
+        .iter()
+        .copied()
+        .filter(|l| l.service == service)
+        .collect();
+    if ls.is_empty() {
+        return Err("no prediction to compare the survey with".into());
+    }
+    let (obs, skipped) = observations(ctx.site, scene, &ls, &pts);
+    if obs.len() < min_points {
+        return Err(format!(
+            "{} usable survey points of {} ({skipped} without a prediction or best server), fewer than min_points = {min_points}",
+            obs.len(),
+            pts.len()
+        ));
+    }
+    fit_terms(service, &obs, skipped, terms, bounds)
 }
 
 impl Plugin for Calibration {
@@ -329,9 +408,10 @@ impl Plugin for Calibration {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "Per service, linear least squares of measured - predicted on a constant offset, per-material changes of the per-crossing loss (times the crossings of that material on the best-server path) and a distance-exponent change (times 10 log10 d), with bounds (held at the bound and refitted); standard errors from sigma^2 (X^T X)^-1".into(),
+            summary: "Per service, linear least squares of measured - predicted on a constant offset, per-material changes of the per-crossing loss (times the crossings of that material on the best-server path) and a distance-exponent change (times 10 log10 d), within bounds by bounded-variable least squares (the bounded optimum; a term no path informs, or one the paths cannot separate, is held and reported); standard errors from sigma^2 (X_F^T X_F)^-1 over the fitted terms".into(),
             citations: vec![
                 "Linear least squares and its covariance sigma^2 (X^T X)^-1 (textbook); checked against numpy.linalg.lstsq".into(),
+                "Stark & Parker, Bounded-variable least-squares: an algorithm and applications, Computational Statistics 10 (1995) 129-141; checked against scipy.optimize.lsq_linear(method=\"bvls\")".into(),
                 "COST 231 Final Report (1999), section 4.7: wall losses as fitted parameters of the multi-wall model".into(),
             ],
             validity: "meaningful with many points spread over paths that cross each fitted material differently; the fit absorbs survey bias (antenna, body loss) into the offset".into(),
@@ -423,27 +503,9 @@ impl Plugin for Calibration {
         }
         let scene = scene_for(site);
         let mut fits = Vec::new();
+        let mut not_calibrated = Vec::new();
         for svc in &site.services {
-            let pts: Vec<&Measurement> = ctx
-                .surveys
-                .points
-                .iter()
-                .filter(|m| m.service == svc.id)
-                .collect();
-            let ls: Vec<&CoverageLayer> = layers
-                .iter()
-                .copied()
-                .filter(|l| l.service == svc.id)
-                .collect();
-            if pts.is_empty() || ls.is_empty() {
-                continue;
-            }
-            let (obs, skipped) = observations(site, &scene, &ls, &pts);
-            if obs.len() < min_points {
-                out.warnings.push(Warning { plugin: self.id().into(), message: format!("service `{}`: {} usable survey points, fewer than min_points = {min_points}: not calibrated", svc.id, obs.len()) });
-                continue;
-            }
-            match fit_terms(&svc.id, &obs, skipped, &terms, &bounds) {
+            match fit_service(ctx, &scene, &layers, &svc.id, &terms, &bounds, min_points) {
                 Ok(f) => {
                     for n in &f.notes {
                         out.warnings.push(Warning {
@@ -453,12 +515,28 @@ impl Plugin for Calibration {
                     }
                     fits.push(f);
                 }
-                Err(e) => out.warnings.push(Warning {
-                    plugin: self.id().into(),
-                    message: format!("service `{}`: not calibrated: {e}", svc.id),
-                }),
+                Err(why) => {
+                    out.warnings.push(Warning {
+                        plugin: self.id().into(),
+                        message: format!("service `{}`: not calibrated: {why}", svc.id),
+                    });
+                    not_calibrated.push(serde_json::json!({"service": svc.id, "reason": why}));
+                }
             }
         }
+        if fits.is_empty() {
+            out.warnings.push(Warning {
+                plugin: self.id().into(),
+                message: format!(
+                    "calibration is enabled but no service was calibrated ({} survey points in all; the reason per service is listed): the `{base}` prediction stands uncalibrated",
+                    ctx.surveys.points.len()
+                ),
+            });
+        }
+        out.extra.insert(
+            "not_calibrated".into(),
+            serde_json::Value::Array(not_calibrated),
+        );
         // Tables.
         let name = |sid: &str| {
             site.service(sid)
@@ -504,11 +582,7 @@ impl Plugin for Calibration {
                     name(&f.service),
                     desc,
                     format!("{} {}", f2(f.values[i]), t.unit()),
-                    if f.at_bound[i] {
-                        "at bound".into()
-                    } else {
-                        format!("± {}", f2(f.std_errors[i]))
-                    },
+                    se_cell(f.state[i], f.std_errors[i]),
                     format!("[{}, {}]", f1(f.bounds[i].0), f1(f.bounds[i].1)),
                     base_v,
                     new_v,
@@ -571,11 +645,12 @@ impl Plugin for Calibration {
                     "service": f.service, "points": f.points, "skipped": f.skipped,
                     "parameters": f.terms.iter().enumerate().map(|(i, t)| serde_json::json!({
                         "name": t.key(), "value": f.values[i], "std_error": if f.std_errors[i].is_finite() { Some(f.std_errors[i]) } else { None },
-                        "bounds": [f.bounds[i].0, f.bounds[i].1], "at_bound": f.at_bound[i],
+                        "bounds": [f.bounds[i].0, f.bounds[i].1], "at_bound": f.at_bound[i], "state": state_key(f.state[i]),
                     })).collect::<Vec<_>>(),
                     "residual_before": {"mean_db": f.before.0, "std_db": f.before.1, "rms_db": f.before.2},
                     "residual_after": {"mean_db": f.after.0, "std_db": f.after.1, "rms_db": f.after.2},
                     "sigma_db": f.sigma_db,
+                    "solver_steps": f.steps,
                     "convention": "residual = measured - predicted; level += offset - sum(crossings * material change) - change * 10 log10(d)",
                 })
             })
@@ -608,7 +683,7 @@ impl Plugin for Calibration {
                     -o + dn * 10.0 * d.log10()
                 },
             );
-            out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters".into() });
+            out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters (a service not calibrated keeps the multi-wall values)".into() });
         }
         Ok(out)
     }
