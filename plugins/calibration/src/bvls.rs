@@ -414,9 +414,11 @@ mod tests {
         let s = bvls(&a, &b, &[-5.0, 1.0, -5.0, -5.0], &[5.0, 3.0, 5.0, 5.0]).unwrap();
         assert_eq!(s.state[1], VarState::Uninformed);
         assert_eq!(s.x[1], 1.0, "held at the box point nearest 0");
-        assert!(s.state.contains(&VarState::Dependent));
-        // The fit itself is exact: x0 - x2 = 2, x3 = 0.5 (hand arithmetic).
-        assert!((s.x[0] - s.x[2] - 2.0).abs() < 1e-12 && (s.x[3] - 0.5).abs() < 1e-12);
+        // Column 2 cannot be told from column 0; the earlier one is fitted, column 2 keeps
+        // its start value 0. The fit is exact: x0 = 2, x3 = 0.5 (hand arithmetic).
+        assert_eq!(s.state[2], VarState::Dependent);
+        assert_eq!(s.x[2], 0.0);
+        assert!((s.x[0] - 2.0).abs() < 1e-12 && (s.x[3] - 0.5).abs() < 1e-12);
         assert!(s.rss < 1e-20);
     }
 
