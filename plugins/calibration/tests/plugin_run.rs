@@ -1,5 +1,7 @@
-//! Calibration enabled without a usable survey point must tell the user (a warning per
-//! service and one overall), never return a silently empty result.
+//! The plugin's run on a small site loaded from TOML: calibration enabled without a usable
+//! survey point must tell the user (a warning per service and one overall), never return a
+//! silently empty result; a known offset is recovered from points made from the
+//! prediction itself; a term the paths cannot separate is named.
 
 use rfsite_model::{MaterialLibrary, SourceFile};
 use rfsite_plugin::{Context, Measurement, Plugin, PluginOutput, SurveyData};
@@ -77,6 +79,35 @@ fn run(surveys: &SurveyData) -> PluginOutput {
     Calibration.run(&ctx).expect("runs")
 }
 
+/// Survey points at grid nodes of the prediction, `offset` dB above it, where `keep` says.
+fn points_from_prediction(offset: f64, keep: impl Fn(f64) -> bool) -> SurveyData {
+    let file = SourceFile::new("no-survey/site.toml".to_string(), SITE.to_string());
+    let site = rfsite_model::load(&file, &MaterialLibrary::builtin())
+        .site
+        .unwrap();
+    let layer = predict(&site, "multi-wall", &scene_for(&site)).remove(0);
+    let g = layer.grid.to_grid();
+    let points = (0..g.len())
+        .filter(|&i| {
+            let p = g.point(i);
+            layer.level_dbm[i].is_finite() && (p.x - 10.0).abs() > 0.6 && keep(p.x)
+        })
+        .map(|i| Measurement {
+            floor: "L1".into(),
+            service: "s900".into(),
+            x_m: g.point(i).x,
+            y_m: g.point(i).y,
+            level_dbm: layer.level_dbm[i] as f64 + offset,
+            file: "walk.csv".into(),
+            line: i + 2,
+        })
+        .collect();
+    SurveyData {
+        points,
+        ..Default::default()
+    }
+}
+
 fn messages(o: &PluginOutput) -> Vec<&str> {
     o.warnings.iter().map(|w| w.message.as_str()).collect()
 }
@@ -123,4 +154,37 @@ fn survey_points_off_every_floor_are_a_warning() {
         "{m:?}"
     );
     assert!(m.iter().any(|w| w.contains("no service was calibrated")));
+}
+
+#[test]
+fn a_known_offset_is_recovered() {
+    // Measured = predicted + 3 dB on both sides of the partition (synthetic, exact): the
+    // fit must find offset 3 and no change of the partition (construction).
+    let o = run(&points_from_prediction(3.0, |_| true));
+    let p = &o.extra["services"][0]["parameters"];
+    assert!((p[0]["value"].as_f64().unwrap() - 3.0).abs() < 1e-6, "{p}");
+    assert!(p[1]["value"].as_f64().unwrap().abs() < 1e-6, "{p}");
+    assert_eq!(
+        (p[0]["state"].as_str(), p[1]["state"].as_str()),
+        (Some("fitted"), Some("fitted"))
+    );
+    assert!(o.tables.iter().any(|t| t.id == "calibration-parameters"));
+    assert!(!messages(&o).iter().any(|w| w.contains("not calibrated")));
+}
+
+#[test]
+fn an_inseparable_term_is_named() {
+    // Every point beyond the partition: each path crosses it exactly once, so its change
+    // cannot be told from the offset; the offset (listed first) takes the 3 dB.
+    let o = run(&points_from_prediction(3.0, |x| x > 10.0));
+    let m = messages(&o);
+    assert!(
+        m.iter().any(|w| w.contains(
+            "`material:plasterboard-partition` not fitted: the measured paths cannot tell it apart"
+        )),
+        "{m:?}"
+    );
+    let p = &o.extra["services"][0]["parameters"];
+    assert_eq!(p[1]["state"], "not_separable");
+    assert!((p[0]["value"].as_f64().unwrap() - 3.0).abs() < 1e-6, "{p}");
 }
