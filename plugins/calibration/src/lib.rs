@@ -33,7 +33,6 @@ use std::collections::BTreeMap;
 
 use rfsite_geometry::Point2;
 use rfsite_model::Site;
-use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 use rfsite_plugin_free_space::{PathLoss, P3};
 use rfsite_plugin_multi_wall::Scene;
@@ -42,7 +41,9 @@ use serde::Serialize;
 
 pub mod bvls;
 pub mod lstsq;
+mod options;
 pub mod qr;
+mod tables;
 pub use bvls::{bvls, BvlsError, VarState};
 pub use lstsq::{bounded_lstsq, lstsq, Fit};
 
@@ -236,7 +237,7 @@ fn state_note(t: &Term, st: VarState, v: f64) -> Option<String> {
     Some(format!(
         "`{}` not fitted: {why}; held at {} {} (no change from the model, or the bound nearest it)",
         t.key(),
-        f2(v),
+        tables::f2(v),
         t.unit()
     ))
 }
@@ -317,42 +318,6 @@ impl PathLoss for Calibrated<'_> {
     }
 }
 
-fn f1(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.1}")
-    } else {
-        "n/a".into()
-    }
-}
-
-fn f2(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.2}")
-    } else {
-        "—".into()
-    }
-}
-
-/// The standard-error cell of the parameter table.
-fn se_cell(st: VarState, se: f64) -> String {
-    match st {
-        VarState::Free => format!("± {}", f2(se)),
-        VarState::AtLower | VarState::AtUpper => "at bound".into(),
-        VarState::Uninformed => "not informed".into(),
-        VarState::Dependent => "not separable".into(),
-    }
-}
-
-fn state_key(st: VarState) -> &'static str {
-    match st {
-        VarState::Free => "fitted",
-        VarState::AtLower => "at_lower_bound",
-        VarState::AtUpper => "at_upper_bound",
-        VarState::Uninformed => "not_informed",
-        VarState::Dependent => "not_separable",
-    }
-}
-
 fn opt_enabled(site: &Site) -> bool {
     site.plugin_options
         .get("calibration")
@@ -430,75 +395,19 @@ impl Plugin for Calibration {
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let mut out = PluginOutput::default();
-        let bad = |key: &str, message: String| PluginError::BadOption {
-            key: key.into(),
-            message,
-        };
-        let terms: Vec<Term> = match ctx.options.get("fit") {
-            None => vec![Term::Offset],
-            Some(toml::Value::Array(a)) => a
-                .iter()
-                .map(|v| {
-                    v.as_str().and_then(Term::parse).ok_or_else(|| {
-                        bad(
-                            "fit",
-                            format!(
-                                "`{v}` is not `offset`, `material:<id>` or `distance-exponent`"
-                            ),
-                        )
-                    })
-                })
-                .collect::<Result<_, _>>()?,
-            Some(v) => {
-                return Err(bad(
-                    "fit",
-                    format!("expected a list, found {}", v.type_str()),
-                ))
-            }
-        };
-        for t in &terms {
-            if let Term::Material(m) = t {
-                if !site.materials_used.contains(m) {
-                    return Err(bad(
-                        "fit",
-                        format!(
-                            "material `{m}` is not used on this site (used: {})",
-                            site.materials_used.join(", ")
-                        ),
-                    ));
-                }
-            }
-        }
+        let terms = options::terms(ctx.options, site)?;
+        let bounds = options::bounds(ctx.options, &terms)?;
         let min_points = ctx.option_f64("min_points", 20.0)?.max(1.0) as usize;
         let apply = ctx.option_bool("apply", false)?;
-        let bt = ctx.options.get("bounds").and_then(|v| v.as_table());
-        let mut bounds = Vec::new();
-        for t in &terms {
-            let b = match bt.and_then(|b| b.get(&t.key())) {
-                None => t.default_bounds(),
-                Some(toml::Value::Array(a)) if a.len() == 2 => {
-                    let n = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64));
-                    match (n(&a[0]), n(&a[1])) {
-                        (Some(lo), Some(hi)) if lo <= hi => (lo, hi),
-                        _ => {
-                            return Err(bad(
-                                "bounds",
-                                format!("`{}` needs [low, high] numbers, low <= high", t.key()),
-                            ))
-                        }
-                    }
-                }
-                Some(_) => return Err(bad("bounds", format!("`{}` needs [low, high]", t.key()))),
-            };
-            bounds.push(b);
-        }
         let base = ctx.option_str("model", "multi-wall")?;
+        let warn = |message: String| Warning {
+            plugin: "calibration".into(),
+            message,
+        };
         let layers = ctx.layers_of(&base);
         if layers.is_empty() {
-            out.warnings.push(Warning {
-                plugin: self.id().into(),
-                message: format!("no `{base}` layers to calibrate"),
-            });
+            out.warnings
+                .push(warn(format!("no `{base}` layers to calibrate")));
             return Ok(out);
         }
         let scene = scene_for(site);
@@ -507,184 +416,62 @@ impl Plugin for Calibration {
         for svc in &site.services {
             match fit_service(ctx, &scene, &layers, &svc.id, &terms, &bounds, min_points) {
                 Ok(f) => {
-                    for n in &f.notes {
-                        out.warnings.push(Warning {
-                            plugin: self.id().into(),
-                            message: format!("service `{}`: {n}", svc.id),
-                        });
-                    }
+                    let notes = f.notes.iter();
+                    out.warnings
+                        .extend(notes.map(|n| warn(format!("service `{}`: {n}", svc.id))));
                     fits.push(f);
                 }
                 Err(why) => {
-                    out.warnings.push(Warning {
-                        plugin: self.id().into(),
-                        message: format!("service `{}`: not calibrated: {why}", svc.id),
-                    });
+                    out.warnings
+                        .push(warn(format!("service `{}`: not calibrated: {why}", svc.id)));
                     not_calibrated.push(serde_json::json!({"service": svc.id, "reason": why}));
                 }
             }
         }
         if fits.is_empty() {
-            out.warnings.push(Warning {
-                plugin: self.id().into(),
-                message: format!(
-                    "calibration is enabled but no service was calibrated ({} survey points in all; the reason per service is listed): the `{base}` prediction stands uncalibrated",
-                    ctx.surveys.points.len()
-                ),
-            });
+            out.warnings.push(warn(format!(
+                "calibration is enabled but no service was calibrated ({} survey points in all; the reason per service is listed): the `{base}` prediction stands uncalibrated",
+                ctx.surveys.points.len()
+            )));
+        } else {
+            out.tables = tables::tables(site, &fits);
         }
         out.extra.insert(
             "not_calibrated".into(),
             serde_json::Value::Array(not_calibrated),
         );
-        // Tables.
-        let name = |sid: &str| {
-            site.service(sid)
-                .map(|s| s.name.clone())
-                .unwrap_or_else(|| sid.to_string())
-        };
-        let base_loss = |svc: &str, m: &str| -> Option<f64> {
-            let s = site.service(svc)?;
-            let mat = site.materials.get(m)?;
-            let t = site
-                .floors
-                .iter()
-                .flat_map(|f| f.parts.iter())
-                .find(|p| p.material == m)
-                .map(|p| p.thickness_m)
-                .unwrap_or(0.1);
-            Some(
-                mat.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te)
-                    .loss_db,
-            )
-        };
-        let mut rows = Vec::new();
-        for f in &fits {
-            for (i, t) in f.terms.iter().enumerate() {
-                let (desc, base_v, new_v) = match t {
-                    Term::Offset => ("constant offset".to_string(), String::new(), String::new()),
-                    Term::Material(m) => {
-                        let b = base_loss(&f.service, m);
-                        (
-                            format!("loss per crossing of {m}"),
-                            b.map(f1).unwrap_or_default(),
-                            b.map(|b| f1((b + f.values[i]).max(0.0)))
-                                .unwrap_or_default(),
-                        )
-                    }
-                    Term::DistanceExponent => (
-                        "distance exponent change".into(),
-                        "2.0 (free space)".into(),
-                        f2(2.0 + f.values[i]),
-                    ),
-                };
-                rows.push(vec![
-                    name(&f.service),
-                    desc,
-                    format!("{} {}", f2(f.values[i]), t.unit()),
-                    se_cell(f.state[i], f.std_errors[i]),
-                    format!("[{}, {}]", f1(f.bounds[i].0), f1(f.bounds[i].1)),
-                    base_v,
-                    new_v,
-                ]);
-            }
-        }
-        if !fits.is_empty() {
-            out.tables.push(Table {
-                id: "calibration-parameters".into(),
-                title:
-                    "Calibration: fitted parameters (change from the model, standard error 1 sigma)"
-                        .into(),
-                columns: vec![
-                    "Service".into(),
-                    "Parameter".into(),
-                    "Fitted change".into(),
-                    "Std error".into(),
-                    "Bounds".into(),
-                    "Model dB".into(),
-                    "Calibrated dB".into(),
-                ],
-                rows,
-            });
-            out.tables.push(Table {
-                id: "calibration-residuals".into(),
-                title: "Calibration: residual measured - predicted before and after (dB)".into(),
-                columns: vec![
-                    "Service".into(),
-                    "Points".into(),
-                    "Mean before".into(),
-                    "Std before".into(),
-                    "RMS before".into(),
-                    "Mean after".into(),
-                    "Std after".into(),
-                    "RMS after".into(),
-                    "Fit sigma".into(),
-                ],
-                rows: fits
-                    .iter()
-                    .map(|f| {
-                        vec![
-                            name(&f.service),
-                            f.points.to_string(),
-                            f1(f.before.0),
-                            f1(f.before.1),
-                            f1(f.before.2),
-                            f1(f.after.0),
-                            f1(f.after.1),
-                            f1(f.after.2),
-                            f1(f.sigma_db),
-                        ]
-                    })
-                    .collect(),
-            });
-        }
-        let extra: Vec<serde_json::Value> = fits
-            .iter()
-            .map(|f| {
-                serde_json::json!({
-                    "service": f.service, "points": f.points, "skipped": f.skipped,
-                    "parameters": f.terms.iter().enumerate().map(|(i, t)| serde_json::json!({
-                        "name": t.key(), "value": f.values[i], "std_error": if f.std_errors[i].is_finite() { Some(f.std_errors[i]) } else { None },
-                        "bounds": [f.bounds[i].0, f.bounds[i].1], "at_bound": f.at_bound[i], "state": state_key(f.state[i]),
-                    })).collect::<Vec<_>>(),
-                    "residual_before": {"mean_db": f.before.0, "std_db": f.before.1, "rms_db": f.before.2},
-                    "residual_after": {"mean_db": f.after.0, "std_db": f.after.1, "rms_db": f.after.2},
-                    "sigma_db": f.sigma_db,
-                    "solver_steps": f.steps,
-                    "convention": "residual = measured - predicted; level += offset - sum(crossings * material change) - change * 10 log10(d)",
-                })
-            })
-            .collect();
-        out.extra
-            .insert("services".into(), serde_json::Value::Array(extra));
+        out.extra.insert(
+            "services".into(),
+            fits.iter().map(tables::extra_json).collect(),
+        );
         out.extra
             .insert("applied".into(), (apply && !fits.is_empty()).into());
         if apply && !fits.is_empty() {
-            let mut scene = scene_for(site);
-            let mut st = vec![(0.0, 0.0); site.services.len()];
-            for f in &fits {
-                let Some(si) = site.services.iter().position(|s| s.id == f.service) else {
-                    continue;
-                };
-                for (i, t) in f.terms.iter().enumerate() {
-                    match t {
-                        Term::Offset => st[si].0 = f.values[i],
-                        Term::DistanceExponent => st[si].1 = f.values[i],
-                        Term::Material(m) => scene.adjust_material(site, si, m, f.values[i]),
-                    }
-                }
-            }
-            out.layers = rfsite_plugin_multi_wall::predict_grid_adjusted(
-                site,
-                "calibrated",
-                &scene,
-                &|si, d| {
-                    let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
-                    -o + dn * 10.0 * d.log10()
-                },
-            );
-            out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters (a service not calibrated keeps the multi-wall values)".into() });
+            out.layers = apply_fits(site, &fits);
+            out.warnings.push(warn("maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters (a service not calibrated keeps the multi-wall values)".into()));
         }
         Ok(out)
     }
+}
+
+/// Re-predicts every layer with the fitted values, as model `calibrated`.
+fn apply_fits(site: &Site, fits: &[ServiceFit]) -> Vec<CoverageLayer> {
+    let mut scene = scene_for(site);
+    let mut st = vec![(0.0, 0.0); site.services.len()];
+    for f in fits {
+        let Some(si) = site.services.iter().position(|s| s.id == f.service) else {
+            continue;
+        };
+        for (t, v) in f.terms.iter().zip(&f.values) {
+            match t {
+                Term::Offset => st[si].0 = *v,
+                Term::DistanceExponent => st[si].1 = *v,
+                Term::Material(m) => scene.adjust_material(site, si, m, *v),
+            }
+        }
+    }
+    rfsite_plugin_multi_wall::predict_grid_adjusted(site, "calibrated", &scene, &|si, d| {
+        let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
+        -o + dn * 10.0 * d.log10()
+    })
 }
