@@ -60,7 +60,10 @@ pub fn bounds(options: &toml::Table, terms: &[Term]) -> Result<Vec<(f64, f64)>, 
             Some(toml::Value::Array(a)) if a.len() == 2 => pair(&a[0], &a[1]).ok_or_else(|| {
                 bad(
                     "bounds",
-                    format!("`{}` needs [low, high] numbers, low <= high", t.key()),
+                    format!(
+                        "`{}` needs [low, high] numbers, low <= high (e.g. [-10, 10])",
+                        t.key()
+                    ),
                 )
             }),
             Some(_) => Err(bad("bounds", format!("`{}` needs [low, high]", t.key()))),
@@ -71,7 +74,38 @@ pub fn bounds(options: &toml::Table, terms: &[Term]) -> Result<Vec<(f64, f64)>, 
 fn pair(lo: &toml::Value, hi: &toml::Value) -> Option<(f64, f64)> {
     let n = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64));
     match (n(lo), n(hi)) {
-        (Some(lo), Some(hi)) if lo <= hi => Some((lo, hi)),
+        // NaN fails `lo <= hi`; an infinite bound is allowed only on its own side.
+        (Some(lo), Some(hi)) if lo <= hi && lo < f64::INFINITY && hi > f64::NEG_INFINITY => {
+            Some((lo, hi))
+        }
         _ => None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn table(s: &str) -> toml::Table {
+        s.parse().unwrap()
+    }
+
+    #[test]
+    fn bounds_are_checked() {
+        let t = [Term::Offset];
+        let ok = bounds(&table("bounds = { offset = [-3, 5.5] }"), &t).unwrap();
+        assert_eq!(ok, vec![(-3.0, 5.5)]);
+        assert_eq!(bounds(&table(""), &t).unwrap(), vec![(-20.0, 20.0)]);
+        for bad in [
+            "bounds = { offset = [5, -3] }",
+            "bounds = { offset = [nan, 1] }",
+            "bounds = { offset = [inf, inf] }",
+            "bounds = { offset = [1] }",
+            "bounds = { offset = \"wide\" }",
+        ] {
+            assert!(bounds(&table(bad), &t).is_err(), "{bad}");
+        }
+        let open = bounds(&table("bounds = { offset = [-inf, 2] }"), &t).unwrap();
+        assert_eq!(open, vec![(f64::NEG_INFINITY, 2.0)]);
     }
 }
