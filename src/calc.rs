@@ -69,12 +69,23 @@ pub enum What {
     /// Compliance distance from EIRP against an exposure limit.
     #[command(allow_negative_numbers = true)]
     Exposure {
+        /// EIRP in watts (or give --eirp-dbm).
+        #[arg(
+            long,
+            required_unless_present = "eirp_dbm",
+            conflicts_with = "eirp_dbm"
+        )]
+        eirp_w: Option<f64>,
+        /// EIRP in dBm (or give --eirp-w).
         #[arg(long)]
-        eirp_w: f64,
+        eirp_dbm: Option<f64>,
         #[arg(long)]
         freq_mhz: f64,
         #[arg(long)]
         limit: String,
+        /// Largest dimension of the antenna, m, for the Fraunhofer distance 2 D²/λ.
+        #[arg(long)]
+        antenna_size_m: Option<f64>,
     },
     /// Field strength from received power (isotropic antenna).
     #[command(allow_negative_numbers = true)]
@@ -262,17 +273,11 @@ fn compute(w: &What) -> Result<Value, String> {
         }
         What::Exposure {
             eirp_w,
+            eirp_dbm,
             freq_mhz,
             limit,
-        } => {
-            positive("eirp-w", *eirp_w)?;
-            positive("freq-mhz", *freq_mhz)?;
-            let lim = exposure::ExposureLimit::from_id(limit).ok_or_else(|| format!("--limit must be one of fcc-general, fcc-occupational, icnirp-general, icnirp-occupational (got {limit})"))?;
-            let s = exposure::limit_w_per_m2(lim, *freq_mhz).map_err(|e| e.to_string())?;
-            Ok(
-                json!({"limit_w_per_m2": s, "distance_m": exposure::compliance_distance_m(*eirp_w, s), "source": lim.source(), "note": "far-field estimate; near-field and multiple sources need a full evaluation"}),
-            )
-        }
+            antenna_size_m,
+        } => exposure_json(*eirp_w, *eirp_dbm, *freq_mhz, limit, *antenna_size_m),
         What::FieldStrength { dbm, freq_mhz } => {
             positive("freq-mhz", *freq_mhz)?;
             Ok(json!({"dbuv_per_m": fspl::dbm_to_dbuv_per_m(*dbm, *freq_mhz)}))
@@ -390,4 +395,39 @@ fn print_plain(m: &Map<String, Value>) {
     if let Some(Value::String(w)) = m.get("warning") {
         eprintln!("warning: {w}");
     }
+}
+
+/// `calc exposure`: the far-field compliance distance, and whether it lies inside the
+/// distance where the far-field formula holds.
+fn exposure_json(
+    eirp_w: Option<f64>,
+    eirp_dbm: Option<f64>,
+    freq_mhz: f64,
+    limit: &str,
+    antenna_size_m: Option<f64>,
+) -> Result<serde_json::Value, String> {
+    let eirp_w = match (eirp_w, eirp_dbm) {
+        (Some(w), _) => w,
+        (None, Some(dbm)) if dbm.is_finite() => 10f64.powf((dbm - 30.0) / 10.0),
+        (None, Some(_)) => return Err("--eirp-dbm must be a finite number".into()),
+        (None, None) => return Err("give --eirp-w or --eirp-dbm".into()),
+    };
+    positive("eirp-w", eirp_w)?;
+    positive("freq-mhz", freq_mhz)?;
+    if let Some(d) = antenna_size_m {
+        positive("antenna-size-m", d)?;
+    }
+    let lim = exposure::ExposureLimit::from_id(limit).ok_or_else(|| format!("--limit must be one of fcc-general, fcc-occupational, icnirp-general, icnirp-occupational (got {limit})"))?;
+    let s = exposure::limit_w_per_m2(lim, freq_mhz).map_err(|e| e.to_string())?;
+    let d = exposure::compliance_distance_m(eirp_w, s);
+    let far = exposure::far_field_min_distance_m(freq_mhz, antenna_size_m);
+    let note = if d < far {
+        format!("the far-field distance {d:.3} m lies inside the near field (the formula holds from {far:.3} m): the far-field formula does not give the compliance distance there; evaluate by measurement or a near-field method")
+    } else {
+        "far-field estimate; near-field and multiple sources need a full evaluation".to_string()
+    };
+    Ok(
+        json!({"eirp_w": eirp_w, "eirp_dbm": 10.0 * eirp_w.log10() + 30.0, "limit_w_per_m2": s, "distance_m": d,
+        "far_field_min_m": far, "within_near_field": d < far, "source": lim.source(), "note": note}),
+    )
 }

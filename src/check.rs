@@ -12,6 +12,9 @@ use crate::Outcome;
 pub struct Args {
     /// A site.toml, or a folder holding one.
     pub site: PathBuf,
+    /// A folder of `*.toml` external plugin declarations, as given to `report`.
+    #[arg(long)]
+    pub plugins: Option<PathBuf>,
 }
 
 /// Why a site could not be loaded.
@@ -95,25 +98,80 @@ pub fn load(site: &std::path::Path) -> Result<(World, LoadedSite), Outcome> {
     }
 }
 
-/// Runs `check`.
+/// Runs `check`: loads the site, then runs every plugin's own input check, as `report`
+/// does before it runs anything.
 pub fn run(a: Args) -> Outcome {
-    match load(&a.site) {
-        Ok((world, l)) => {
-            let s = &l.site;
-            let parts: usize = s.floors.iter().map(|f| f.parts.len()).sum();
-            println!(
-                "{}: ok — {} floor(s), {} wall part(s), {} service(s), {} transmitter(s), {} survey point(s) ({} rejected), {} warning(s)",
-                world.display_site_path(),
-                s.floors.len(),
-                parts,
-                s.services.len(),
-                s.transmitters.len(),
-                l.surveys.points.len(),
-                l.surveys.rejected.len(),
-                l.warnings.items.len()
-            );
-            Outcome::Ok
+    let (world, l) = match load(&a.site) {
+        Ok(x) => x,
+        Err(o) => return o,
+    };
+    let problems = match plugin_problems(&world, &l, a.plugins.as_deref()) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return Outcome::BadInput;
         }
-        Err(o) => o,
+    };
+    for x in &problems.items {
+        eprint!("{x}");
+    }
+    if problems.has_errors() {
+        eprintln!(
+            "{} error(s), {} warning(s): `report` would stop here",
+            problems.error_count(),
+            problems.warning_count()
+        );
+        return Outcome::BadInput;
+    }
+    print_summary(&world, &l, l.warnings.items.len() + problems.items.len());
+    Outcome::Ok
+}
+
+fn plugin_problems(
+    world: &World,
+    l: &LoadedSite,
+    plugins: Option<&std::path::Path>,
+) -> Result<rfsite_model::Diagnostics, String> {
+    let settings = crate::report::load_settings(None, plugins)?;
+    let (registry, _) = crate::report::registry_for(world, l, &settings)?;
+    Ok(rfsite_engine::check_plugins(l, &registry))
+}
+
+fn print_summary(world: &World, l: &LoadedSite, warnings: usize) {
+    let s = &l.site;
+    let parts: usize = s.floors.iter().map(|f| f.parts.len()).sum();
+    println!(
+        "{}: ok — {} floor(s), {} wall part(s), {} service(s), {} transmitter(s), {} survey point(s) ({} rejected), {} warning(s)",
+        world.display_site_path(),
+        s.floors.len(),
+        parts,
+        s.services.len(),
+        s.transmitters.len(),
+        l.surveys.points.len(),
+        l.surveys.rejected.len(),
+        warnings
+    );
+    println!("{}", sigma_line(s));
+}
+
+/// The shadowing standard deviation in force and where it comes from.
+fn sigma_line(s: &rfsite_model::Site) -> String {
+    let from_grading = s
+        .plugin_options
+        .get("grading")
+        .and_then(|t| t.get("shadowing_sigma_db"))
+        .and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64)));
+    match (from_grading, s.prediction.shadowing_sigma_given) {
+        (Some(x), _) => format!(
+            "shadowing sigma in force: {x:.1} dB (from `[plugins.grading] shadowing_sigma_db`)"
+        ),
+        (None, true) => format!(
+            "shadowing sigma in force: {:.1} dB (from `[prediction] shadowing_sigma_db`)",
+            s.prediction.shadowing_sigma_db
+        ),
+        (None, false) => format!(
+            "shadowing sigma in force: {:.1} dB (default; set `[prediction] shadowing_sigma_db` to change it)",
+            s.prediction.shadowing_sigma_db
+        ),
     }
 }

@@ -12,6 +12,7 @@ mod materials;
 mod plugins;
 mod portfolio;
 mod report;
+mod rules;
 
 /// Exit status of a subcommand.
 pub enum Outcome {
@@ -46,6 +47,8 @@ enum Cmd {
     Calc(calc::Args),
     /// The material library with sources and validity ranges.
     Materials(materials::Args),
+    /// The acceptance rule sets, every number with its source.
+    Rules(rules::Args),
     /// The plugins, their methods and run order.
     Plugins(plugins::Args),
     /// Run every site below a folder; write one folder per site and a portfolio summary.
@@ -62,6 +65,7 @@ fn main() -> ExitCode {
         Cmd::Calc(a) => calc::run(a),
         Cmd::Materials(a) => materials::run(a),
         Cmd::Plugins(a) => plugins::run(a),
+        Cmd::Rules(a) => rules::run(a),
         Cmd::Portfolio(a) => portfolio::run(a),
     };
     match outcome {

@@ -150,6 +150,8 @@ pub struct SiteDone {
     pub predict: Duration,
     /// Time rendering the report.
     pub render: Duration,
+    /// The plugins' input warnings (as `check` prints them).
+    pub warnings: Vec<rfsite_model::Diagnostic>,
 }
 
 /// Runs the pipeline on a loaded site and writes OUT/report.pdf, findings.json, figures/ and
@@ -162,6 +164,10 @@ pub fn run_site(
 ) -> Result<SiteDone, SiteError> {
     let (registry, specs) =
         registry_for(world, loaded, settings).map_err(|e| SiteError::BadInput(vec![e]))?;
+    let problems = rfsite_engine::check_plugins(loaded, &registry);
+    if problems.has_errors() {
+        return Err(SiteError::BadInput(located_errors(&problems)));
+    }
     let t0 = Instant::now();
     let assessment = rfsite_engine::run(loaded, &registry, world.inputs())
         .map_err(|e| SiteError::Failed(e.to_string()))?;
@@ -199,12 +205,29 @@ pub fn run_site(
     }
     rfsite_engine::world::write_outputs(out, &files, world).map_err(SiteError::Failed)?;
     Ok(SiteDone {
+        warnings: problems.items,
         assessment,
         findings_json: findings,
         figures,
         predict,
         render: t0.elapsed() - predict,
     })
+}
+
+/// The errors of a set of diagnostics as `file:line:column: message` lines.
+pub fn located_errors(d: &rfsite_model::Diagnostics) -> Vec<String> {
+    d.items
+        .iter()
+        .filter(|x| x.severity == rfsite_model::Severity::Error)
+        .map(|x| {
+            let hint = x
+                .hint
+                .as_deref()
+                .map(|h| format!(" ({h})"))
+                .unwrap_or_default();
+            format!("{}:{}:{}: {}{hint}", x.file, x.line, x.column, x.message)
+        })
+        .collect()
 }
 
 /// Runs `report`.
@@ -226,6 +249,9 @@ pub fn run(a: Args) -> Outcome {
         .unwrap_or_else(|| PathBuf::from("out").join(&loaded.site.meta.id));
     match run_site(&world, &loaded, &settings, &out) {
         Ok(d) => {
+            for w in &d.warnings {
+                eprint!("{w}");
+            }
             let fails = d.assessment.services.iter().filter(|s| !s.pass).count();
             println!(
                 "{}: wrote {}/report.pdf, findings.json and {} figure(s) — {} service(s), {} failing; prediction {:.2} s, report {:.2} s",

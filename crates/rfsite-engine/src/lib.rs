@@ -15,6 +15,8 @@ use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 
 pub mod external;
+mod precheck;
+pub use precheck::check_plugins;
 pub mod survey;
 pub mod world;
 
@@ -76,6 +78,8 @@ pub struct LoadedSite {
     pub surveys: SurveyData,
     /// Background plan images by floor id (PNG or JPEG bytes).
     pub plan_images: BTreeMap<String, Vec<u8>>,
+    /// site.toml as read, for locating problems found after loading.
+    pub source: SourceFile,
 }
 
 /// Reads and validates the site in `world`. Errors come back all at once.
@@ -120,6 +124,7 @@ pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, 
         warnings,
         surveys,
         plan_images,
+        source: file,
     })
 }
 
@@ -228,6 +233,16 @@ impl Registry {
         Ok(done.into_iter().map(|id| by_id[id]).collect())
     }
 
+    /// The ids of every registered plugin, in registration order.
+    pub fn ids(&self) -> Vec<&str> {
+        self.plugins.iter().map(|(p, _)| p.id()).collect()
+    }
+
+    /// Every registered plugin, in registration order.
+    pub fn all(&self) -> impl Iterator<Item = &dyn Plugin> {
+        self.plugins.iter().map(|(p, _)| p.as_ref())
+    }
+
     /// "built-in" or "external" for a plugin id.
     pub fn kind_of(&self, id: &str) -> &str {
         self.plugins
@@ -238,7 +253,7 @@ impl Registry {
     }
 }
 
-fn enabled(site: &Site, id: &str) -> bool {
+pub(crate) fn enabled(site: &Site, id: &str) -> bool {
     site.plugin_options
         .get(id)
         .and_then(|t| t.get("enabled"))

@@ -249,23 +249,28 @@ pub fn unknown_name_hint<'a>(
                 .map(|n| format!("`{n}`"))
                 .collect::<Vec<_>>()
                 .join(" or "),
-            abbreviate(&all)
+            abbreviate(what, &all)
         )
     } else {
-        format!("known {what}s: {}", abbreviate(&all))
+        format!("known {what}s: {}", abbreviate(what, &all))
     }
 }
 
-fn abbreviate(all: &[&str]) -> String {
+fn abbreviate(what: &str, all: &[&str]) -> String {
     if all.is_empty() {
         return "none defined".into();
     }
-    if all.len() <= 12 {
+    let lister = match what {
+        "material" => "`rfsite materials` lists them",
+        "rule set" => "`rfsite rules` lists them",
+        _ => "README.md lists them",
+    };
+    if all.len() <= 16 {
         all.join(", ")
     } else {
         format!(
-            "{}, ... ({} in all; `rfsite materials` lists them)",
-            all[..12].join(", "),
+            "{}, ... ({} in all; {lister})",
+            all[..16].join(", "),
             all.len()
         )
     }

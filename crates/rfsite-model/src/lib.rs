@@ -30,6 +30,8 @@
 #![deny(missing_docs)]
 
 pub mod diag;
+pub mod keys;
+pub mod locate;
 pub mod material;
 #[allow(missing_docs)]
 pub mod raw;

@@ -99,6 +99,8 @@ pub struct Prediction {
     pub combine: Combine,
     /// Log-normal shadowing standard deviation, dB.
     pub shadowing_sigma_db: f64,
+    /// Whether the site gave `shadowing_sigma_db` (false: the default is in force).
+    pub shadowing_sigma_given: bool,
     /// Which model the link budget grades: "multi-wall" or "free-space".
     pub model: String,
 }

@@ -198,6 +198,80 @@ fn parse_raw(v: &mut V<'_>) -> Option<RawProject> {
     }
 }
 
+/// Storeys that leave a gap or overlap (elevation + height against the next elevation)
+/// and floors without a slab material, as warnings that name what is assumed.
+fn storey_warnings(v: &mut V<'_>, raw: &[S<RawFloor>], floors: &[Floor]) {
+    let span_of = |id: &str, key: fn(&RawFloor) -> Option<Range<usize>>| {
+        raw.iter()
+            .find(|r| r.get_ref().id.as_ref().map(|i| i.get_ref().as_str()) == Some(id))
+            .map(|r| key(r.get_ref()).unwrap_or(r.span()))
+            .unwrap_or(0..1)
+    };
+    let mut order: Vec<&Floor> = floors.iter().collect();
+    order.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
+    for w in order.windows(2) {
+        let (low, high) = (w[0], w[1]);
+        let gap = high.elevation_m - (low.elevation_m + low.height_m);
+        if gap.abs() > 0.05 {
+            let kind = if gap > 0.0 { "gap" } else { "overlap" };
+            v.warn(
+                span_of(&high.id, |r| r.elevation.as_ref().map(|e| e.span())),
+                format!(
+                    "floor `{}` starts {:.2} m {} the top of floor `{}` (its elevation + height): a {kind} between storeys",
+                    high.id,
+                    gap.abs(),
+                    if gap > 0.0 { "above" } else { "below" },
+                    low.id
+                ),
+                Some(format!("set `{}` height to the floor-to-floor distance, {:.2} m; paths between the floors cross one slab either way", low.id, high.elevation_m - low.elevation_m)),
+            );
+        }
+    }
+    if floors.len() < 2 {
+        return;
+    }
+    for f in floors {
+        let r = raw
+            .iter()
+            .find(|r| r.get_ref().id.as_ref().map(|i| i.get_ref().as_str()) == Some(f.id.as_str()));
+        if r.is_some_and(|r| r.get_ref().slab_material.is_none()) {
+            v.warn(
+                span_of(&f.id, |r| r.id.as_ref().map(|i| i.span())),
+                format!(
+                    "floor `{}` has no `slab_material`: the default `{}`, {:.0} mm, is used for paths between floors",
+                    f.id,
+                    f.slab_material,
+                    f.slab_thickness_m * 1000.0
+                ),
+                Some("add `slab_material = \"concrete-floor-slab\"` (or the slab's material) and `slab_thickness`".into()),
+            );
+        }
+    }
+}
+
+/// A donor's elevation must lie in −90…90° (ITU-R P.2109 takes no other) and its plan
+/// direction in 0…360°.
+fn donor_angles(v: &mut V<'_>, d: &RawDonor, what: &str) {
+    if let Some(e) = &d.elevation_deg {
+        if !(e.get_ref().abs() <= 90.0) {
+            v.error(
+                e.span(),
+                format!("{what}: `elevation_deg` {} is not an elevation angle", e.get_ref()),
+                Some("give the angle above the horizon at the facade, between -90 and 90 degrees (0 for a level path)".into()),
+            );
+        }
+    }
+    if let Some(a) = &d.direction_deg {
+        if !(0.0..=360.0).contains(a.get_ref()) {
+            v.error(
+                a.span(),
+                format!("{what}: `direction_deg` {} is outside 0 to 360", a.get_ref()),
+                Some("give the plan direction the signal comes from, 0 to 360 degrees counter-clockwise from +x".into()),
+            );
+        }
+    }
+}
+
 fn toml_error(v: &mut V<'_>, e: &toml::de::Error) {
     let msg = e.message().trim().to_string();
     let hint = if msg.contains("invalid type: string") && msg.contains("expected f64") {
@@ -277,6 +351,11 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
             }
         }
         let last = path.last().map(|s| s.as_str()).unwrap_or("");
+        let parent: Vec<&str> = path[..path.len() - 1].iter().map(|s| s.as_str()).collect();
+        let hint = match crate::keys::known_keys(&parent) {
+            Some(known) => unknown_name_hint("key", last, known.iter().copied()),
+            None => format!("check the spelling of `{last}`; README.md lists every key"),
+        };
         v.warn(
             span,
             format!(
@@ -286,9 +365,7 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
                     .collect::<Vec<_>>()
                     .join(".")
             ),
-            Some(format!(
-                "check the spelling of `{last}`; README.md lists every key"
-            )),
+            Some(hint),
         );
     }
 }
@@ -498,6 +575,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             receiver_height_m,
             combine,
             shadowing_sigma_db,
+            shadowing_sigma_given: p.shadowing_sigma_db.is_some(),
             model,
         }
     };
@@ -770,6 +848,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             plan_offset: plan_offset.unwrap_or_default(),
         });
     }
+    storey_warnings(v, &raw.floors, &floors);
     let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();
     let floor_of =
         |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<usize> {
@@ -1365,6 +1444,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             .as_ref()
             .map(|f| f.get_ref().iter().map(|x| x.get_ref().clone()).collect())
             .unwrap_or_default();
+        donor_angles(v, d, &what);
         if let (Some(service), Some(level_dbm)) = (svc, level) {
             donors.push(Donor {
                 id,

@@ -151,6 +151,22 @@ pub fn compliance_distance_m(eirp_w: f64, limit_w_per_m2: f64) -> f64 {
     (eirp_w / (4.0 * std::f64::consts::PI * limit_w_per_m2)).sqrt()
 }
 
+/// Wavelengths within which the far-field power-density formula is not used: 3 λ
+/// (common practice; the reactive and radiating near field of a small antenna lies well
+/// inside this).
+pub const NEAR_FIELD_WAVELENGTHS: f64 = 3.0;
+
+/// The distance below which the far-field formula of [`compliance_distance_m`] does not
+/// hold: the larger of the Fraunhofer distance 2 D²/λ for an antenna whose largest
+/// dimension is `largest_dimension_m` (IEEE Std 145, far-field region; from memory) and
+/// [`NEAR_FIELD_WAVELENGTHS`] wavelengths. `None` for the dimension takes only the
+/// wavelength rule, as for the small indoor antennas a site describes.
+pub fn far_field_min_distance_m(freq_mhz: f64, largest_dimension_m: Option<f64>) -> f64 {
+    let lambda = crate::fspl::SPEED_OF_LIGHT_M_PER_S / (freq_mhz * 1e6);
+    let fraunhofer = largest_dimension_m.map_or(0.0, |d| 2.0 * d * d / lambda);
+    fraunhofer.max(NEAR_FIELD_WAVELENGTHS * lambda)
+}
+
 /// Power-density factor 2.56 = 1.6² for a reflection adding 60 % to the field, as the
 /// FCC OET Bulletin 65 applies for ground reflections (from memory).
 pub const GROUND_REFLECTION_FACTOR: f64 = 2.56;
@@ -159,6 +175,22 @@ pub const GROUND_REFLECTION_FACTOR: f64 = 2.56;
 mod tests {
     use super::*;
     use approx::assert_abs_diff_eq;
+
+    #[test]
+    fn far_field_limit_is_three_wavelengths_or_fraunhofer() {
+        // λ at 700 MHz = 299 792 458 / 7e8 = 0.428 m; 3 λ = 1.285 m.
+        assert_abs_diff_eq!(
+            far_field_min_distance_m(700.0, None),
+            1.2848,
+            epsilon = 1e-4
+        );
+        // A 1 m donor antenna at 700 MHz: 2 D²/λ = 2 / 0.42827 = 4.670 m (IEEE Std 145).
+        assert_abs_diff_eq!(
+            far_field_min_distance_m(700.0, Some(1.0)),
+            4.6699,
+            epsilon = 1e-4
+        );
+    }
 
     #[test]
     fn fcc_values() {

@@ -18,9 +18,11 @@ use rfsite_model::Site;
 use serde::{Deserialize, Serialize};
 
 pub mod assessment;
+pub mod check;
 pub mod verdict;
 pub mod wire;
 pub use assessment::*;
+pub use check::{InputProblem, Place};
 pub use verdict::*;
 
 fn nan_from_null<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Vec<f32>, D::Error> {
@@ -479,7 +481,11 @@ impl<'a> Context<'a> {
     pub fn option_f64(&self, key: &str, default: f64) -> Result<f64, PluginError> {
         match self.options.get(key) {
             None => Ok(default),
-            Some(toml::Value::Float(f)) => Ok(*f),
+            Some(toml::Value::Float(f)) if f.is_finite() => Ok(*f),
+            Some(toml::Value::Float(_)) => Err(PluginError::BadOption {
+                key: key.into(),
+                message: "must be a finite number, not nan or inf".into(),
+            }),
             Some(toml::Value::Integer(i)) => Ok(*i as f64),
             Some(other) => Err(PluginError::BadOption {
                 key: key.into(),
@@ -526,6 +532,16 @@ pub trait Plugin: Send + Sync {
     /// Whether it has anything to do on this site.
     fn applies(&self, _site: &Site) -> bool {
         true
+    }
+    /// The keys its `[plugins.<id>]` table may hold (besides `enabled`), or `None` when it
+    /// does not say (external plugins): unknown keys then get a "did you mean" warning.
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        None
+    }
+    /// Checks its options and the site values it depends on without running (the context
+    /// has no earlier outputs). Must reject everything `run` would reject as bad input.
+    fn check(&self, _ctx: &Context<'_>) -> Vec<InputProblem> {
+        Vec::new()
     }
     /// Runs it.
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError>;

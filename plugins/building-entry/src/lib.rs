@@ -265,6 +265,19 @@ fn prob_label(p: f64) -> String {
 /// The building-entry plugin.
 pub struct BuildingEntry;
 
+/// The option `probability`, checked.
+fn probability(ctx: &Context<'_>) -> Result<f64, PluginError> {
+    let probability = ctx.option_f64("probability", DEFAULT_PROBABILITY)?;
+    if !(probability > 0.0 && probability < 1.0) {
+        return Err(PluginError::BadOption {
+            key: "probability".into(),
+            message: "must be strictly between 0 and 1 (0.5 is the median building entry loss)"
+                .into(),
+        });
+    }
+    Ok(probability)
+}
+
 impl Plugin for BuildingEntry {
     fn id(&self) -> &str {
         "building-entry"
@@ -286,15 +299,14 @@ impl Plugin for BuildingEntry {
     fn applies(&self, site: &Site) -> bool {
         !site.donors.is_empty()
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec!["probability"])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
+        rfsite_plugin::check::problems_of(probability(ctx))
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
-        let probability = ctx.option_f64("probability", DEFAULT_PROBABILITY)?;
-        if !(probability > 0.0 && probability < 1.0) {
-            return Err(PluginError::BadOption {
-                key: "probability".into(),
-                message: "must be strictly between 0 and 1 (0.5 is the median building entry loss)"
-                    .into(),
-            });
-        }
+        let probability = probability(ctx)?;
         let site = ctx.site;
         let id = self.id().to_string();
         let building = building_type(&site.meta.building);

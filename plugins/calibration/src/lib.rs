@@ -392,14 +392,22 @@ impl Plugin for Calibration {
     fn applies(&self, site: &Site) -> bool {
         opt_enabled(site) && !site.transmitters.is_empty()
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec!["fit", "bounds", "min_points", "apply", "model"])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
+        rfsite_plugin::check::problems_of(options::read_options(ctx))
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let mut out = PluginOutput::default();
-        let terms = options::terms(ctx.options, site)?;
-        let bounds = options::bounds(ctx.options, &terms)?;
-        let min_points = ctx.option_f64("min_points", 20.0)?.max(1.0) as usize;
-        let apply = ctx.option_bool("apply", false)?;
-        let base = ctx.option_str("model", "multi-wall")?;
+        let options::CalOptions {
+            terms,
+            bounds,
+            min_points,
+            apply,
+            base,
+        } = options::read_options(ctx)?;
         let warn = |message: String| Warning {
             plugin: "calibration".into(),
             message,

@@ -1,7 +1,7 @@
-//! The plugin's `fit` and `bounds` options.
+//! The plugin's options: `fit`, `bounds`, `min_points`, `apply`, `model`.
 
 use rfsite_model::Site;
-use rfsite_plugin::PluginError;
+use rfsite_plugin::{Context, PluginError};
 
 use crate::Term;
 
@@ -10,6 +10,37 @@ fn bad(key: &str, message: String) -> PluginError {
         key: key.into(),
         message,
     }
+}
+
+/// The checked options of the calibration.
+pub(crate) struct CalOptions {
+    pub terms: Vec<Term>,
+    pub bounds: Vec<(f64, f64)>,
+    pub min_points: usize,
+    pub apply: bool,
+    pub base: String,
+}
+
+/// Reads and checks `fit`, `bounds`, `min_points`, `apply` and `model`.
+pub(crate) fn read_options(ctx: &Context<'_>) -> Result<CalOptions, PluginError> {
+    let terms = terms(ctx.options, ctx.site)?;
+    let bounds = bounds(ctx.options, &terms)?;
+    let min_points = ctx.option_f64("min_points", 20.0)?.max(1.0) as usize;
+    let apply = ctx.option_bool("apply", false)?;
+    let base = ctx.option_str("model", "multi-wall")?;
+    if base != "multi-wall" && base != "free-space" {
+        return Err(bad(
+            "model",
+            format!("`{base}` is not a prediction model; write `multi-wall` or `free-space`"),
+        ));
+    }
+    Ok(CalOptions {
+        terms,
+        bounds,
+        min_points,
+        apply,
+        base,
+    })
 }
 
 /// The terms to fit (`fit`, default `["offset"]`); each material must be used on the site.
@@ -59,14 +90,14 @@ pub fn bounds(options: &toml::Table, terms: &[Term]) -> Result<Vec<(f64, f64)>, 
             None => Ok(t.default_bounds()),
             Some(toml::Value::Array(a)) if a.len() == 2 => pair(&a[0], &a[1]).ok_or_else(|| {
                 bad(
-                    "bounds",
-                    format!(
-                        "`{}` needs [low, high] numbers, low <= high (e.g. [-10, 10])",
-                        t.key()
-                    ),
+                    &format!("bounds.{}", t.key()),
+                    "needs [low, high] numbers, low <= high (e.g. [-10, 10])".into(),
                 )
             }),
-            Some(_) => Err(bad("bounds", format!("`{}` needs [low, high]", t.key()))),
+            Some(_) => Err(bad(
+                &format!("bounds.{}", t.key()),
+                "needs [low, high]".into(),
+            )),
         })
         .collect()
 }

@@ -196,6 +196,9 @@ impl Plugin for FreeSpace {
     fn applies(&self, site: &Site) -> bool {
         !site.transmitters.is_empty()
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(Vec::new())
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         Ok(PluginOutput {
             layers: predict(ctx.site, self.id(), &NoExtra),

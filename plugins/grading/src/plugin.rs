@@ -47,6 +47,77 @@ pub fn rule_sets(
     Ok(all)
 }
 
+/// The shadowing standard deviation in force: `[plugins.grading] shadowing_sigma_db`, else
+/// the site's `[prediction]` value (whose range the site loader checks).
+fn sigma_option(ctx: &Context<'_>) -> Result<f64, PluginError> {
+    let sigma = ctx.option_f64("shadowing_sigma_db", ctx.site.prediction.shadowing_sigma_db)?;
+    if !(0.0..=20.0).contains(&sigma) {
+        return Err(PluginError::BadOption {
+            key: "shadowing_sigma_db".into(),
+            message: "must be between 0 and 20 dB (indoor shadowing is typically 3 to 10 dB, common practice)".into(),
+        });
+    }
+    Ok(sigma)
+}
+
+/// Everything `run` would reject, found without running: the site's rule sets, each
+/// service's rule set by name, σ and the location probability.
+fn check_inputs(ctx: &Context<'_>) -> Vec<InputProblem> {
+    let mut notes = Vec::new();
+    let all = match rule_sets(ctx.options, &mut notes) {
+        Ok(a) => a,
+        Err(e) => return vec![e.into()],
+    };
+    let mut out: Vec<InputProblem> = notes
+        .into_iter()
+        .map(|w| InputProblem::warning(Place::Option("rule_sets".into()), w.message, None))
+        .collect();
+    let sigma = match sigma_option(ctx) {
+        Ok(s) => s,
+        Err(e) => {
+            out.push(e.into());
+            return out;
+        }
+    };
+    for svc in &ctx.site.services {
+        let Ok(rule) = rule_for(svc, &all) else {
+            out.push(unknown_rule_set(svc, &all));
+            continue;
+        };
+        let checked = ctx
+            .option_f64("location_probability", rule.location_probability)
+            .and_then(|lp| {
+                required_level(svc, &rule, sigma, lp).map_err(|m| PluginError::BadOption {
+                    key: "location_probability".into(),
+                    message: m,
+                })
+            });
+        if let Err(e) = checked {
+            out.push(e.into());
+        }
+    }
+    out
+}
+
+fn unknown_rule_set(svc: &Service, all: &BTreeMap<String, Rule>) -> InputProblem {
+    let wanted = svc.rules.as_deref().unwrap_or("");
+    InputProblem::error(
+        Place::Service {
+            id: svc.id.clone(),
+            key: "rules".into(),
+        },
+        format!("rule set `{wanted}` does not exist"),
+        Some(format!(
+            "{}; `rfsite rules` lists them with their numbers and sources",
+            rfsite_model::diag::unknown_name_hint(
+                "rule set",
+                wanted,
+                all.keys().map(|k| k.as_str())
+            )
+        )),
+    )
+}
+
 /// The model graded: the `model` option, else calibrated when present, else the site's.
 fn graded_layers<'a>(
     ctx: &Context<'a>,
@@ -148,11 +219,22 @@ impl Plugin for Grading {
             "calibration".into(),
         ]
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec![
+            "rule_sets",
+            "model",
+            "shadowing_sigma_db",
+            "location_probability",
+        ])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<InputProblem> {
+        check_inputs(ctx)
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let mut out = PluginOutput::default();
         let all = rule_sets(ctx.options, &mut out.warnings)?;
         let (model, layers) = graded_layers(ctx, &mut out.warnings)?;
-        let sigma = ctx.option_f64("shadowing_sigma_db", ctx.site.prediction.shadowing_sigma_db)?;
+        let sigma = sigma_option(ctx)?;
         let rejected = rejected_by_floor(ctx);
         let mut extra_services = Vec::new();
         for svc in &ctx.site.services {

@@ -71,6 +71,9 @@ impl Plugin for LinkBudgetPlugin {
             "grading".into(),
         ]
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(Vec::new())
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let mut out = PluginOutput::default();
@@ -435,12 +438,18 @@ pub fn cautions(site: &Site) -> Vec<Caution> {
         ] {
             if let Ok(s) = exposure::limit_w_per_m2(lim, svc.freq_mhz) {
                 let d = exposure::compliance_distance_m(eirp_w, s);
-                parts.push(format!(
-                    "{} {} {}",
-                    lim.id(),
-                    format_args!("{:.2}", site.units.from_m(d)),
-                    site.units.label()
-                ));
+                let far = exposure::far_field_min_distance_m(svc.freq_mhz, None);
+                let shown = |m: f64| format!("{:.2} {}", site.units.from_m(m), site.units.label());
+                parts.push(if d < far {
+                    format!(
+                        "{} {} (inside the near field, where the far-field formula does not hold: it holds from {})",
+                        lim.id(),
+                        shown(d),
+                        shown(far)
+                    )
+                } else {
+                    format!("{} {}", lim.id(), shown(d))
+                });
             }
         }
         if !parts.is_empty() {
@@ -457,7 +466,7 @@ pub fn cautions(site: &Site) -> Vec<Caution> {
         id: "rf-exposure".into(),
         topic: "RF exposure near antennas".into(),
         text: format!(
-            "Far-field compliance distances for the strongest antenna of each service, general-public limits: {}. Keep people outside these distances; roof-mounted donor antennas and any antenna near occupied space need an exposure evaluation under the applicable rules (FCC 47 CFR 1.1310, ICNIRP 2020 or local law) before energising. Post signage where required.",
+            "Far-field compliance distances for the strongest antenna of each service, general-public limits: {}. Keep people outside these distances. A distance inside the near field is not a compliance distance: the far-field formula holds only from about three wavelengths (or 2 D²/λ for an antenna of size D) and an evaluation by measurement or a near-field method is needed there. Roof-mounted donor antennas and any antenna near occupied space need an exposure evaluation under the applicable rules (FCC 47 CFR 1.1310, ICNIRP 2020 or local law) before energising. Post signage where required.",
             if lines.is_empty() { "no transmitters defined".to_string() } else { lines.join("; ") }
         ),
     });

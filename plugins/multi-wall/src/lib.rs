@@ -472,6 +472,25 @@ pub fn breakdown(
 /// The multi-wall plugin.
 pub struct MultiWall;
 
+/// The options `floor_b` and `max_crossing_loss_db`, checked.
+fn options(ctx: &Context<'_>) -> Result<(f64, f64), PluginError> {
+    let b = ctx.option_f64("floor_b", cost231::COST231_DEFAULT_B)?;
+    if !(0.0..=2.0).contains(&b) {
+        return Err(PluginError::BadOption {
+            key: "floor_b".into(),
+            message: "must be between 0 and 2 (COST 231 fitted 0.46)".into(),
+        });
+    }
+    let cap = ctx.option_f64("max_crossing_loss_db", 60.0)?;
+    if cap <= 0.0 {
+        return Err(PluginError::BadOption {
+            key: "max_crossing_loss_db".into(),
+            message: "must be positive".into(),
+        });
+    }
+    Ok((b, cap))
+}
+
 impl Plugin for MultiWall {
     fn id(&self) -> &str {
         "multi-wall"
@@ -496,21 +515,14 @@ impl Plugin for MultiWall {
     fn applies(&self, site: &Site) -> bool {
         !site.transmitters.is_empty()
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec!["floor_b", "max_crossing_loss_db"])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
+        rfsite_plugin::check::problems_of(options(ctx))
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
-        let b = ctx.option_f64("floor_b", cost231::COST231_DEFAULT_B)?;
-        if !(0.0..=2.0).contains(&b) {
-            return Err(PluginError::BadOption {
-                key: "floor_b".into(),
-                message: "must be between 0 and 2 (COST 231 fitted 0.46)".into(),
-            });
-        }
-        let cap = ctx.option_f64("max_crossing_loss_db", 60.0)?;
-        if cap <= 0.0 {
-            return Err(PluginError::BadOption {
-                key: "max_crossing_loss_db".into(),
-                message: "must be positive".into(),
-            });
-        }
+        let (b, cap) = options(ctx)?;
         let site = ctx.site;
         let scene = Scene::new(site, b, cap);
         let layers = predict_grid(site, self.id(), &scene);

@@ -510,6 +510,17 @@ impl Plugin for ReflectionNulls {
     fn applies(&self, site: &Site) -> bool {
         !site.services.is_empty() && site.floors.iter().any(|f| !f.parts.is_empty())
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec![
+            "min_gamma",
+            "tolerance_m",
+            "max_distance_m",
+            "max_fade_db",
+        ])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
+        rfsite_plugin::check::problems_of(Options::from_context(ctx))
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let opts = Options::from_context(ctx)?;
         let site = ctx.site;

@@ -294,6 +294,12 @@ impl Plugin for SurveyCompare {
     fn applies(&self, site: &Site) -> bool {
         !site.surveys.is_empty() || !site.probes.is_empty()
     }
+    fn option_keys(&self) -> Option<Vec<&'static str>> {
+        Some(vec!["model"])
+    }
+    fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
+        rfsite_plugin::check::problems_of(ctx.option_str("model", &ctx.site.prediction.model))
+    }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let want = ctx.option_str("model", &site.prediction.model)?;
