@@ -9,8 +9,13 @@
 //! `m` (dB) times `k_m`, the number of crossings of that material on the path from the
 //! point's best server (counted with the multi-wall scene's crossing machinery), and `dn`
 //! a change of the distance exponent over the 3D path length `d` (m). Bounds are honoured
-//! by holding a parameter that leaves them at its bound and refitting the others.
-//! Standard errors come from sigma^2 (X^T X)^-1 with sigma^2 = RSS / (n - p).
+//! exactly: the fit is the bounded optimum by bounded-variable least squares ([`bvls`](mod@bvls),
+//! Stark & Parker 1995), which frees a parameter again when holding it no longer pays
+//! (clamping or holding the worst violator misses the optimum when two bounds bind).
+//! A term no measured path informs, or one the paths cannot separate from the others, is
+//! held (at 0, or the bound nearest it) and named in a warning. Standard errors come from
+//! sigma^2 (X_F^T X_F)^-1 over the fitted terms F, sigma^2 = RSS / (n - |F|).
+//! A service without usable survey points is named in a warning, never silently skipped.
 //!
 //! With `apply = true` it re-predicts every layer with the fitted values as model
 //! `calibrated`, which the grading plugin then grades.
@@ -28,14 +33,18 @@ use std::collections::BTreeMap;
 
 use rfsite_geometry::Point2;
 use rfsite_model::Site;
-use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 use rfsite_plugin_free_space::{PathLoss, P3};
 use rfsite_plugin_multi_wall::Scene;
 use rfsite_plugin_survey_compare::Interp;
 use serde::Serialize;
 
+pub mod bvls;
 pub mod lstsq;
+mod options;
+pub mod qr;
+mod tables;
+pub use bvls::{bvls, BvlsError, VarState};
 pub use lstsq::{bounded_lstsq, lstsq, Fit};
 
 /// The calibration plugin.
@@ -192,14 +201,16 @@ pub struct ServiceFit {
     pub points: usize,
     /// Points without a prediction or best server.
     pub skipped: usize,
-    /// Terms fitted (after dropping unidentifiable ones).
+    /// Terms asked for.
     pub terms: Vec<Term>,
-    /// Fitted values.
+    /// Fitted values (a term not fitted keeps the point of its bounds nearest 0).
     pub values: Vec<f64>,
-    /// Standard errors (NaN at a bound).
+    /// Standard errors (NaN when not fitted).
     pub std_errors: Vec<f64>,
     /// Bounds.
     pub bounds: Vec<(f64, f64)>,
+    /// Where each term ended: fitted, at a bound, not informed, not separable.
+    pub state: Vec<VarState>,
     /// Held at a bound.
     pub at_bound: Vec<bool>,
     /// Residual mean, std, RMS before, dB.
@@ -208,11 +219,31 @@ pub struct ServiceFit {
     pub after: (f64, f64, f64),
     /// sqrt(RSS / dof), dB.
     pub sigma_db: f64,
-    /// Notes (dropped terms).
+    /// Free subproblems the bounded solver solved.
+    pub steps: usize,
+    /// Notes for the user (terms not fitted, and why).
     pub notes: Vec<String>,
 }
 
-/// Fits `terms` to observations, dropping terms no observation informs.
+/// What the user is told about a term the data cannot fit.
+fn state_note(t: &Term, st: VarState, v: f64) -> Option<String> {
+    let why = match st {
+        VarState::Uninformed => "no measured path crosses it",
+        VarState::Dependent => {
+            "the measured paths cannot tell it apart from the other fitted terms (e.g. every path crosses it the same number of times)"
+        }
+        _ => return None,
+    };
+    Some(format!(
+        "`{}` not fitted: {why}; held at {} {} (no change from the model, or the bound nearest it)",
+        t.key(),
+        tables::f2(v),
+        t.unit()
+    ))
+}
+
+/// Fits `terms` to observations by bounded-variable least squares; a term no observation
+/// informs, or one the observations cannot separate from the others, is held and noted.
 pub fn fit_terms(
     service: &str,
     obs: &[(PathInfo, f64)],
@@ -220,44 +251,35 @@ pub fn fit_terms(
     terms: &[Term],
     bounds: &[(f64, f64)],
 ) -> Result<ServiceFit, String> {
-    let mut notes = Vec::new();
-    let mut keep = Vec::new();
-    for (t, b) in terms.iter().zip(bounds) {
-        let used = obs
-            .iter()
-            .any(|(i, _)| design_row(std::slice::from_ref(t), i)[0] != 0.0);
-        if used {
-            keep.push((t.clone(), *b));
-        } else {
-            notes.push(format!(
-                "`{}` not fitted: no measured path crosses it",
-                t.key()
-            ));
-        }
-    }
-    let ts: Vec<Term> = keep.iter().map(|k| k.0.clone()).collect();
-    let x: Vec<Vec<f64>> = obs.iter().map(|(i, _)| design_row(&ts, i)).collect();
+    let x: Vec<Vec<f64>> = obs.iter().map(|(i, _)| design_row(terms, i)).collect();
     let y: Vec<f64> = obs.iter().map(|o| o.1).collect();
-    let lo: Vec<f64> = keep.iter().map(|k| k.1 .0).collect();
-    let hi: Vec<f64> = keep.iter().map(|k| k.1 .1).collect();
-    let f = bounded_lstsq(&x, &y, &lo, &hi)?;
+    let lo: Vec<f64> = bounds.iter().map(|b| b.0).collect();
+    let hi: Vec<f64> = bounds.iter().map(|b| b.1).collect();
+    let f = bounded_lstsq(&x, &y, &lo, &hi).map_err(|e| e.to_string())?;
     let after: Vec<f64> = x
         .iter()
         .zip(&y)
         .map(|(r, yy)| yy - r.iter().zip(&f.beta).map(|(a, b)| a * b).sum::<f64>())
         .collect();
+    let notes = terms
+        .iter()
+        .zip(f.state.iter().zip(&f.beta))
+        .filter_map(|(t, (st, v))| state_note(t, *st, *v))
+        .collect();
     Ok(ServiceFit {
         service: service.into(),
         points: obs.len(),
         skipped,
-        terms: ts,
+        terms: terms.to_vec(),
         values: f.beta.clone(),
         std_errors: f.se.clone(),
-        bounds: keep.iter().map(|k| k.1).collect(),
+        bounds: bounds.to_vec(),
+        state: f.state.clone(),
         at_bound: f.at_bound.clone(),
         before: moments(&y),
         after: moments(&after),
         sigma_db: f.sigma,
+        steps: f.steps,
         notes,
     })
 }
@@ -296,22 +318,6 @@ impl PathLoss for Calibrated<'_> {
     }
 }
 
-fn f1(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.1}")
-    } else {
-        "n/a".into()
-    }
-}
-
-fn f2(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.2}")
-    } else {
-        "—".into()
-    }
-}
-
 fn opt_enabled(site: &Site) -> bool {
     site.plugin_options
         .get("calibration")
@@ -320,97 +326,42 @@ fn opt_enabled(site: &Site) -> bool {
         .unwrap_or(false)
 }
 
-/// The checked options of the calibration.
-struct CalOptions {
-    terms: Vec<Term>,
-    bounds: Vec<(f64, f64)>,
+/// Observations and fit of one service; Err says why it was not calibrated.
+fn fit_service(
+    ctx: &Context<'_>,
+    scene: &Scene,
+    layers: &[&CoverageLayer],
+    service: &str,
+    terms: &[Term],
+    bounds: &[(f64, f64)],
     min_points: usize,
-    apply: bool,
-    base: String,
-}
-
-/// Reads and checks `fit`, `bounds`, `min_points`, `apply` and `model`.
-fn read_options(ctx: &Context<'_>) -> Result<CalOptions, PluginError> {
-    let site = ctx.site;
-    let bad = |key: &str, message: String| PluginError::BadOption {
-        key: key.into(),
-        message,
-    };
-    let terms: Vec<Term> = match ctx.options.get("fit") {
-        None => vec![Term::Offset],
-        Some(toml::Value::Array(a)) => a
-            .iter()
-            .map(|v| {
-                v.as_str().and_then(Term::parse).ok_or_else(|| {
-                    bad(
-                        "fit",
-                        format!("`{v}` is not `offset`, `material:<id>` or `distance-exponent`"),
-                    )
-                })
-            })
-            .collect::<Result<_, _>>()?,
-        Some(v) => {
-            return Err(bad(
-                "fit",
-                format!("expected a list, found {}", v.type_str()),
-            ))
-        }
-    };
-    for t in &terms {
-        if let Term::Material(m) = t {
-            if !site.materials_used.contains(m) {
-                return Err(bad(
-                    "fit",
-                    format!(
-                        "material `{m}` is not used on this site (used: {})",
-                        site.materials_used.join(", ")
-                    ),
-                ));
-            }
-        }
+) -> Result<ServiceFit, String> {
+    let pts: Vec<&Measurement> = ctx
+        .surveys
+        .points
+        .iter()
+        .filter(|m| m.service == service)
+        .collect();
+    if pts.is_empty() {
+        return Err("no survey point was measured for this service".into());
     }
-    let min_points = ctx.option_f64("min_points", 20.0)?.max(1.0) as usize;
-    let apply = ctx.option_bool("apply", false)?;
-    let bt = ctx.options.get("bounds").and_then(|v| v.as_table());
-    let mut bounds = Vec::new();
-    for t in &terms {
-        let b = match bt.and_then(|b| b.get(&t.key())) {
-            None => t.default_bounds(),
-            Some(toml::Value::Array(a)) if a.len() == 2 => {
-                let n = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64));
-                match (n(&a[0]), n(&a[1])) {
-                    (Some(lo), Some(hi)) if lo <= hi => (lo, hi),
-                    _ => {
-                        return Err(bad(
-                            &format!("bounds.{}", t.key()),
-                            "needs [low, high] numbers, low <= high".into(),
-                        ))
-                    }
-                }
-            }
-            Some(_) => {
-                return Err(bad(
-                    &format!("bounds.{}", t.key()),
-                    "needs [low, high]".into(),
-                ))
-            }
-        };
-        bounds.push(b);
+    let ls: Vec<&CoverageLayer> = layers
+        .iter()
+        .copied()
+        .filter(|l| l.service == service)
+        .collect();
+    if ls.is_empty() {
+        return Err("no prediction to compare the survey with".into());
     }
-    let base = ctx.option_str("model", "multi-wall")?;
-    if base != "multi-wall" && base != "free-space" {
-        return Err(bad(
-            "model",
-            format!("`{base}` is not a prediction model; write `multi-wall` or `free-space`"),
+    let (obs, skipped) = observations(ctx.site, scene, &ls, &pts);
+    if obs.len() < min_points {
+        return Err(format!(
+            "{} usable survey points of {} ({skipped} without a prediction or best server), fewer than min_points = {min_points}",
+            obs.len(),
+            pts.len()
         ));
     }
-    Ok(CalOptions {
-        terms,
-        bounds,
-        min_points,
-        apply,
-        base,
-    })
+    fit_terms(service, &obs, skipped, terms, bounds)
 }
 
 impl Plugin for Calibration {
@@ -422,9 +373,10 @@ impl Plugin for Calibration {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "Per service, linear least squares of measured - predicted on a constant offset, per-material changes of the per-crossing loss (times the crossings of that material on the best-server path) and a distance-exponent change (times 10 log10 d), with bounds (held at the bound and refitted); standard errors from sigma^2 (X^T X)^-1".into(),
+            summary: "Per service, linear least squares of measured - predicted on a constant offset, per-material changes of the per-crossing loss (times the crossings of that material on the best-server path) and a distance-exponent change (times 10 log10 d), within bounds by bounded-variable least squares (the bounded optimum; a term no path informs, or one the paths cannot separate, is held and reported); standard errors from sigma^2 (X_F^T X_F)^-1 over the fitted terms".into(),
             citations: vec![
                 "Linear least squares and its covariance sigma^2 (X^T X)^-1 (textbook); checked against numpy.linalg.lstsq".into(),
+                "Stark & Parker, Bounded-variable least-squares: an algorithm and applications, Computational Statistics 10 (1995) 129-141; checked against scipy.optimize.lsq_linear(method=\"bvls\")".into(),
                 "COST 231 Final Report (1999), section 4.7: wall losses as fitted parameters of the multi-wall model".into(),
             ],
             validity: "meaningful with many points spread over paths that cross each fitted material differently; the fit absorbs survey bias (antenna, body loss) into the offset".into(),
@@ -444,215 +396,90 @@ impl Plugin for Calibration {
         Some(vec!["fit", "bounds", "min_points", "apply", "model"])
     }
     fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
-        rfsite_plugin::check::problems_of(read_options(ctx))
+        rfsite_plugin::check::problems_of(options::read_options(ctx))
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
         let mut out = PluginOutput::default();
-        let CalOptions {
+        let options::CalOptions {
             terms,
             bounds,
             min_points,
             apply,
             base,
-        } = read_options(ctx)?;
+        } = options::read_options(ctx)?;
+        let warn = |message: String| Warning {
+            plugin: "calibration".into(),
+            message,
+        };
         let layers = ctx.layers_of(&base);
         if layers.is_empty() {
-            out.warnings.push(Warning {
-                plugin: self.id().into(),
-                message: format!("no `{base}` layers to calibrate"),
-            });
+            out.warnings
+                .push(warn(format!("no `{base}` layers to calibrate")));
             return Ok(out);
         }
         let scene = scene_for(site);
         let mut fits = Vec::new();
+        let mut not_calibrated = Vec::new();
         for svc in &site.services {
-            let pts: Vec<&Measurement> = ctx
-                .surveys
-                .points
-                .iter()
-                .filter(|m| m.service == svc.id)
-                .collect();
-            let ls: Vec<&CoverageLayer> = layers
-                .iter()
-                .copied()
-                .filter(|l| l.service == svc.id)
-                .collect();
-            if pts.is_empty() || ls.is_empty() {
-                continue;
-            }
-            let (obs, skipped) = observations(site, &scene, &ls, &pts);
-            if obs.len() < min_points {
-                out.warnings.push(Warning { plugin: self.id().into(), message: format!("service `{}`: {} usable survey points, fewer than min_points = {min_points}: not calibrated", svc.id, obs.len()) });
-                continue;
-            }
-            match fit_terms(&svc.id, &obs, skipped, &terms, &bounds) {
+            match fit_service(ctx, &scene, &layers, &svc.id, &terms, &bounds, min_points) {
                 Ok(f) => {
-                    for n in &f.notes {
-                        out.warnings.push(Warning {
-                            plugin: self.id().into(),
-                            message: format!("service `{}`: {n}", svc.id),
-                        });
-                    }
+                    let notes = f.notes.iter();
+                    out.warnings
+                        .extend(notes.map(|n| warn(format!("service `{}`: {n}", svc.id))));
                     fits.push(f);
                 }
-                Err(e) => out.warnings.push(Warning {
-                    plugin: self.id().into(),
-                    message: format!("service `{}`: not calibrated: {e}", svc.id),
-                }),
+                Err(why) => {
+                    out.warnings
+                        .push(warn(format!("service `{}`: not calibrated: {why}", svc.id)));
+                    not_calibrated.push(serde_json::json!({"service": svc.id, "reason": why}));
+                }
             }
         }
-        // Tables.
-        let name = |sid: &str| {
-            site.service(sid)
-                .map(|s| s.name.clone())
-                .unwrap_or_else(|| sid.to_string())
-        };
-        let base_loss = |svc: &str, m: &str| -> Option<f64> {
-            let s = site.service(svc)?;
-            let mat = site.materials.get(m)?;
-            let t = site
-                .floors
-                .iter()
-                .flat_map(|f| f.parts.iter())
-                .find(|p| p.material == m)
-                .map(|p| p.thickness_m)
-                .unwrap_or(0.1);
-            Some(
-                mat.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te)
-                    .loss_db,
-            )
-        };
-        let mut rows = Vec::new();
-        for f in &fits {
-            for (i, t) in f.terms.iter().enumerate() {
-                let (desc, base_v, new_v) = match t {
-                    Term::Offset => ("constant offset".to_string(), String::new(), String::new()),
-                    Term::Material(m) => {
-                        let b = base_loss(&f.service, m);
-                        (
-                            format!("loss per crossing of {m}"),
-                            b.map(f1).unwrap_or_default(),
-                            b.map(|b| f1((b + f.values[i]).max(0.0)))
-                                .unwrap_or_default(),
-                        )
-                    }
-                    Term::DistanceExponent => (
-                        "distance exponent change".into(),
-                        "2.0 (free space)".into(),
-                        f2(2.0 + f.values[i]),
-                    ),
-                };
-                rows.push(vec![
-                    name(&f.service),
-                    desc,
-                    format!("{} {}", f2(f.values[i]), t.unit()),
-                    if f.at_bound[i] {
-                        "at bound".into()
-                    } else {
-                        format!("± {}", f2(f.std_errors[i]))
-                    },
-                    format!("[{}, {}]", f1(f.bounds[i].0), f1(f.bounds[i].1)),
-                    base_v,
-                    new_v,
-                ]);
-            }
+        if fits.is_empty() {
+            out.warnings.push(warn(format!(
+                "calibration is enabled but no service was calibrated ({} survey points in all; the reason per service is listed): the `{base}` prediction stands uncalibrated",
+                ctx.surveys.points.len()
+            )));
+        } else {
+            out.tables = tables::tables(site, &fits);
         }
-        if !fits.is_empty() {
-            out.tables.push(Table {
-                id: "calibration-parameters".into(),
-                title:
-                    "Calibration: fitted parameters (change from the model, standard error 1 sigma)"
-                        .into(),
-                columns: vec![
-                    "Service".into(),
-                    "Parameter".into(),
-                    "Fitted change".into(),
-                    "Std error".into(),
-                    "Bounds".into(),
-                    "Model dB".into(),
-                    "Calibrated dB".into(),
-                ],
-                rows,
-            });
-            out.tables.push(Table {
-                id: "calibration-residuals".into(),
-                title: "Calibration: residual measured - predicted before and after (dB)".into(),
-                columns: vec![
-                    "Service".into(),
-                    "Points".into(),
-                    "Mean before".into(),
-                    "Std before".into(),
-                    "RMS before".into(),
-                    "Mean after".into(),
-                    "Std after".into(),
-                    "RMS after".into(),
-                    "Fit sigma".into(),
-                ],
-                rows: fits
-                    .iter()
-                    .map(|f| {
-                        vec![
-                            name(&f.service),
-                            f.points.to_string(),
-                            f1(f.before.0),
-                            f1(f.before.1),
-                            f1(f.before.2),
-                            f1(f.after.0),
-                            f1(f.after.1),
-                            f1(f.after.2),
-                            f1(f.sigma_db),
-                        ]
-                    })
-                    .collect(),
-            });
-        }
-        let extra: Vec<serde_json::Value> = fits
-            .iter()
-            .map(|f| {
-                serde_json::json!({
-                    "service": f.service, "points": f.points, "skipped": f.skipped,
-                    "parameters": f.terms.iter().enumerate().map(|(i, t)| serde_json::json!({
-                        "name": t.key(), "value": f.values[i], "std_error": if f.std_errors[i].is_finite() { Some(f.std_errors[i]) } else { None },
-                        "bounds": [f.bounds[i].0, f.bounds[i].1], "at_bound": f.at_bound[i],
-                    })).collect::<Vec<_>>(),
-                    "residual_before": {"mean_db": f.before.0, "std_db": f.before.1, "rms_db": f.before.2},
-                    "residual_after": {"mean_db": f.after.0, "std_db": f.after.1, "rms_db": f.after.2},
-                    "sigma_db": f.sigma_db,
-                    "convention": "residual = measured - predicted; level += offset - sum(crossings * material change) - change * 10 log10(d)",
-                })
-            })
-            .collect();
-        out.extra
-            .insert("services".into(), serde_json::Value::Array(extra));
+        out.extra.insert(
+            "not_calibrated".into(),
+            serde_json::Value::Array(not_calibrated),
+        );
+        out.extra.insert(
+            "services".into(),
+            fits.iter().map(tables::extra_json).collect(),
+        );
         out.extra
             .insert("applied".into(), (apply && !fits.is_empty()).into());
         if apply && !fits.is_empty() {
-            let mut scene = scene_for(site);
-            let mut st = vec![(0.0, 0.0); site.services.len()];
-            for f in &fits {
-                let Some(si) = site.services.iter().position(|s| s.id == f.service) else {
-                    continue;
-                };
-                for (i, t) in f.terms.iter().enumerate() {
-                    match t {
-                        Term::Offset => st[si].0 = f.values[i],
-                        Term::DistanceExponent => st[si].1 = f.values[i],
-                        Term::Material(m) => scene.adjust_material(site, si, m, f.values[i]),
-                    }
-                }
-            }
-            out.layers = rfsite_plugin_multi_wall::predict_grid_adjusted(
-                site,
-                "calibrated",
-                &scene,
-                &|si, d| {
-                    let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
-                    -o + dn * 10.0 * d.log10()
-                },
-            );
-            out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters".into() });
+            out.layers = apply_fits(site, &fits);
+            out.warnings.push(warn("maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters (a service not calibrated keeps the multi-wall values)".into()));
         }
         Ok(out)
     }
+}
+
+/// Re-predicts every layer with the fitted values, as model `calibrated`.
+fn apply_fits(site: &Site, fits: &[ServiceFit]) -> Vec<CoverageLayer> {
+    let mut scene = scene_for(site);
+    let mut st = vec![(0.0, 0.0); site.services.len()];
+    for f in fits {
+        let Some(si) = site.services.iter().position(|s| s.id == f.service) else {
+            continue;
+        };
+        for (t, v) in f.terms.iter().zip(&f.values) {
+            match t {
+                Term::Offset => st[si].0 = *v,
+                Term::DistanceExponent => st[si].1 = *v,
+                Term::Material(m) => scene.adjust_material(site, si, m, *v),
+            }
+        }
+    }
+    rfsite_plugin_multi_wall::predict_grid_adjusted(site, "calibrated", &scene, &|si, d| {
+        let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
+        -o + dn * 10.0 * d.log10()
+    })
 }

@@ -1,159 +1,75 @@
-//! Linear least squares by the normal equations (Cholesky), with box bounds by clamping
-//! and refitting, and parameter standard errors from sigma^2 (X^T X)^-1.
+//! Linear least squares for calibration: the bounded optimum by bounded-variable least
+//! squares ([`crate::bvls`], Stark & Parker 1995), and parameter standard errors from
+//! sigma^2 (X_F^T X_F)^-1 over the fitted (free) parameters, from a pivoted QR of their
+//! columns ([`crate::qr`]).
+
+use crate::bvls::{bvls, BvlsError, VarState};
+use crate::qr::Qr;
 
 /// The result of a fit.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Fit {
     /// Parameters.
     pub beta: Vec<f64>,
-    /// Standard errors (NaN for a parameter held at a bound).
+    /// Standard errors (NaN for a parameter that is not fitted: at a bound, uninformed or
+    /// dependent).
     pub se: Vec<f64>,
-    /// Whether each parameter ended at a bound (held there, not fitted).
+    /// Where each parameter ended.
+    pub state: Vec<VarState>,
+    /// Whether each parameter ended held at a bound.
     pub at_bound: Vec<bool>,
     /// Residual sum of squares.
     pub rss: f64,
-    /// Degrees of freedom: observations - free parameters.
+    /// Degrees of freedom: observations - fitted parameters.
     pub dof: usize,
-    /// Residual standard deviation estimate, sqrt(rss / dof).
+    /// Residual standard deviation estimate, sqrt(rss / dof) (NaN when dof = 0).
     pub sigma: f64,
+    /// Free subproblems the bounded solver solved.
+    pub steps: usize,
 }
 
-/// Cholesky factor L (lower) of a symmetric positive definite matrix, or None.
-fn cholesky(a: &[Vec<f64>]) -> Option<Vec<Vec<f64>>> {
-    let n = a.len();
-    let mut l = vec![vec![0.0; n]; n];
-    let scale = (0..n)
-        .map(|i| a[i][i].abs())
-        .fold(0.0, f64::max)
-        .max(1e-300);
-    for i in 0..n {
-        for j in 0..=i {
-            let s: f64 = (0..j).map(|k| l[i][k] * l[j][k]).sum();
-            if i == j {
-                let d = a[i][i] - s;
-                if d <= 1e-12 * scale {
-                    return None;
-                }
-                l[i][i] = d.sqrt();
-            } else {
-                l[i][j] = (a[i][j] - s) / l[j][j];
-            }
-        }
-    }
-    Some(l)
-}
-
-fn chol_solve(l: &[Vec<f64>], b: &[f64]) -> Vec<f64> {
-    let n = l.len();
-    let mut y = vec![0.0; n];
-    for i in 0..n {
-        y[i] = (b[i] - (0..i).map(|k| l[i][k] * y[k]).sum::<f64>()) / l[i][i];
-    }
-    let mut x = vec![0.0; n];
-    for i in (0..n).rev() {
-        x[i] = (y[i] - ((i + 1)..n).map(|k| l[k][i] * x[k]).sum::<f64>()) / l[i][i];
-    }
-    x
-}
-
-/// Unbounded least squares of `y ~ X beta` (rows of `x`). Err when X^T X is singular.
-pub fn lstsq(x: &[Vec<f64>], y: &[f64]) -> Result<Fit, String> {
+/// Unbounded least squares of `y ~ X beta` (rows of `x`).
+pub fn lstsq(x: &[Vec<f64>], y: &[f64]) -> Result<Fit, BvlsError> {
     let p = x.first().map(|r| r.len()).unwrap_or(0);
     bounded_lstsq(x, y, &vec![f64::NEG_INFINITY; p], &vec![f64::INFINITY; p])
 }
 
-/// Least squares with `lo <= beta <= hi`: fit, hold the worst violator at its bound,
-/// refit the rest, until every free parameter lies inside its bounds.
-pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Result<Fit, String> {
-    let n = x.len();
-    let p = lo.len();
-    if n != y.len() || x.iter().any(|r| r.len() != p) || hi.len() != p {
-        return Err("design matrix, observations and bounds disagree in size".into());
+/// Least squares with `lo <= beta <= hi` (the bounded optimum), with standard errors of
+/// the fitted parameters.
+pub fn bounded_lstsq(x: &[Vec<f64>], y: &[f64], lo: &[f64], hi: &[f64]) -> Result<Fit, BvlsError> {
+    let s = bvls(x, y, lo, hi)?;
+    let fitted: Vec<usize> = (0..lo.len())
+        .filter(|&j| s.state[j] == VarState::Free)
+        .collect();
+    let dof = y.len().saturating_sub(fitted.len());
+    let sigma2 = if dof > 0 {
+        s.rss / dof as f64
+    } else {
+        f64::NAN
+    };
+    let cols = fitted
+        .iter()
+        .map(|&j| x.iter().map(|r| r[j]).collect())
+        .collect();
+    let qr = Qr::new(cols, vec![0.0; y.len()]);
+    let mut se = vec![f64::NAN; lo.len()];
+    for (&j, g) in fitted.iter().zip(qr.inverse_gram_diag()) {
+        se[j] = (sigma2 * g).sqrt();
     }
-    let mut fixed: Vec<Option<f64>> = vec![None; p];
-    loop {
-        let free: Vec<usize> = (0..p).filter(|j| fixed[*j].is_none()).collect();
-        let q = free.len();
-        // Observations less the contribution of held parameters.
-        let yr: Vec<f64> = (0..n)
-            .map(|i| {
-                y[i] - (0..p)
-                    .filter_map(|j| fixed[j].map(|v| v * x[i][j]))
-                    .sum::<f64>()
-            })
-            .collect();
-        let mut a = vec![vec![0.0; q]; q];
-        let mut b = vec![0.0; q];
-        for i in 0..n {
-            for (r, &jr) in free.iter().enumerate() {
-                b[r] += x[i][jr] * yr[i];
-                for (c, &jc) in free.iter().enumerate() {
-                    a[r][c] += x[i][jr] * x[i][jc];
-                }
-            }
-        }
-        if n <= q {
-            return Err(format!("{n} observations cannot fit {q} parameters"));
-        }
-        let (bf, l) = if q > 0 {
-            let l = cholesky(&a).ok_or(
-                "the parameters cannot be told apart by these measurements (X^T X is singular)",
-            )?;
-            (chol_solve(&l, &b), Some(l))
-        } else {
-            (vec![], None)
-        };
-        // Worst violation.
-        let mut worst: Option<(usize, f64, f64)> = None;
-        for (r, &j) in free.iter().enumerate() {
-            let v = bf[r];
-            let (viol, bound) = if v < lo[j] {
-                (lo[j] - v, lo[j])
-            } else if v > hi[j] {
-                (v - hi[j], hi[j])
-            } else {
-                (0.0, 0.0)
-            };
-            if viol > 0.0 && worst.is_none_or(|w| viol > w.1) {
-                worst = Some((j, viol, bound));
-            }
-        }
-        if let Some((j, _, bound)) = worst {
-            fixed[j] = Some(bound);
-            continue;
-        }
-        let mut beta = vec![0.0; p];
-        for j in 0..p {
-            if let Some(v) = fixed[j] {
-                beta[j] = v;
-            }
-        }
-        for (r, &j) in free.iter().enumerate() {
-            beta[j] = bf[r];
-        }
-        let rss: f64 = (0..n)
-            .map(|i| (y[i] - (0..p).map(|j| x[i][j] * beta[j]).sum::<f64>()).powi(2))
-            .sum();
-        let dof = n - q;
-        let sigma2 = rss / dof as f64;
-        let mut se = vec![f64::NAN; p];
-        if let Some(l) = l {
-            for (r, &j) in free.iter().enumerate() {
-                let mut e = vec![0.0; q];
-                e[r] = 1.0;
-                let col = chol_solve(&l, &e);
-                se[j] = (sigma2 * col[r]).sqrt();
-            }
-        }
-        return Ok(Fit {
-            beta,
-            se,
-            at_bound: fixed.iter().map(|f| f.is_some()).collect(),
-            rss,
-            dof,
-            sigma: sigma2.sqrt(),
-        });
-    }
+    Ok(Fit {
+        at_bound: s
+            .state
+            .iter()
+            .map(|st| matches!(st, VarState::AtLower | VarState::AtUpper))
+            .collect(),
+        beta: s.x,
+        se,
+        state: s.state,
+        rss: s.rss,
+        dof,
+        sigma: sigma2.sqrt(),
+        steps: s.steps,
+    })
 }
 
 #[cfg(test)]
@@ -177,8 +93,14 @@ mod tests {
     }
 
     #[test]
-    fn singular_design_is_refused() {
+    fn collinear_design_fits_one_and_names_the_other() {
+        // Column 1 = 2 x column 0: only their combination is known. The first is fitted,
+        // the second reported dependent with no standard error; the fit is exact (y = x0).
         let x = vec![vec![1.0, 2.0], vec![2.0, 4.0], vec![3.0, 6.0]];
-        assert!(lstsq(&x, &[1.0, 2.0, 3.0]).is_err());
+        let f = lstsq(&x, &[1.0, 2.0, 3.0]).unwrap();
+        assert_eq!(f.state, vec![VarState::Free, VarState::Dependent]);
+        assert!(f.se[0].is_finite() && f.se[1].is_nan());
+        assert!((f.beta[0] - 1.0).abs() < 1e-12 && f.beta[1] == 0.0 && f.rss < 1e-20);
+        assert_eq!(f.dof, 2);
     }
 }
