@@ -139,3 +139,70 @@ fn field_strength_and_area_coverage() {
     ]);
     assert!((v["area_fraction"].as_f64().unwrap() - 0.7545).abs() < 1e-3);
 }
+
+#[test]
+fn exposure_takes_dbm_and_says_when_the_distance_is_in_the_near_field() {
+    // 30 dBm = 1 W (definition of dBm). FCC 47 CFR 1.1310 Table 1: general population
+    // 1.0 mW/cm² = 10 W/m² above 1500 MHz; r = sqrt(1 / (4 pi 10)) = 0.0892 m, which is
+    // inside 3 wavelengths at 1842.5 MHz (3 × 0.1627 m = 0.488 m; common practice).
+    let v = calc_json(&[
+        "exposure",
+        "--eirp-dbm",
+        "30",
+        "--freq-mhz",
+        "1842.5",
+        "--limit",
+        "fcc-general",
+    ]);
+    assert!((v["eirp_w"].as_f64().unwrap() - 1.0).abs() < 1e-12);
+    assert!((v["distance_m"].as_f64().unwrap() - 0.08921).abs() < 1e-4);
+    assert!((v["far_field_min_m"].as_f64().unwrap() - 0.4881).abs() < 1e-3);
+    assert_eq!(v["within_near_field"], true);
+    assert!(v["note"].as_str().unwrap().contains("near field"));
+    // 100 W at 900 MHz: 2.30 m against 3 λ = 1.00 m, a far-field distance.
+    let far = calc_json(&[
+        "exposure",
+        "--eirp-w",
+        "100",
+        "--freq-mhz",
+        "900",
+        "--limit",
+        "fcc-general",
+    ]);
+    assert_eq!(far["within_near_field"], false);
+}
+
+#[test]
+fn materials_print_a_conductor_beyond_the_cap_never_as_zero() {
+    // ITU-R P.2040-3 Table 3 metal (sigma = 1e7 S/m): a 100 mm slab transmits nothing
+    // a receiver could see; the listing must not print 0.0 dB.
+    let out = run(&["materials"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    let metal = text.lines().find(|l| l.starts_with("metal ")).unwrap();
+    assert!(metal.contains("> 60") && !metal.contains(" 0.0"), "{metal}");
+    let json = run(&["materials", "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let m = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["id"] == "metal")
+        .unwrap();
+    for l in m["losses"].as_array().unwrap() {
+        assert_eq!(l["beyond_cap"], true);
+        assert!(l["loss_db"].is_null());
+    }
+    assert_eq!(m["confidence"], "published formula (ITU-R P.2040 slab)");
+    // Empirical entries name the element they describe and how thickness is treated.
+    let b = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["id"] == "brick-wall")
+        .unwrap();
+    assert_eq!(b["confidence"], "empirical, from memory");
+    assert!(b["thickness"]
+        .as_str()
+        .unwrap()
+        .contains("does not change it"));
+}

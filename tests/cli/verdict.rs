@@ -150,3 +150,40 @@ fn no_level_below_the_receiver_floor_is_printed_as_a_number() {
         }
     }
 }
+
+/// Item 7: the materials table shows the value the prediction charges: the demo's probe
+/// of coated glazing (clear -40.0 dBm, through -67.5 dBm: 27.5 dB by the probe rule
+/// clear minus through) sets the 770 MHz value; at 1842.5 MHz, far from the probe, the
+/// TR 38.901 IRR-glass formula 23 + 0.3 f = 23.553 dB (3GPP TR 38.901 V16.1.0 Table
+/// 7.4.3-1) stays, within 0.01 dB (the library tabulates it at 1800 and 2400 MHz and
+/// interpolates in log-frequency).
+#[test]
+fn materials_table_shows_the_value_used_with_its_confidence_in_words() {
+    let (_d, f, text) = demo();
+    let m = f["materials"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["id"] == "coated-glazing")
+        .unwrap();
+    let ps = &m["losses"][0];
+    assert_eq!(ps["service"], "ps700");
+    assert!((ps["loss_db"].as_f64().unwrap() - 27.5).abs() < 1e-9);
+    assert_eq!(ps["probed"], true);
+    let lte = &m["losses"][1];
+    assert!((lte["loss_db"].as_f64().unwrap() - 23.5528).abs() < 0.01);
+    assert_eq!(lte["probed"], false);
+    assert!(
+        m["confidence"]
+            .as_str()
+            .unwrap()
+            .starts_with("measured on site at 770 MHz; empirical"),
+        "{}",
+        m["confidence"]
+    );
+    assert!(
+        text.contains("27.5 (probe)"),
+        "PDF materials table lacks the probe value"
+    );
+    assert!(text.contains("the site's thickness does not change it"));
+}

@@ -411,9 +411,62 @@ fn collect(
     a
 }
 
-/// The losses of every material the site uses at every service frequency, at normal
-/// incidence and the thickness the site gives it (first use).
+/// The losses the prediction charges for every material the site uses, at every service
+/// frequency, at normal incidence and the thickness the site gives it (first use): the
+/// probe value where a site probe applies, the crossing cap where the material exceeds it.
 pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
+    let thickness = first_thickness(site);
+    let cap = crossing_cap_db(site);
+    site.materials_used
+        .iter()
+        .filter_map(|id| site.materials.get(id))
+        .map(|used| {
+            let lib = site.materials.before_probes.get(&used.id);
+            let t = thickness.get(used.id.as_str()).copied().unwrap_or(0.1);
+            let losses = site
+                .services
+                .iter()
+                .map(|s| material_loss(site, used, lib, s, t, cap))
+                .collect::<Vec<_>>();
+            let probe_loss_db = losses.iter().find(|l| l.probed).map(|l| l.loss_db);
+            let shown = lib.unwrap_or(used);
+            MaterialRow {
+                id: used.id.clone(),
+                name: used.name.clone(),
+                class: used.class.label().into(),
+                model: shown.model_label().into(),
+                source: used.source.clone(),
+                confidence: confidence_with_probes(&losses, &shown.confidence_words()),
+                thickness_rule: shown.thickness_rule(t),
+                losses,
+                probe_loss_db,
+            }
+        })
+        .collect()
+}
+
+/// "measured on site" where probes set every value, else the library's words with the
+/// probed frequencies named.
+fn confidence_with_probes(losses: &[MaterialLoss], library: &str) -> String {
+    let probed: Vec<String> = losses
+        .iter()
+        .filter(|l| l.probed)
+        .map(|l| format!("{} MHz", l.freq_mhz))
+        .collect();
+    if probed.is_empty() {
+        library.to_string()
+    } else if probed.len() == losses.len() {
+        "measured on site".into()
+    } else {
+        format!(
+            "measured on site at {}; {library} elsewhere",
+            probed.join(", ")
+        )
+    }
+}
+
+/// The thickness each material has where the site first uses it, m.
+fn first_thickness(site: &Site) -> BTreeMap<&str, f64> {
     let mut thickness: BTreeMap<&str, f64> = BTreeMap::new();
     for f in &site.floors {
         thickness
@@ -425,78 +478,59 @@ pub fn materials_table(site: &Site) -> Vec<MaterialRow> {
                 .or_insert(p.thickness_m);
         }
     }
-    site.materials_used
+    thickness
+}
+
+/// The multi-wall plugin's cap on one crossing, dB (its option or its default).
+pub fn crossing_cap_db(site: &Site) -> f64 {
+    site.plugin_options
+        .get("multi-wall")
+        .and_then(|t| t.get("max_crossing_loss_db"))
+        .and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64)))
+        .unwrap_or(rfsite_plugin_multi_wall::DEFAULT_MAX_CROSSING_LOSS_DB)
+}
+
+/// One material at one service: the value used (the probed material where a probe of it
+/// lies within the probe tolerance of the service frequency, else the library one).
+fn material_loss(
+    site: &Site,
+    used: &rfsite_model::Material,
+    lib: Option<&rfsite_model::Material>,
+    s: &rfsite_model::Service,
+    t: f64,
+    cap: f64,
+) -> MaterialLoss {
+    let probed = lib.is_some() && probe_applies(site, &used.id, s.freq_mhz);
+    let m = if probed { used } else { lib.unwrap_or(used) };
+    let l = m.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te);
+    MaterialLoss {
+        service: s.id.clone(),
+        freq_mhz: s.freq_mhz,
+        thickness_m: m.model.angle_dependent().then_some(t),
+        loss_db: l.loss_db.min(cap),
+        extrapolated: l.note.is_some() && !probed,
+        probed,
+        beyond_cap: l.loss_db > cap,
+    }
+}
+
+/// Whether the site's probes of a material set its loss at `freq_mhz`: the frequency lies
+/// within the probed span or within the probe tolerance of its ends (as `apply_probes`).
+fn probe_applies(site: &Site, material: &str, freq_mhz: f64) -> bool {
+    let fs: Vec<f64> = site
+        .probes
         .iter()
-        .filter_map(|id| site.materials.get(id))
-        .map(|probed| {
-            // A probed material shows its library values, with the probe value beside them.
-            let lib = site.materials.before_probes.get(&probed.id);
-            let m = lib.unwrap_or(probed);
-            let probe_pts: Vec<(f64, f64)> = site
-                .probes
-                .iter()
-                .filter(|p| p.material == m.id)
-                .map(|p| {
-                    (
-                        p.freq_mhz,
-                        rfsite_model::material::probe_loss_db(p.clear_dbm, p.through_dbm),
-                    )
-                })
-                .collect();
-            let probe_loss_db = lib.and_then(|_| {
-                let at = |f: f64| probed.crossing_loss(f, 0.1, 1.0, Polarization::Te).loss_db;
-                site.services
-                    .iter()
-                    .find(|s| {
-                        probe_pts.iter().any(|(pf, _)| {
-                            (pf - s.freq_mhz).abs()
-                                <= rfsite_model::material::PROBE_FREQ_TOLERANCE * s.freq_mhz
-                        })
-                    })
-                    .map(|s| at(s.freq_mhz))
-                    .or_else(|| probe_pts.first().map(|p| at(p.0)))
-            });
-            let t = thickness.get(m.id.as_str()).copied().unwrap_or(0.1);
-            let empirical = !m.model.angle_dependent();
-            MaterialRow {
-                id: m.id.clone(),
-                name: m.name.clone(),
-                class: m.class.label().into(),
-                model: match (lib, probe_loss_db) {
-                    (Some(_), Some(pl)) => {
-                        format!(
-                        "{}; overridden by site probe: {:.1} dB at {} MHz (library values shown)",
-                        m.model_label(),
-                        pl,
-                        probe_pts.iter().map(|p| format!("{}", p.0)).collect::<Vec<_>>().join(", ")
-                    )
-                    }
-                    _ => m.model_label().into(),
-                },
-                source: m.source.clone(),
-                confidence: if lib.is_some() {
-                    format!("{}; site probe", m.confidence)
-                } else {
-                    m.confidence.clone()
-                },
-                losses: site
-                    .services
-                    .iter()
-                    .map(|s| {
-                        let l = m.crossing_loss(s.freq_mhz, t, 1.0, Polarization::Te);
-                        MaterialLoss {
-                            service: s.id.clone(),
-                            freq_mhz: s.freq_mhz,
-                            thickness_m: (!empirical).then_some(t),
-                            loss_db: l.loss_db,
-                            extrapolated: l.note.is_some(),
-                        }
-                    })
-                    .collect(),
-                probe_loss_db,
-            }
-        })
-        .collect()
+        .filter(|p| p.material == material)
+        .map(|p| p.freq_mhz)
+        .collect();
+    let (Some(lo), Some(hi)) = (
+        fs.iter().copied().reduce(f64::min),
+        fs.iter().copied().reduce(f64::max),
+    ) else {
+        return false;
+    };
+    let tol = rfsite_model::material::PROBE_FREQ_TOLERANCE * freq_mhz;
+    freq_mhz >= lo - tol && freq_mhz <= hi + tol
 }
 
 /// findings.json: the contract fields first, then the rest of the assessment.

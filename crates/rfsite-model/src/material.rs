@@ -122,6 +122,8 @@ pub struct Material {
     pub model: MaterialModel,
     /// Where it came from: "itu", "library", "site", "probe".
     pub origin: String,
+    /// For an empirical entry: the element its numbers describe, with its usual thickness.
+    pub reference: Option<String>,
 }
 
 /// Loss of one crossing.
@@ -254,6 +256,41 @@ impl Material {
         }
     }
 
+    /// How far to trust the numbers, in words a reader of the report understands.
+    pub fn confidence_words(&self) -> String {
+        let kind = match (&self.model, self.origin.as_str()) {
+            (_, "probe") => return "measured on site".into(),
+            (MaterialModel::Empirical { .. }, "site") => {
+                return "empirical, given in site.toml".into()
+            }
+            (_, "site") => "published formula (P.2040 slab) with values given in site.toml",
+            (MaterialModel::Empirical { .. }, _) => "",
+            _ => return "published formula (ITU-R P.2040 slab)".into(),
+        };
+        if !kind.is_empty() {
+            return kind.into();
+        }
+        match self.confidence.as_str() {
+            "from memory" => "empirical, from memory".into(),
+            "common practice" => "empirical, common practice".into(),
+            _ => "empirical, from a published source".into(),
+        }
+    }
+
+    /// How the site's thickness enters the loss, in words.
+    pub fn thickness_rule(&self, thickness_m: f64) -> String {
+        match (&self.model, &self.reference) {
+            (MaterialModel::Empirical { .. }, Some(r)) => {
+                format!("per crossing of {r}; the site's thickness does not change it")
+            }
+            (MaterialModel::Empirical { .. }, None) => {
+                "per crossing as given; the site's thickness does not change it".into()
+            }
+            (MaterialModel::Layered(_), _) => "layers as defined".into(),
+            _ => format!("slab {:.0} mm as on site", thickness_m * 1000.0),
+        }
+    }
+
     /// Complex reflection coefficient at normal incidence (for standing waves).
     /// Empirical entries give a magnitude only; their phase is taken as pi (a
     /// conductor-like reflector), which places the first null on the surface.
@@ -354,6 +391,7 @@ struct LibEntry {
     class: String,
     source: String,
     confidence: String,
+    reference: String,
     loss_db: Vec<(f64, f64)>,
     #[serde(default)]
     reflection_loss_db: Vec<(f64, f64)>,
@@ -388,6 +426,7 @@ impl MaterialLibrary {
                     confidence: "confirmed".into(),
                     model: MaterialModel::Itu(m),
                     origin: "itu".into(),
+                    reference: None,
                 },
             );
         }
@@ -428,6 +467,7 @@ impl MaterialLibrary {
                         reflection_loss_db: e.reflection_loss_db,
                     },
                     origin: origin.into(),
+                    reference: Some(e.reference),
                 },
             );
         }
@@ -526,6 +566,7 @@ impl MaterialLibrary {
                     reflection_loss_db,
                 },
                 origin: "probe".into(),
+                reference: orig.reference.clone(),
             };
             self.before_probes.insert(id.to_string(), orig);
             self.materials.insert(id.to_string(), probed);

@@ -731,6 +731,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                 confidence: "site".into(),
                 model,
                 origin: "site".into(),
+                reference: None,
             },
         );
     }

@@ -35,10 +35,17 @@ pub struct MaterialLoss {
     pub freq_mhz: f64,
     /// Thickness used, m (None for empirical entries).
     pub thickness_m: Option<f64>,
-    /// Loss at normal incidence, dB.
+    /// Loss the prediction charges at normal incidence, dB (the probe value where a site
+    /// probe applies at this frequency; at most the crossing cap).
     pub loss_db: f64,
     /// Outside the material's range.
     pub extrapolated: bool,
+    /// The value comes from a site probe at this frequency.
+    #[serde(default)]
+    pub probed: bool,
+    /// The material's own loss is above the crossing cap; `loss_db` is the cap.
+    #[serde(default)]
+    pub beyond_cap: bool,
 }
 
 /// A material the site uses, with its losses.
@@ -54,8 +61,12 @@ pub struct MaterialRow {
     pub model: String,
     /// Source.
     pub source: String,
-    /// Confidence.
+    /// Confidence, in words ("published formula", "empirical, from memory", "measured on
+    /// site").
     pub confidence: String,
+    /// How the site's thickness enters the loss.
+    #[serde(default)]
+    pub thickness_rule: String,
     /// Losses per service.
     pub losses: Vec<MaterialLoss>,
     /// Probe-measured loss that overrides the library value, dB, if any.

@@ -358,22 +358,22 @@ pub fn view_model(
         .materials
         .iter()
         .map(|m| {
-            let mut r = vec![m.name.clone(), m.class.clone(), m.model.clone()];
-            for l in &m.losses {
-                r.push(format!(
-                    "{}{}",
-                    f1(l.loss_db),
-                    if l.extrapolated { " *" } else { "" }
-                ));
-            }
-            r.push(m.probe_loss_db.map(f1).unwrap_or_else(|| "-".into()));
+            let mut r = vec![
+                m.name.clone(),
+                m.class.clone(),
+                format!("{}; {}", m.model, m.thickness_rule),
+            ];
+            r.extend(m.losses.iter().map(material_cell));
             r.push(m.confidence.clone());
             r
         })
         .collect();
-    let mut mat_cols = vec!["Material".to_string(), "Class".into(), "Model".into()];
+    let mut mat_cols = vec![
+        "Material".to_string(),
+        "Class".into(),
+        "Model and thickness".into(),
+    ];
     mat_cols.extend(svc_ids.iter().map(|s| format!("{s} dB")));
-    mat_cols.push("Site probe dB".into());
     mat_cols.push("Confidence".into());
     let floors: Vec<Vec<String>> = site
         .floors
@@ -446,7 +446,7 @@ pub fn view_model(
         &hb,
         "method",
         &json!({"model": site.prediction.model, "step": f1(u.from_m(site.prediction.grid_step_m)), "units": ul,
-        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "sigma": f1(a.services.first().map(|s| s.required.shadowing_sigma_db).unwrap_or(site.prediction.shadowing_sigma_db)), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
+        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "sigma": f1(a.services.first().map(|s| s.required.shadowing_sigma_db).unwrap_or(site.prediction.shadowing_sigma_db)), "sigma_source": sigma_source(site), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
     )?;
     let tables: Vec<Value> = a
         .tables
@@ -586,4 +586,35 @@ fn parse_date(s: &str) -> (i32, u8, u8) {
     let m = s.get(5..7).and_then(|x| x.parse().ok()).unwrap_or(1);
     let d = s.get(8..10).and_then(|x| x.parse().ok()).unwrap_or(1);
     (y, m, d)
+}
+
+/// Where the shadowing spread in force comes from, in words for the method section.
+fn sigma_source(site: &Site) -> &'static str {
+    let graded = site
+        .plugin_options
+        .get("grading")
+        .is_some_and(|t| t.contains_key("shadowing_sigma_db"));
+    if graded {
+        "set for the grading in site.toml"
+    } else if site.prediction.shadowing_sigma_given {
+        "given in site.toml"
+    } else {
+        "rfsite's default, as site.toml does not set it"
+    }
+}
+
+/// One material loss as the table prints it: the value charged, "> cap" for a material
+/// beyond the crossing cap, "(probe)" where a site probe sets it, "*" where extrapolated.
+fn material_cell(l: &rfsite_plugin::MaterialLoss) -> String {
+    if l.beyond_cap {
+        return format!("> {:.0} (cap)", l.loss_db);
+    }
+    let mark = if l.probed {
+        " (probe)"
+    } else if l.extrapolated {
+        " *"
+    } else {
+        ""
+    };
+    format!("{}{mark}", f1(l.loss_db))
 }

@@ -472,6 +472,10 @@ pub fn breakdown(
 /// The multi-wall plugin.
 pub struct MultiWall;
 
+/// The default cap on one wall crossing, dB: leakage and diffraction around real walls
+/// bound what one crossing costs (common practice).
+pub const DEFAULT_MAX_CROSSING_LOSS_DB: f64 = 60.0;
+
 /// The options `floor_b` and `max_crossing_loss_db`, checked.
 fn options(ctx: &Context<'_>) -> Result<(f64, f64), PluginError> {
     let b = ctx.option_f64("floor_b", cost231::COST231_DEFAULT_B)?;
@@ -481,7 +485,7 @@ fn options(ctx: &Context<'_>) -> Result<(f64, f64), PluginError> {
             message: "must be between 0 and 2 (COST 231 fitted 0.46)".into(),
         });
     }
-    let cap = ctx.option_f64("max_crossing_loss_db", 60.0)?;
+    let cap = ctx.option_f64("max_crossing_loss_db", DEFAULT_MAX_CROSSING_LOSS_DB)?;
     if cap <= 0.0 {
         return Err(PluginError::BadOption {
             key: "max_crossing_loss_db".into(),
