@@ -51,6 +51,37 @@ fn concrete_below_its_fitted_range_is_flagged() {
 }
 
 #[test]
+fn material_reflection_follows_angle_and_polarisation() {
+    // Reference: tests/reference/tmm/oblique_slabs.csv (PyPI tmm, tmm.coh_tmm; script
+    // gen_oblique_slabs.py): brick, 2156.9 MHz, 33.4 mm, TE at 62.4 deg: reflection loss
+    // 4.764795 dB, transmission loss 3.097335 dB; TM at 62.4 deg (near Brewster):
+    // 37.175454 dB and 0.830371 dB; normal incidence 18.644605 dB.
+    let at = |deg: &str, pol: &str| {
+        calc_json(&[
+            "material",
+            "--material",
+            "brick",
+            "--freq-mhz",
+            "2156.9",
+            "--thickness-mm",
+            "33.4",
+            "--incidence-deg",
+            deg,
+            "--polarization",
+            pol,
+        ])
+    };
+    let v = at("62.4", "te");
+    assert!((v["reflection_loss_db"].as_f64().unwrap() - 4.764_795).abs() < 0.01);
+    assert!((v["transmission_loss_db"].as_f64().unwrap() - 3.097_335).abs() < 0.01);
+    let v = at("62.4", "tm");
+    assert!((v["reflection_loss_db"].as_f64().unwrap() - 37.175_454).abs() < 0.01);
+    assert!((v["transmission_loss_db"].as_f64().unwrap() - 0.830_371).abs() < 0.01);
+    let v = at("0", "te");
+    assert!((v["reflection_loss_db"].as_f64().unwrap() - 18.644_605).abs() < 0.01);
+}
+
+#[test]
 fn bel_median_matches_p2109() {
     // ITU-R P.2109-2, thermally efficient, 0.9 GHz, P = 0.5, horizontal: 31.16 dB (computed).
     let v = calc_json(&[
