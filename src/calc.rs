@@ -1,6 +1,6 @@
 //! `rfsite calc NAME [FLAGS] [--json]`: one published calculation.
 
-use rfsite_model::MaterialLibrary;
+use rfsite_model::{MaterialLibrary, GRAZING_LIMIT_DEG};
 use rfsite_physics::p2040::Polarization;
 use rfsite_physics::{antenna, cost231, exposure, fspl, p1238, p2109, standing_wave, stats};
 use serde_json::{json, Map, Value};
@@ -37,7 +37,7 @@ pub enum What {
         freq_mhz: f64,
         #[arg(long, default_value_t = 100.0)]
         thickness_mm: f64,
-        /// Incidence angle from the wall's normal, degrees.
+        /// Incidence angle from the wall's normal, degrees, 0 to 89.9 (the grazing limit).
         #[arg(long, default_value_t = 0.0)]
         incidence_deg: f64,
         /// te (electric field parallel to the wall face, perpendicular to the plane of
@@ -174,9 +174,9 @@ fn material_json(
 ) -> Result<Value, String> {
     positive("freq-mhz", freq_mhz)?;
     positive("thickness-mm", thickness_mm)?;
-    if !(0.0..90.0).contains(&incidence_deg) {
+    if !(0.0..=GRAZING_LIMIT_DEG).contains(&incidence_deg) {
         return bad(format!(
-            "--incidence-deg must be from 0 to below 90 (got {incidence_deg})"
+            "--incidence-deg must be from 0 to {GRAZING_LIMIT_DEG} degrees from the wall's normal (got {incidence_deg})\n  = hint: beyond {GRAZING_LIMIT_DEG}° the path runs along the wall; a prediction charges such a crossing the loss at {GRAZING_LIMIT_DEG}° (the grazing rule), which is `--incidence-deg {GRAZING_LIMIT_DEG}` here"
         ));
     }
     let pol = match polarization {

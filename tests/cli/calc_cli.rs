@@ -141,6 +141,36 @@ fn nonsense_is_refused_with_exit_2() {
         assert_eq!(out.status.code(), Some(2), "{args:?}");
         assert!(!String::from_utf8_lossy(&out.stderr).contains("panicked"));
     }
+    // Beyond the grazing limit (89.9 deg, rfsite-model GRAZING_LIMIT_DEG) the angle is
+    // refused with the rule, not silently computed at another angle.
+    for deg in ["89.95", "90", "-1"] {
+        let out = run(&[
+            "calc",
+            "material",
+            "--material",
+            "brick",
+            "--freq-mhz",
+            "2400",
+            "--incidence-deg",
+            deg,
+        ]);
+        assert_eq!(out.status.code(), Some(2), "{deg}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains("89.9") && err.contains("grazing"), "{err}");
+    }
+    let v = calc_json(&[
+        "material",
+        "--material",
+        "brick",
+        "--freq-mhz",
+        "2400",
+        "--thickness-mm",
+        "120",
+        "--incidence-deg",
+        "89.9",
+    ]);
+    // tmm, oblique_slabs.csv: brick 120 mm, 2.4 GHz, TE, 89.9 deg: 52.433450 dB.
+    assert!((v["transmission_loss_db"].as_f64().unwrap() - 52.433_45).abs() < 0.01);
     let out = run(&[
         "calc",
         "material",

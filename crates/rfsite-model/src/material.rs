@@ -7,6 +7,7 @@
 
 use std::collections::BTreeMap;
 
+use rfsite_physics::angle_table::AngleTable;
 use rfsite_physics::p2040::{self, ItuMaterial, Layer, Polarization, SlabResponse};
 use rfsite_physics::validity::RangeNote;
 use rfsite_physics::Complex64;
@@ -131,6 +132,73 @@ pub struct CrossingLoss {
     pub loss_db: f64,
     /// Set when the data were used outside their range.
     pub note: Option<RangeNote>,
+}
+
+/// The grazing rule: the largest incidence angle from a wall's normal at which a
+/// crossing's loss is computed, degrees. A path meeting a wall at a larger angle runs
+/// along it within 0.1°; such a crossing is charged the loss at this angle (a prediction
+/// then caps every crossing at its largest crossing loss, multi-wall's
+/// `max_crossing_loss_db`). An rfsite choice: the slab's transmission tends to zero at
+/// grazing, and the geometry of a path that close to a wall's line says little.
+pub const GRAZING_LIMIT_DEG: f64 = 89.9;
+
+/// Largest miss, dB, of a tabulated crossing loss ([`CrossingLossFn::Table`]) against
+/// the exact slab at the midpoint of any table interval (see
+/// [`rfsite_physics::angle_table`]); a tenth of the 0.01 dB the predictions promise, with
+/// room for the interpolation error between midpoints.
+pub const TABLE_TOLERANCE_DB: f64 = 0.002;
+
+/// The loss of one kind of crossing (material, thickness, frequency, polarisation) as a
+/// function of `|cos θ|`, for evaluation at every grid point; at most a ceiling (the
+/// largest crossing loss), and at [`GRAZING_LIMIT_DEG`] for larger angles.
+#[derive(Debug, Clone, PartialEq)]
+pub enum CrossingLossFn {
+    /// A measured table: the same loss at every angle, dB.
+    Const(f64),
+    /// A slab or layered material: the exact loss tabulated over the angle, within
+    /// [`TABLE_TOLERANCE_DB`] at every interval midpoint.
+    Table(AngleTable),
+    /// A slab the table could not meet (a thick, nearly lossless slab resonating faster
+    /// than the finest table): the exact loss at every call.
+    Exact(Box<ExactCrossing>),
+}
+
+/// What [`CrossingLossFn::Exact`] evaluates.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExactCrossing {
+    material: Material,
+    freq_mhz: f64,
+    thickness_m: f64,
+    pol: Polarization,
+    ceiling_db: f64,
+}
+
+impl CrossingLossFn {
+    /// Loss of a crossing at `|cos θ| = cos_incidence`, dB, at most the ceiling.
+    pub fn eval(&self, cos_incidence: f64) -> f64 {
+        match self {
+            CrossingLossFn::Const(l) => *l,
+            CrossingLossFn::Table(t) => t.eval(cos_incidence),
+            CrossingLossFn::Exact(e) => e.eval(cos_incidence),
+        }
+    }
+
+    /// The loss when it does not depend on the angle.
+    pub fn constant_db(&self) -> Option<f64> {
+        match self {
+            CrossingLossFn::Const(l) => Some(*l),
+            _ => None,
+        }
+    }
+}
+
+impl ExactCrossing {
+    fn eval(&self, cos_incidence: f64) -> f64 {
+        self.material
+            .crossing_loss(self.freq_mhz, self.thickness_m, cos_incidence, self.pol)
+            .loss_db
+            .min(self.ceiling_db)
+    }
 }
 
 fn interp_log_f(points: &[(f64, f64)], freq_mhz: f64) -> (f64, bool) {
@@ -275,8 +343,8 @@ fn incidence_rad(cos_incidence: f64) -> f64 {
 
 impl Material {
     /// Transmission loss of one crossing, dB. `cos_incidence` is `|cos|` of the incidence
-    /// angle from the wall's normal (1 at normal incidence); angles beyond 89° are
-    /// charged at 89°. Walls are vertical and the antennas
+    /// angle from the wall's normal (1 at normal incidence); angles beyond
+    /// [`GRAZING_LIMIT_DEG`] are charged at it. Walls are vertical and the antennas
     /// vertically polarised, so a horizontal path meets a wall with the field parallel to
     /// it: TE (perpendicular) polarisation; a floor slab crossed by a steep path is closer
     /// to TM.
@@ -287,7 +355,7 @@ impl Material {
         cos_incidence: f64,
         pol: Polarization,
     ) -> CrossingLoss {
-        let theta = incidence_rad(cos_incidence).min(89.0_f64.to_radians());
+        let theta = incidence_rad(cos_incidence).min(GRAZING_LIMIT_DEG.to_radians());
         self.crossing_loss_at(freq_mhz, thickness_m, theta, pol)
     }
 
@@ -309,6 +377,42 @@ impl Material {
                     note: m.range_note(f_ghz),
                 }
             }
+        }
+    }
+
+    /// The crossing loss of this material at one frequency, thickness and polarisation as
+    /// a function of the angle, at most `ceiling_db`: [`CrossingLossFn::Const`] for a
+    /// measured table, else the exact [`Material::crossing_loss`] tabulated (or, if no
+    /// table meets [`TABLE_TOLERANCE_DB`], evaluated at every call).
+    pub fn crossing_loss_fn(
+        &self,
+        freq_mhz: f64,
+        thickness_m: f64,
+        pol: Polarization,
+        ceiling_db: f64,
+    ) -> CrossingLossFn {
+        if !self.model.angle_dependent() {
+            let l = self.crossing_loss(freq_mhz, thickness_m, 1.0, pol).loss_db;
+            return CrossingLossFn::Const(l.min(ceiling_db));
+        }
+        let exact = ExactCrossing {
+            material: self.clone(),
+            freq_mhz,
+            thickness_m,
+            pol,
+            ceiling_db,
+        };
+        let min_cos = GRAZING_LIMIT_DEG.to_radians().cos();
+        // Nodes below min_cos (the table's first octave) take the exact value there, not
+        // the grazing rule's, so that the interval holding min_cos interpolates a smooth
+        // function; the table applies the rule itself when evaluated.
+        let loss = |c: f64| {
+            self.crossing_loss_at(freq_mhz, thickness_m, incidence_rad(c), pol)
+                .loss_db
+        };
+        match AngleTable::build(loss, min_cos, ceiling_db, TABLE_TOLERANCE_DB) {
+            Ok(t) => CrossingLossFn::Table(t),
+            Err(_) => CrossingLossFn::Exact(Box::new(exact)),
         }
     }
 

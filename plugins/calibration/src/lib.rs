@@ -595,7 +595,7 @@ impl Plugin for Calibration {
                     match t {
                         Term::Offset => st[si].0 = f.values[i],
                         Term::DistanceExponent => st[si].1 = f.values[i],
-                        Term::Material(m) => scene.adjust_material(site, si, m, f.values[i]),
+                        Term::Material(m) => scene.adjust_material(si, m, f.values[i]),
                     }
                 }
             }

@@ -106,8 +106,8 @@ fn recovers_known_losses_within_three_sigma() {
     let base = predict(&site, "multi-wall", &base_scene);
     let (d_a, d_b, offset, sigma) = (3.0, -2.0, 4.0, 2.0);
     let mut truth_scene = scene_for(&site);
-    truth_scene.adjust_material(&site, 0, "plasterboard-partition", d_a);
-    truth_scene.adjust_material(&site, 0, "concrete-block", d_b);
+    truth_scene.adjust_material(0, "plasterboard-partition", d_a);
+    truth_scene.adjust_material(0, "concrete-block", d_b);
     let truth = predict(&site, "truth", &truth_scene);
     let (lb, lt) = (&base[0], &truth[0]);
     let g = lt.grid.to_grid();
