@@ -154,11 +154,9 @@ impl AngleTable {
     /// NaN in gives NaN out.
     pub fn eval(&self, cos: f64) -> f64 {
         let c = cos.clamp(self.min_cos, 1.0);
-        if c.is_nan() {
-            return f64::NAN;
-        }
-        if c >= 1.0 {
-            return self.values[self.values.len() - 1].min(self.ceiling_db);
+        if c >= 1.0 || c.is_nan() {
+            // Normal incidence, or NaN.
+            return c * self.values[self.values.len() - 1].min(self.ceiling_db);
         }
         let (j, t) = locate(c, self.bits);
         let (a, b) = (self.values[j], self.values[j + 1]);
