@@ -296,20 +296,23 @@ impl PathLoss for Calibrated<'_> {
     }
 }
 
-fn f1(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.1}")
-    } else {
-        "n/a".into()
+/// `x` with `decimals` decimals (`None` if not finite); a value that rounds to zero
+/// prints as 0, never as -0.
+fn fixed(x: f64, decimals: usize) -> Option<String> {
+    if !x.is_finite() {
+        return None;
     }
+    let s = format!("{x:.decimals$}");
+    let negative_zero = s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.');
+    Some(if negative_zero { s[1..].to_string() } else { s })
+}
+
+fn f1(x: f64) -> String {
+    fixed(x, 1).unwrap_or_else(|| "n/a".into())
 }
 
 fn f2(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.2}")
-    } else {
-        "—".into()
-    }
+    fixed(x, 2).unwrap_or_else(|| "—".into())
 }
 
 fn opt_enabled(site: &Site) -> bool {
@@ -611,5 +614,21 @@ impl Plugin for Calibration {
             out.warnings.push(Warning { plugin: self.id().into(), message: "maps and grading use the calibrated model (`calibrated`): the multi-wall prediction with the fitted parameters".into() });
         }
         Ok(out)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_that_round_to_zero_print_without_a_sign() {
+        // A fitted mean residual of -1e-6 dB is zero at the printed precision.
+        assert_eq!(f1(-1e-6), "0.0");
+        assert_eq!(f2(-0.004), "0.00");
+        assert_eq!(f1(-0.06), "-0.1");
+        assert_eq!(f2(0.004), "0.00");
+        assert_eq!(f1(f64::NAN), "n/a");
+        assert_eq!(f2(f64::INFINITY), "—");
     }
 }
