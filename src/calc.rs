@@ -1,6 +1,6 @@
 //! `rfsite calc NAME [FLAGS] [--json]`: one published calculation.
 
-use rfsite_model::MaterialLibrary;
+use rfsite_model::{MaterialLibrary, GRAZING_LIMIT_DEG};
 use rfsite_physics::p2040::Polarization;
 use rfsite_physics::{antenna, cost231, exposure, fspl, p1238, p2109, standing_wave, stats};
 use serde_json::{json, Map, Value};
@@ -37,8 +37,11 @@ pub enum What {
         freq_mhz: f64,
         #[arg(long, default_value_t = 100.0)]
         thickness_mm: f64,
+        /// Incidence angle from the wall's normal, degrees, 0 to 89.9 (the grazing limit).
         #[arg(long, default_value_t = 0.0)]
         incidence_deg: f64,
+        /// te (electric field parallel to the wall face, perpendicular to the plane of
+        /// incidence) or tm.
         #[arg(long, default_value = "te")]
         polarization: String,
     },
@@ -169,6 +172,57 @@ fn material_of(lib: &MaterialLibrary, id: &str) -> Result<rfsite_model::Material
     })
 }
 
+/// `calc material`: transmission and reflection of one material at the given incidence
+/// angle and polarisation (ITU-R P.2040-3 §3 for slabs; measured tables are
+/// angle-independent).
+fn material_json(
+    lib: &MaterialLibrary,
+    material: &str,
+    freq_mhz: f64,
+    thickness_mm: f64,
+    incidence_deg: f64,
+    polarization: &str,
+) -> Result<Value, String> {
+    positive("freq-mhz", freq_mhz)?;
+    positive("thickness-mm", thickness_mm)?;
+    if !(0.0..=GRAZING_LIMIT_DEG).contains(&incidence_deg) {
+        return bad(format!(
+            "--incidence-deg must be from 0 to {GRAZING_LIMIT_DEG} degrees from the wall's normal (got {incidence_deg})\n  = hint: beyond {GRAZING_LIMIT_DEG}° the path runs along the wall; a prediction charges such a crossing the loss at {GRAZING_LIMIT_DEG}° (the grazing rule), which is `--incidence-deg {GRAZING_LIMIT_DEG}` here"
+        ));
+    }
+    let pol = match polarization {
+        "te" => Polarization::Te,
+        "tm" => Polarization::Tm,
+        p => return bad(format!("--polarization must be te or tm (got {p})")),
+    };
+    let m = material_of(lib, material)?;
+    let t = thickness_mm / 1000.0;
+    let cos = incidence_deg.to_radians().cos();
+    let l = m.crossing_loss(freq_mhz, t, cos, pol);
+    let r = m.reflection_coefficient(freq_mhz, t, cos, pol);
+    let (eps, sigma) = match &m.model {
+        rfsite_model::MaterialModel::Itu(i) => (
+            Some(i.permittivity_real(freq_mhz / 1000.0)),
+            Some(i.conductivity_s_per_m(freq_mhz / 1000.0)),
+        ),
+        rfsite_model::MaterialModel::CustomSlab {
+            eps_real,
+            sigma_s_per_m,
+        } => (Some(*eps_real), Some(*sigma_s_per_m)),
+        _ => (None, None),
+    };
+    let refl_db = (r.norm() > 0.0).then(|| -20.0 * r.norm().log10());
+    let angle_note = (!m.model.angle_dependent()).then_some(
+        "measured table: the loss and reflection do not depend on the angle or polarisation",
+    );
+    Ok(
+        json!({"material": m.id, "model": m.model_label(), "permittivity_real": eps, "conductivity_s_per_m": sigma,
+        "incidence_deg": incidence_deg, "polarization": polarization,
+        "transmission_loss_db": l.loss_db, "reflection_loss_db": refl_db,
+        "extrapolated": l.note.is_some(), "warning": l.note.map(|n| n.message()), "note": angle_note, "source": m.source}),
+    )
+}
+
 fn compute(w: &What) -> Result<Value, String> {
     let lib = MaterialLibrary::builtin();
     match w {
@@ -189,46 +243,14 @@ fn compute(w: &What) -> Result<Value, String> {
             thickness_mm,
             incidence_deg,
             polarization,
-        } => {
-            positive("freq-mhz", *freq_mhz)?;
-            positive("thickness-mm", *thickness_mm)?;
-            if !(0.0..90.0).contains(incidence_deg) {
-                return bad(format!(
-                    "--incidence-deg must be from 0 to below 90 (got {incidence_deg})"
-                ));
-            }
-            let pol = match polarization.as_str() {
-                "te" => Polarization::Te,
-                "tm" => Polarization::Tm,
-                p => return bad(format!("--polarization must be te or tm (got {p})")),
-            };
-            let m = material_of(&lib, material)?;
-            let t = thickness_mm / 1000.0;
-            let cos = incidence_deg.to_radians().cos();
-            let l = m.crossing_loss(*freq_mhz, t, cos, pol);
-            let r = m.reflection_coefficient(*freq_mhz, t);
-            let (eps, sigma) = match &m.model {
-                rfsite_model::MaterialModel::Itu(i) => (
-                    Some(i.permittivity_real(freq_mhz / 1000.0)),
-                    Some(i.conductivity_s_per_m(freq_mhz / 1000.0)),
-                ),
-                rfsite_model::MaterialModel::CustomSlab {
-                    eps_real,
-                    sigma_s_per_m,
-                } => (Some(*eps_real), Some(*sigma_s_per_m)),
-                _ => (None, None),
-            };
-            let refl_db = if r.norm() > 0.0 {
-                -20.0 * r.norm().log10()
-            } else {
-                f64::INFINITY
-            };
-            Ok(
-                json!({"material": m.id, "model": m.model_label(), "permittivity_real": eps, "conductivity_s_per_m": sigma,
-                "transmission_loss_db": l.loss_db, "reflection_loss_db": if refl_db.is_finite() { Some(refl_db) } else { None },
-                "extrapolated": l.note.is_some(), "warning": l.note.map(|n| n.message()), "source": m.source}),
-            )
-        }
+        } => material_json(
+            &lib,
+            material,
+            *freq_mhz,
+            *thickness_mm,
+            *incidence_deg,
+            polarization,
+        ),
         What::Bel {
             freq_mhz,
             building,
@@ -262,7 +284,10 @@ fn compute(w: &What) -> Result<Value, String> {
             positive("freq-mhz", *freq_mhz)?;
             positive("max-distance-m", *max_distance_m)?;
             let m = material_of(&lib, material)?;
-            let g = m.reflection_coefficient(*freq_mhz, thickness_mm / 1000.0);
+            // Normal incidence: the standing-wave formula is the normal-incidence one;
+            // TE is the electric-field ratio.
+            let g =
+                m.reflection_coefficient(*freq_mhz, thickness_mm / 1000.0, 1.0, Polarization::Te);
             let depth = standing_wave::peak_to_null_db(g.norm());
             let depth = if depth.is_finite() { Some(depth) } else { None };
             Ok(

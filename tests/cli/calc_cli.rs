@@ -51,6 +51,37 @@ fn concrete_below_its_fitted_range_is_flagged() {
 }
 
 #[test]
+fn material_reflection_follows_angle_and_polarisation() {
+    // Reference: tests/reference/tmm/oblique_slabs.csv (PyPI tmm, tmm.coh_tmm; script
+    // gen_oblique_slabs.py): brick, 2156.9 MHz, 33.4 mm, TE at 62.4 deg: reflection loss
+    // 4.764795 dB, transmission loss 3.097335 dB; TM at 62.4 deg (near Brewster):
+    // 37.175454 dB and 0.830371 dB; normal incidence 18.644605 dB.
+    let at = |deg: &str, pol: &str| {
+        calc_json(&[
+            "material",
+            "--material",
+            "brick",
+            "--freq-mhz",
+            "2156.9",
+            "--thickness-mm",
+            "33.4",
+            "--incidence-deg",
+            deg,
+            "--polarization",
+            pol,
+        ])
+    };
+    let v = at("62.4", "te");
+    assert!((v["reflection_loss_db"].as_f64().unwrap() - 4.764_795).abs() < 0.01);
+    assert!((v["transmission_loss_db"].as_f64().unwrap() - 3.097_335).abs() < 0.01);
+    let v = at("62.4", "tm");
+    assert!((v["reflection_loss_db"].as_f64().unwrap() - 37.175_454).abs() < 0.01);
+    assert!((v["transmission_loss_db"].as_f64().unwrap() - 0.830_371).abs() < 0.01);
+    let v = at("0", "te");
+    assert!((v["reflection_loss_db"].as_f64().unwrap() - 18.644_605).abs() < 0.01);
+}
+
+#[test]
 fn bel_median_matches_p2109() {
     // ITU-R P.2109-2, thermally efficient, 0.9 GHz, P = 0.5, horizontal: 31.16 dB (computed).
     let v = calc_json(&[
@@ -110,6 +141,36 @@ fn nonsense_is_refused_with_exit_2() {
         assert_eq!(out.status.code(), Some(2), "{args:?}");
         assert!(!String::from_utf8_lossy(&out.stderr).contains("panicked"));
     }
+    // Beyond the grazing limit (89.9 deg, rfsite-model GRAZING_LIMIT_DEG) the angle is
+    // refused with the rule, not silently computed at another angle.
+    for deg in ["89.95", "90", "-1"] {
+        let out = run(&[
+            "calc",
+            "material",
+            "--material",
+            "brick",
+            "--freq-mhz",
+            "2400",
+            "--incidence-deg",
+            deg,
+        ]);
+        assert_eq!(out.status.code(), Some(2), "{deg}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains("89.9") && err.contains("grazing"), "{err}");
+    }
+    let v = calc_json(&[
+        "material",
+        "--material",
+        "brick",
+        "--freq-mhz",
+        "2400",
+        "--thickness-mm",
+        "120",
+        "--incidence-deg",
+        "89.9",
+    ]);
+    // tmm, oblique_slabs.csv: brick 120 mm, 2.4 GHz, TE, 89.9 deg: 52.433450 dB.
+    assert!((v["transmission_loss_db"].as_f64().unwrap() - 52.433_45).abs() < 0.01);
     let out = run(&[
         "calc",
         "material",

@@ -5,6 +5,7 @@
 //! cargo run --release -p rfsite-bench -- --quick # one repetition, smaller samples
 //! cargo run --release -p rfsite-bench -- --tower # only the 20-storey estimate
 //! cargo run --release -p rfsite-bench -- --profile-shadow # per-call shadow cost and counters
+//! cargo run --release -p rfsite-bench -- --slabs   # only the P.2040 slab-loss timings
 //! ```
 //!
 //! A synthetic office floor (`synth::office_floor`, fixed seeds) with one
@@ -31,6 +32,8 @@ use rfsite_geometry::{crossings_brute_force, Grid, Point2, Scratch, Segment, Wal
 use std::ops::AddAssign;
 use std::time::Instant;
 
+mod slabs;
+
 const WIDTH_M: f64 = 120.0;
 const DEPTH_M: f64 = 80.0;
 const PLAN_SEED: u64 = 6;
@@ -39,6 +42,14 @@ const FREQ_MHZ: f64 = 2442.0;
 const EIRP_DBM: f64 = 20.0;
 const TX_HEIGHT_M: f64 = 2.8;
 const RX_HEIGHT_M: f64 = 1.5;
+
+/// Wall losses of the target case, dB: partition, glazing, door, block, concrete.
+const PALETTE: [f32; 5] = [3.0, 4.5, 2.5, 8.0, 12.0];
+
+/// Position of a wall loss in [`PALETTE`].
+fn palette_index(loss_db: f32) -> usize {
+    PALETTE.iter().position(|p| *p == loss_db).unwrap_or(0)
+}
 
 struct Case {
     walls: Vec<Segment>,
@@ -62,10 +73,9 @@ impl Case {
         // Materials: a deterministic mix of partition, glazing, door, block
         // and concrete losses.
         let mut rng = SplitMix64::new(PLAN_SEED ^ 0xA5);
-        let palette = [3.0f32, 4.5, 2.5, 8.0, 12.0];
         let loss_db = walls
             .iter()
-            .map(|_| palette[rng.below(palette.len())])
+            .map(|_| PALETTE[rng.below(PALETTE.len())])
             .collect();
         let grid = Grid::covering(Point2::new(0.0, 0.0), Point2::new(WIDTH_M, DEPTH_M), step_m);
         let mut rng = SplitMix64::new(TX_SEED);
@@ -404,6 +414,10 @@ fn main() {
         tower_estimate(if quick { 1 } else { 3 });
         return;
     }
+    if std::env::args().any(|a| a == "--slabs") {
+        slabs::report(&Case::new(4000, 0.25, 30), if quick { 1 } else { 3 });
+        return;
+    }
     if std::env::args().any(|a| a == "--profile-shadow") {
         let case = Case::new(4000, 0.25, 30);
         let mut scratch = ShadowScratch::new();
@@ -519,6 +533,7 @@ fn main() {
             });
         })
     );
+    slabs::report(&case, reps);
     // Boundary statistics for one transmitter.
     let mut scratch = ShadowScratch::new();
     let mut loss = vec![0f32; case.grid.len()];

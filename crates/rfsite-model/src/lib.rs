@@ -39,6 +39,8 @@ pub mod site;
 pub mod validate;
 
 pub use diag::{Diagnostic, Diagnostics, Severity, SourceFile};
-pub use material::{Material, MaterialClass, MaterialLibrary, MaterialModel};
+pub use material::{
+    CrossingLossFn, Material, MaterialClass, MaterialLibrary, MaterialModel, GRAZING_LIMIT_DEG,
+};
 pub use site::*;
 pub use validate::{load, Loaded};

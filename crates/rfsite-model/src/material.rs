@@ -7,7 +7,8 @@
 
 use std::collections::BTreeMap;
 
-use rfsite_physics::p2040::{self, ItuMaterial, Layer, Polarization};
+use rfsite_physics::angle_table::AngleTable;
+use rfsite_physics::p2040::{self, ItuMaterial, Layer, Polarization, SlabResponse};
 use rfsite_physics::validity::RangeNote;
 use rfsite_physics::Complex64;
 use serde::{Deserialize, Serialize};
@@ -135,6 +136,73 @@ pub struct CrossingLoss {
     pub note: Option<RangeNote>,
 }
 
+/// The grazing rule: the largest incidence angle from a wall's normal at which a
+/// crossing's loss is computed, degrees. A path meeting a wall at a larger angle runs
+/// along it within 0.1°; such a crossing is charged the loss at this angle (a prediction
+/// then caps every crossing at its largest crossing loss, multi-wall's
+/// `max_crossing_loss_db`). An rfsite choice: the slab's transmission tends to zero at
+/// grazing, and the geometry of a path that close to a wall's line says little.
+pub const GRAZING_LIMIT_DEG: f64 = 89.9;
+
+/// Largest miss, dB, of a tabulated crossing loss ([`CrossingLossFn::Table`]) against
+/// the exact slab at the midpoint of any table interval (see
+/// [`rfsite_physics::angle_table`]); a tenth of the 0.01 dB the predictions promise, with
+/// room for the interpolation error between midpoints.
+pub const TABLE_TOLERANCE_DB: f64 = 0.002;
+
+/// The loss of one kind of crossing (material, thickness, frequency, polarisation) as a
+/// function of `|cos θ|`, for evaluation at every grid point; at most a ceiling (the
+/// largest crossing loss), and at [`GRAZING_LIMIT_DEG`] for larger angles.
+#[derive(Debug, Clone, PartialEq)]
+pub enum CrossingLossFn {
+    /// A measured table: the same loss at every angle, dB.
+    Const(f64),
+    /// A slab or layered material: the exact loss tabulated over the angle, within
+    /// [`TABLE_TOLERANCE_DB`] at every interval midpoint.
+    Table(AngleTable),
+    /// A slab the table could not meet (a thick, nearly lossless slab resonating faster
+    /// than the finest table): the exact loss at every call.
+    Exact(Box<ExactCrossing>),
+}
+
+/// What [`CrossingLossFn::Exact`] evaluates.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExactCrossing {
+    material: Material,
+    freq_mhz: f64,
+    thickness_m: f64,
+    pol: Polarization,
+    ceiling_db: f64,
+}
+
+impl CrossingLossFn {
+    /// Loss of a crossing at `|cos θ| = cos_incidence`, dB, at most the ceiling.
+    pub fn eval(&self, cos_incidence: f64) -> f64 {
+        match self {
+            CrossingLossFn::Const(l) => *l,
+            CrossingLossFn::Table(t) => t.eval(cos_incidence),
+            CrossingLossFn::Exact(e) => e.eval(cos_incidence),
+        }
+    }
+
+    /// The loss when it does not depend on the angle.
+    pub fn constant_db(&self) -> Option<f64> {
+        match self {
+            CrossingLossFn::Const(l) => Some(*l),
+            _ => None,
+        }
+    }
+}
+
+impl ExactCrossing {
+    fn eval(&self, cos_incidence: f64) -> f64 {
+        self.material
+            .crossing_loss(self.freq_mhz, self.thickness_m, cos_incidence, self.pol)
+            .loss_db
+            .min(self.ceiling_db)
+    }
+}
+
 fn interp_log_f(points: &[(f64, f64)], freq_mhz: f64) -> (f64, bool) {
     if points.is_empty() {
         return (0.0, true);
@@ -159,6 +227,41 @@ fn interp_log_f(points: &[(f64, f64)], freq_mhz: f64) -> (f64, bool) {
         }
     }
     (last.1, true)
+}
+
+/// Loss of a measured table at `freq_mhz`, with a note when it was extrapolated.
+fn empirical_loss(loss_db: &[(f64, f64)], freq_mhz: f64) -> CrossingLoss {
+    let (l, extrapolated) = interp_log_f(loss_db, freq_mhz);
+    let note = extrapolated.then(|| RangeNote {
+        model: "empirical material table",
+        quantity: "frequency",
+        value: freq_mhz,
+        min: loss_db.first().map(|p| p.0).unwrap_or(0.0),
+        max: loss_db.last().map(|p| p.0).unwrap_or(0.0),
+        unit: "MHz",
+    });
+    CrossingLoss {
+        loss_db: l.max(0.0),
+        note,
+    }
+}
+
+/// Reflection coefficient of a measured reflection-loss table: magnitude from the table,
+/// phase of a conductor in P.2040's sign convention (TE: pi, TM: 0); 0 with no table.
+fn empirical_reflection(
+    reflection_loss_db: &[(f64, f64)],
+    freq_mhz: f64,
+    pol: Polarization,
+) -> Complex64 {
+    if reflection_loss_db.is_empty() {
+        return Complex64::new(0.0, 0.0);
+    }
+    let (rl, _) = interp_log_f(reflection_loss_db, freq_mhz);
+    let g = 10f64.powf(-rl / 20.0);
+    match pol {
+        Polarization::Te => Complex64::new(-g, 0.0),
+        Polarization::Tm => Complex64::new(g, 0.0),
+    }
 }
 
 impl MaterialModel {
@@ -191,12 +294,62 @@ impl MaterialModel {
     pub fn angle_dependent(&self) -> bool {
         !matches!(self, MaterialModel::Empirical { .. })
     }
+
+    /// The P.2040 layers of a layered model at `freq_ghz` (empirical sub-entries, which
+    /// have no permittivity, are left out).
+    fn layers(&self, freq_ghz: f64) -> Vec<Layer> {
+        let MaterialModel::Layered(layers) = self else {
+            return Vec::new();
+        };
+        layers
+            .iter()
+            .filter_map(|(m, t)| {
+                m.eta(freq_ghz).map(|eta| Layer {
+                    eta,
+                    thickness_m: *t,
+                })
+            })
+            .collect()
+    }
+
+    /// Reflection and transmission of a slab or layered model, ITU-R P.2040-3 §3 (single
+    /// slab, eqs. for R and T with the phase term q) or the transfer-matrix product of
+    /// the layers; `None` for a measured table.
+    fn slab_response(
+        &self,
+        freq_ghz: f64,
+        thickness_m: f64,
+        theta_rad: f64,
+        pol: Polarization,
+    ) -> Option<SlabResponse> {
+        match self {
+            MaterialModel::Empirical { .. } => None,
+            MaterialModel::Layered(_) => Some(p2040::layered(
+                &self.layers(freq_ghz),
+                freq_ghz,
+                theta_rad,
+                pol,
+            )),
+            m => {
+                let eta = m.eta(freq_ghz)?;
+                Some(p2040::slab(eta, thickness_m, freq_ghz, theta_rad, pol))
+            }
+        }
+    }
+}
+
+/// Incidence angle from the normal, radians, of a crossing with `|cos| = cos_incidence`.
+fn incidence_rad(cos_incidence: f64) -> f64 {
+    cos_incidence.clamp(0.0, 1.0).acos()
 }
 
 impl Material {
-    /// Transmission loss of one crossing, dB. `cos_incidence` is 1 at normal incidence.
-    /// Walls are vertical and the antennas vertically polarised, so a horizontal path
-    /// meets a wall with the field parallel to it: TE (perpendicular) polarisation.
+    /// Transmission loss of one crossing, dB. `cos_incidence` is `|cos|` of the incidence
+    /// angle from the wall's normal (1 at normal incidence); angles beyond
+    /// [`GRAZING_LIMIT_DEG`] are charged at it. Walls are vertical and the antennas
+    /// vertically polarised, so a horizontal path meets a wall with the field parallel to
+    /// it: TE (perpendicular) polarisation; a floor slab crossed by a steep path is closer
+    /// to TM.
     pub fn crossing_loss(
         &self,
         freq_mhz: f64,
@@ -204,52 +357,25 @@ impl Material {
         cos_incidence: f64,
         pol: Polarization,
     ) -> CrossingLoss {
+        let theta = incidence_rad(cos_incidence).min(GRAZING_LIMIT_DEG.to_radians());
+        self.crossing_loss_at(freq_mhz, thickness_m, theta, pol)
+    }
+
+    /// [`Material::crossing_loss`] at `theta_rad` from the normal, without the grazing rule.
+    fn crossing_loss_at(
+        &self,
+        freq_mhz: f64,
+        thickness_m: f64,
+        theta_rad: f64,
+        pol: Polarization,
+    ) -> CrossingLoss {
         let f_ghz = freq_mhz / 1000.0;
-        let theta = cos_incidence
-            .clamp(0.0, 1.0)
-            .acos()
-            .min(89.0_f64.to_radians());
         match &self.model {
-            MaterialModel::Empirical { loss_db, .. } => {
-                let (l, extrapolated) = interp_log_f(loss_db, freq_mhz);
-                let note = if extrapolated {
-                    Some(RangeNote {
-                        model: "empirical material table",
-                        quantity: "frequency",
-                        value: freq_mhz,
-                        min: loss_db.first().map(|p| p.0).unwrap_or(0.0),
-                        max: loss_db.last().map(|p| p.0).unwrap_or(0.0),
-                        unit: "MHz",
-                    })
-                } else {
-                    None
-                };
-                CrossingLoss {
-                    loss_db: l.max(0.0),
-                    note,
-                }
-            }
-            MaterialModel::Layered(layers) => {
-                let ls: Vec<Layer> = layers
-                    .iter()
-                    .filter_map(|(m, t)| {
-                        m.eta(f_ghz).map(|eta| Layer {
-                            eta,
-                            thickness_m: *t,
-                        })
-                    })
-                    .collect();
-                let r = p2040::layered(&ls, f_ghz, theta, pol);
-                CrossingLoss {
-                    loss_db: r.transmission_loss_db().max(0.0),
-                    note: self.model.range_note(f_ghz),
-                }
-            }
+            MaterialModel::Empirical { loss_db, .. } => empirical_loss(loss_db, freq_mhz),
             m => {
-                let eta = m.eta(f_ghz).unwrap_or(Complex64::new(1.0, 0.0));
-                let r = p2040::slab(eta, thickness_m, f_ghz, theta, pol);
+                let r = m.slab_response(f_ghz, thickness_m, theta_rad, pol);
                 CrossingLoss {
-                    loss_db: r.transmission_loss_db().max(0.0),
+                    loss_db: r.map_or(0.0, |r| r.transmission_loss_db().max(0.0)),
                     note: m.range_note(f_ghz),
                 }
             }
@@ -291,37 +417,67 @@ impl Material {
         }
     }
 
-    /// Complex reflection coefficient at normal incidence (for standing waves).
-    /// Empirical entries give a magnitude only; their phase is taken as pi (a
-    /// conductor-like reflector), which places the first null on the surface.
-    pub fn reflection_coefficient(&self, freq_mhz: f64, thickness_m: f64) -> Complex64 {
+    /// The crossing loss of this material at one frequency, thickness and polarisation as
+    /// a function of the angle, at most `ceiling_db`: [`CrossingLossFn::Const`] for a
+    /// measured table, else the exact [`Material::crossing_loss`] tabulated (or, if no
+    /// table meets [`TABLE_TOLERANCE_DB`], evaluated at every call).
+    pub fn crossing_loss_fn(
+        &self,
+        freq_mhz: f64,
+        thickness_m: f64,
+        pol: Polarization,
+        ceiling_db: f64,
+    ) -> CrossingLossFn {
+        if !self.model.angle_dependent() {
+            let l = self.crossing_loss(freq_mhz, thickness_m, 1.0, pol).loss_db;
+            return CrossingLossFn::Const(l.min(ceiling_db));
+        }
+        let exact = ExactCrossing {
+            material: self.clone(),
+            freq_mhz,
+            thickness_m,
+            pol,
+            ceiling_db,
+        };
+        let min_cos = GRAZING_LIMIT_DEG.to_radians().cos();
+        // Nodes below min_cos (the table's first octave) take the exact value there, not
+        // the grazing rule's, so that the interval holding min_cos interpolates a smooth
+        // function; the table applies the rule itself when evaluated.
+        let loss = |c: f64| {
+            self.crossing_loss_at(freq_mhz, thickness_m, incidence_rad(c), pol)
+                .loss_db
+        };
+        match AngleTable::build(loss, min_cos, ceiling_db, TABLE_TOLERANCE_DB) {
+            Ok(t) => CrossingLossFn::Table(t),
+            Err(_) => CrossingLossFn::Exact(Box::new(exact)),
+        }
+    }
+
+    /// Complex reflection coefficient of the wall seen from the incidence side, at the
+    /// incidence angle with `|cos| = cos_incidence` (1 at normal incidence) and the given
+    /// polarisation: ITU-R P.2040-3 §3 (single slab, all internal reflections, the phase
+    /// term included) for slab materials, the transfer-matrix product for layered ones.
+    /// `R_TE` is the electric-field ratio, `R_TM` the magnetic-field one (P.2040's
+    /// convention: `R_TM = -R_TE` at normal incidence).
+    ///
+    /// Empirical entries give a magnitude only, measured near normal incidence, and are
+    /// used at every angle; their phase is taken as a conductor's: `R_TE = -|G|`,
+    /// `R_TM = +|G|` (which places the first electric-field null on the surface).
+    pub fn reflection_coefficient(
+        &self,
+        freq_mhz: f64,
+        thickness_m: f64,
+        cos_incidence: f64,
+        pol: Polarization,
+    ) -> Complex64 {
         let f_ghz = freq_mhz / 1000.0;
         match &self.model {
             MaterialModel::Empirical {
                 reflection_loss_db, ..
-            } => {
-                if reflection_loss_db.is_empty() {
-                    return Complex64::new(0.0, 0.0);
-                }
-                let (rl, _) = interp_log_f(reflection_loss_db, freq_mhz);
-                Complex64::new(-(10f64.powf(-rl / 20.0)), 0.0)
-            }
-            MaterialModel::Layered(layers) => {
-                let ls: Vec<Layer> = layers
-                    .iter()
-                    .filter_map(|(m, t)| {
-                        m.eta(f_ghz).map(|eta| Layer {
-                            eta,
-                            thickness_m: *t,
-                        })
-                    })
-                    .collect();
-                p2040::layered(&ls, f_ghz, 0.0, Polarization::Te).reflection
-            }
-            m => {
-                let eta = m.eta(f_ghz).unwrap_or(Complex64::new(1.0, 0.0));
-                p2040::slab(eta, thickness_m, f_ghz, 0.0, Polarization::Te).reflection
-            }
+            } => empirical_reflection(reflection_loss_db, freq_mhz, pol),
+            m => m
+                .slab_response(f_ghz, thickness_m, incidence_rad(cos_incidence), pol)
+                .map_or(Complex64::new(0.0, 0.0), |r| r.reflection),
         }
     }
 

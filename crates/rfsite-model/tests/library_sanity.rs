@@ -71,7 +71,9 @@ fn metal_reflects_nearly_all() {
     // loses its 20-30 dB "mostly by reflection".
     let l = lib();
     for id in ["metal-door", "metal-cladding", "coated-glazing"] {
-        let g = get(&l, id).reflection_coefficient(900.0, 0.05).norm();
+        let g = get(&l, id)
+            .reflection_coefficient(900.0, 0.05, 1.0, Polarization::Te)
+            .norm();
         assert!(g > 0.9, "{id}: |Gamma| = {g}");
     }
 }

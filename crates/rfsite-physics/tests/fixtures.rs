@@ -12,6 +12,7 @@ use rfsite_physics::stats::area_coverage_fraction;
 const TMM_CSV: &str = include_str!("../../../tests/reference/physics/tmm_fixtures.csv");
 const P2109_CSV: &str = include_str!("../../../tests/reference/physics/p2109_fixtures.csv");
 const AREA_CSV: &str = include_str!("../../../tests/reference/physics/area_fixtures.csv");
+const OBLIQUE_CSV: &str = include_str!("../../../tests/reference/tmm/oblique_slabs.csv");
 
 /// Data rows of a CSV fixture: comment lines (`#`) and the header skipped.
 fn rows(csv: &str) -> impl Iterator<Item = Vec<&str>> {
@@ -96,6 +97,70 @@ fn walls_match_tmm_within_0_01_db() {
         checked += 1;
     }
     assert_eq!(checked, 108, "fixture rows");
+}
+
+fn pol_of(s: &str) -> Polarization {
+    match s {
+        "te" => Polarization::Te,
+        "tm" => Polarization::Tm,
+        other => panic!("polarisation {other}"),
+    }
+}
+
+#[test]
+fn oblique_single_slabs_match_tmm_within_0_01_db() {
+    // Reference: tests/reference/tmm/oblique_slabs.csv, generated with the PyPI package
+    // tmm (tmm.coh_tmm, air semi-infinite on both sides) by gen_oblique_slabs.py: six
+    // ITU-R P.2040-3 Table 3 materials, 0.7-5.5 GHz, 0-89.9 deg, TE and TM. Checks the
+    // P.2040-3 §3 single-slab R and T (with the phase term q) and the layered form at
+    // the actual angle; independent computation, tolerance 0.01 dB.
+    let mut checked = 0;
+    let mut worst: f64 = 0.0;
+    for row in rows(OBLIQUE_CSV) {
+        let m = p2040::material(row[0]).expect("P.2040 id");
+        let (d, f, theta_deg) = (num(row[1]), num(row[2]), num(row[3]));
+        let pol = pol_of(row[4]);
+        let (r_db, t_db) = (num(row[5]), num(row[6]));
+        let eta = m.complex_permittivity(f);
+        let th = theta_deg.to_radians();
+        let one = slab(eta, d, f, th, pol);
+        let stack = layered(
+            &[Layer {
+                eta,
+                thickness_m: d,
+            }],
+            f,
+            th,
+            pol,
+        );
+        for got in [one, stack] {
+            let dr = (got.reflection_loss_db() - r_db).abs();
+            let dt = (got.transmission_loss_db() - t_db).abs();
+            assert!(
+                dr < 0.01 && dt < 0.01,
+                "{} {d} m {f} GHz {theta_deg} deg {pol:?}: R {} vs tmm {r_db}, T {} vs tmm {t_db}",
+                row[0],
+                got.reflection_loss_db(),
+                got.transmission_loss_db()
+            );
+            worst = worst.max(dr).max(dt);
+        }
+        checked += 1;
+    }
+    assert_eq!(checked, (13 * 4 + 1) * 35 * 2, "fixture rows");
+    assert!(worst < 1e-5, "closed form and tmm differ by {worst} dB");
+}
+
+#[test]
+fn oblique_brick_reflection_is_not_the_normal_value() {
+    // Reference: oblique_slabs.csv (tmm, see above): brick, 2156.9 MHz, 33.4 mm, TE at
+    // 62.4 deg reflects at 4.76 dB; at normal incidence 18.64 dB.
+    let eta = p2040::material("brick")
+        .unwrap()
+        .complex_permittivity(2.1569);
+    let at = |deg: f64| slab(eta, 0.0334, 2.1569, deg.to_radians(), Polarization::Te);
+    assert!((at(62.4).reflection_loss_db() - 4.764_795).abs() < 0.01);
+    assert!((at(0.0).reflection_loss_db() - 18.644_605).abs() < 0.01);
 }
 
 #[test]

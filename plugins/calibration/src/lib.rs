@@ -474,7 +474,7 @@ fn apply_fits(site: &Site, fits: &[ServiceFit]) -> Vec<CoverageLayer> {
             match t {
                 Term::Offset => st[si].0 = *v,
                 Term::DistanceExponent => st[si].1 = *v,
-                Term::Material(m) => scene.adjust_material(site, si, m, *v),
+                Term::Material(m) => scene.adjust_material(si, m, *v),
             }
         }
     }

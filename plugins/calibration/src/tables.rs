@@ -6,20 +6,23 @@ use rfsite_plugin::Table;
 
 use crate::{ServiceFit, Term, VarState};
 
-pub(crate) fn f1(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.1}")
-    } else {
-        "n/a".into()
+/// `x` with `decimals` decimals (`None` if not finite); a value that rounds to zero
+/// prints as 0, never as -0.
+fn fixed(x: f64, decimals: usize) -> Option<String> {
+    if !x.is_finite() {
+        return None;
     }
+    let s = format!("{x:.decimals$}");
+    let negative_zero = s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.');
+    Some(if negative_zero { s[1..].to_string() } else { s })
+}
+
+pub(crate) fn f1(x: f64) -> String {
+    fixed(x, 1).unwrap_or_else(|| "n/a".into())
 }
 
 pub(crate) fn f2(x: f64) -> String {
-    if x.is_finite() {
-        format!("{x:.2}")
-    } else {
-        "—".into()
-    }
+    fixed(x, 2).unwrap_or_else(|| "—".into())
 }
 
 /// The standard-error cell of the parameter table.
@@ -180,4 +183,20 @@ pub fn extra_json(f: &ServiceFit) -> serde_json::Value {
         "solver_steps": f.steps,
         "convention": "residual = measured - predicted; level += offset - sum(crossings * material change) - change * 10 log10(d)",
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_that_round_to_zero_print_without_a_sign() {
+        // A fitted mean residual of -1e-6 dB is zero at the printed precision.
+        assert_eq!(f1(-1e-6), "0.0");
+        assert_eq!(f2(-0.004), "0.00");
+        assert_eq!(f1(-0.06), "-0.1");
+        assert_eq!(f2(0.004), "0.00");
+        assert_eq!(f1(f64::NAN), "n/a");
+        assert_eq!(f2(f64::INFINITY), "—");
+    }
 }

@@ -108,8 +108,8 @@ fn synthetic(d_a: f64, d_b: f64, offset: f64, sigma: f64) -> Vec<(PathInfo, f64)
     let base_scene = scene_for(&site);
     let base = predict(&site, "multi-wall", &base_scene);
     let mut truth_scene = scene_for(&site);
-    truth_scene.adjust_material(&site, 0, "plasterboard-partition", d_a);
-    truth_scene.adjust_material(&site, 0, "concrete-block", d_b);
+    truth_scene.adjust_material(0, "plasterboard-partition", d_a);
+    truth_scene.adjust_material(0, "concrete-block", d_b);
     let truth = predict(&site, "truth", &truth_scene);
     let (lb, lt) = (&base[0], &truth[0]);
     let g = lt.grid.to_grid();

@@ -2,7 +2,9 @@
 //!
 //! COST 231 multi-wall prediction: free-space loss (ITU-R P.525) over the 3D distance, plus
 //! the loss of every wall, door and window the straight transmitter-receiver line crosses
-//! (each at its own incidence angle for slab materials), plus the non-linear floor term
+//! (each at its own incidence angle for slab materials, within 0.01 dB of the exact
+//! ITU-R P.2040-3 slab up to the grazing limit of 89.9°, beyond which the 89.9° loss is
+//! charged; see `rfsite_model::CrossingLossFn`), plus the non-linear floor term
 //! n^((n+2)/(n+1) - b) L_f for paths through n floor slabs.
 //!
 //! For a path between storeys, the 3D line is cut where it passes each slab; the part of it
@@ -11,7 +13,7 @@
 use rayon::prelude::*;
 use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
 use rfsite_geometry::{Crossing, Point2, Scratch, Segment, WallIndex};
-use rfsite_model::Combine;
+use rfsite_model::{Combine, CrossingLossFn};
 use rfsite_model::{MaterialClass, Site, ZoneKind};
 use rfsite_physics::cost231;
 use rfsite_physics::fspl;
@@ -20,32 +22,56 @@ use rfsite_plugin::*;
 use rfsite_plugin_free_space::{floor_grid, gain_towards, PathLoss, MIN_DISTANCE_M, P3};
 use serde::Serialize;
 
-const ANGLE_SAMPLES: usize = 32;
-
 /// How far past a slab cut a storey's part of a path is traced (fraction of the path).
 const CUT_PAD: f64 = 1e-6;
 
 /// Tolerance on the path parameter when deciding which part a crossing belongs to.
 const CUT_TOL: f64 = 1e-9;
 
-/// Loss of one crossing as a function of |cos(incidence)|.
+/// One kind of crossing for one service (material, thickness, polarisation): the
+/// material's loss over the angle (exact to 0.01 dB up to the grazing limit, see
+/// [`rfsite_model::CrossingLossFn`]), a calibration offset and the crossing cap.
 #[derive(Debug, Clone)]
-enum LossFn {
-    Const(f32),
-    Angle(Box<[f32; ANGLE_SAMPLES + 1]>),
+struct CrossingKind {
+    material: String,
+    /// Wall kinds take calibration offsets; floor slabs do not.
+    wall: bool,
+    shape: CrossingLossFn,
+    offset_db: f64,
+    cap_db: f64,
 }
 
-impl LossFn {
+impl CrossingKind {
+    /// `min(loss, cap) + offset`, kept between 0 dB and the cap.
     fn eval(&self, cos: f64) -> f64 {
-        match self {
-            LossFn::Const(l) => *l as f64,
-            LossFn::Angle(t) => {
-                let x = cos.clamp(0.0, 1.0) * ANGLE_SAMPLES as f64;
-                let i = (x as usize).min(ANGLE_SAMPLES - 1);
-                let f = x - i as f64;
-                t[i] as f64 * (1.0 - f) + t[i + 1] as f64 * f
-            }
-        }
+        (self.shape.eval(cos) + self.offset_db).clamp(0.0, self.cap_db)
+    }
+
+    fn constant_db(&self) -> Option<f64> {
+        self.shape
+            .constant_db()
+            .map(|l| (l + self.offset_db).clamp(0.0, self.cap_db))
+    }
+}
+
+/// The distinct crossing kinds of one service, and which kind each wall part and each
+/// floor slab is.
+#[derive(Debug, Clone, Default)]
+struct ServiceLosses {
+    kinds: Vec<CrossingKind>,
+    /// [floor][part] -> index into `kinds`.
+    parts: Vec<Vec<usize>>,
+    /// [floor]: the slab under the floor -> index into `kinds`.
+    slabs: Vec<usize>,
+}
+
+impl ServiceLosses {
+    fn part(&self, floor: usize, part: usize) -> &CrossingKind {
+        &self.kinds[self.parts[floor][part]]
+    }
+
+    fn slab(&self, floor: usize) -> &CrossingKind {
+        &self.kinds[self.slabs[floor]]
     }
 }
 
@@ -58,44 +84,94 @@ struct FloorScene {
 /// Precomputed geometry and losses of a site for the multi-wall model.
 pub struct Scene {
     floors: Vec<FloorScene>,
-    /// [service][floor][part]
-    wall_loss: Vec<Vec<Vec<LossFn>>>,
-    /// [service][floor]: slab under the floor.
-    slab_loss: Vec<Vec<LossFn>>,
+    /// [service]: crossing kinds of walls and slabs.
+    losses: Vec<ServiceLosses>,
     b: f64,
-    max_crossing_db: f64,
     /// Notes on materials used outside their ranges.
     pub notes: Vec<String>,
 }
 
-fn loss_fn(
-    site: &Site,
-    material: &str,
+/// Key of a crossing kind: wall or slab, material, thickness bits, polarisation.
+type KindKey = (bool, String, u64, bool);
+
+/// Builder of one service's crossing kinds, each computed once.
+struct KindBuilder<'a> {
+    site: &'a Site,
     freq_mhz: f64,
-    thickness_m: f64,
-    pol: Polarization,
     cap: f64,
-    notes: &mut Vec<String>,
-) -> LossFn {
-    let Some(m) = site.materials.get(material) else {
-        return LossFn::Const(0.0);
+    out: ServiceLosses,
+    index: std::collections::BTreeMap<KindKey, usize>,
+}
+
+impl KindBuilder<'_> {
+    /// The kind of a crossing of `material`, `thickness_m` thick, built on first use;
+    /// range notes of the material go to `notes`.
+    fn kind(
+        &mut self,
+        wall: bool,
+        material: &str,
+        thickness_m: f64,
+        pol: Polarization,
+        notes: &mut Vec<String>,
+    ) -> usize {
+        let key = (
+            wall,
+            material.to_string(),
+            thickness_m.to_bits(),
+            pol == Polarization::Te,
+        );
+        if let Some(&k) = self.index.get(&key) {
+            return k;
+        }
+        let shape = match self.site.materials.get(material) {
+            None => CrossingLossFn::Const(0.0),
+            Some(m) => {
+                let first = m.crossing_loss(self.freq_mhz, thickness_m, 1.0, pol);
+                if let Some(n) = first.note {
+                    notes.push(format!("material `{}`: {}", m.id, n.message()));
+                }
+                m.crossing_loss_fn(self.freq_mhz, thickness_m, pol, self.cap)
+            }
+        };
+        self.out.kinds.push(CrossingKind {
+            material: material.to_string(),
+            wall,
+            shape,
+            offset_db: 0.0,
+            cap_db: self.cap,
+        });
+        self.index.insert(key, self.out.kinds.len() - 1);
+        self.out.kinds.len() - 1
+    }
+}
+
+/// The crossing kinds of one service: walls TE (vertical walls, vertical polarisation,
+/// horizontal paths), slabs TM.
+fn service_losses(site: &Site, freq_mhz: f64, cap: f64, notes: &mut Vec<String>) -> ServiceLosses {
+    let mut b = KindBuilder {
+        site,
+        freq_mhz,
+        cap,
+        out: ServiceLosses::default(),
+        index: Default::default(),
     };
-    let first = m.crossing_loss(freq_mhz, thickness_m, 1.0, pol);
-    if let Some(n) = first.note {
-        notes.push(format!("material `{}`: {}", m.id, n.message()));
+    for f in &site.floors {
+        let parts = f
+            .parts
+            .iter()
+            .map(|p| b.kind(true, &p.material, p.thickness_m, Polarization::Te, notes))
+            .collect();
+        b.out.parts.push(parts);
+        let slab = b.kind(
+            false,
+            &f.slab_material,
+            f.slab_thickness_m,
+            Polarization::Tm,
+            notes,
+        );
+        b.out.slabs.push(slab);
     }
-    if !m.model.angle_dependent() {
-        return LossFn::Const(first.loss_db.min(cap) as f32);
-    }
-    let mut t = Box::new([0f32; ANGLE_SAMPLES + 1]);
-    for (i, v) in t.iter_mut().enumerate() {
-        let cos = (i as f64 / ANGLE_SAMPLES as f64).max(1e-3);
-        *v = m
-            .crossing_loss(freq_mhz, thickness_m, cos, pol)
-            .loss_db
-            .min(cap) as f32;
-    }
-    LossFn::Angle(t)
+    b.out
 }
 
 impl Scene {
@@ -119,55 +195,17 @@ impl Scene {
             })
             .collect();
         let mut notes = Vec::new();
-        let mut wall_loss = Vec::new();
-        let mut slab_loss = Vec::new();
-        for svc in &site.services {
-            wall_loss.push(
-                site.floors
-                    .iter()
-                    .map(|f| {
-                        f.parts
-                            .iter()
-                            .map(|p| {
-                                loss_fn(
-                                    site,
-                                    &p.material,
-                                    svc.freq_mhz,
-                                    p.thickness_m,
-                                    Polarization::Te,
-                                    max_crossing_db,
-                                    &mut notes,
-                                )
-                            })
-                            .collect()
-                    })
-                    .collect(),
-            );
-            slab_loss.push(
-                site.floors
-                    .iter()
-                    .map(|f| {
-                        loss_fn(
-                            site,
-                            &f.slab_material,
-                            svc.freq_mhz,
-                            f.slab_thickness_m,
-                            Polarization::Tm,
-                            max_crossing_db,
-                            &mut notes,
-                        )
-                    })
-                    .collect(),
-            );
-        }
+        let losses = site
+            .services
+            .iter()
+            .map(|svc| service_losses(site, svc.freq_mhz, max_crossing_db, &mut notes))
+            .collect();
         notes.sort();
         notes.dedup();
         Scene {
             floors,
-            wall_loss,
-            slab_loss,
+            losses,
             b,
-            max_crossing_db,
             notes,
         }
     }
@@ -254,7 +292,7 @@ impl Scene {
         };
         let n = (hi - lo) as u32;
         let mean: f64 = ((lo + 1)..=hi)
-            .map(|j| self.slab_loss[service][j].eval(cos))
+            .map(|j| self.losses[service].slab(j).eval(cos))
             .sum::<f64>()
             / n as f64;
         (n, cost231::floor_term_db(n, mean, self.b))
@@ -297,22 +335,13 @@ impl Scene {
 
     /// Adds `delta_db` to the loss of every wall crossing of `material` for service index
     /// `service`, keeping each crossing between 0 dB and the crossing cap. Used by
-    /// calibration.
-    pub fn adjust_material(&mut self, site: &Site, service: usize, material: &str, delta_db: f64) {
-        let cap = self.max_crossing_db;
-        let adj = |v: f64| (v + delta_db).clamp(0.0, cap);
-        if let Some(svc) = self.wall_loss.get_mut(service) {
-            for (fi, parts) in svc.iter_mut().enumerate() {
-                for (pi, lf) in parts.iter_mut().enumerate() {
-                    if site.floors[fi].parts[pi].material != material {
-                        continue;
-                    }
-                    match lf {
-                        LossFn::Const(l) => *l = adj(*l as f64) as f32,
-                        LossFn::Angle(t) => t.iter_mut().for_each(|l| *l = adj(*l as f64) as f32),
-                    }
-                }
-            }
+    /// calibration. Offsets of repeated calls add up.
+    pub fn adjust_material(&mut self, service: usize, material: &str, delta_db: f64) {
+        if let Some(svc) = self.losses.get_mut(service) {
+            svc.kinds
+                .iter_mut()
+                .filter(|k| k.wall && k.material == material)
+                .for_each(|k| k.offset_db += delta_db);
         }
     }
 }
@@ -329,9 +358,9 @@ impl Scene {
         rx_floor: usize,
     ) -> f64 {
         let mut walls = 0.0;
-        let table = &self.wall_loss[service];
+        let losses = &self.losses[service];
         self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
-            walls += table[k][c.wall].eval(c.cos_incidence);
+            walls += losses.part(k, c.wall).eval(c.cos_incidence);
         });
         walls
     }
@@ -424,7 +453,7 @@ pub fn breakdown(
         let part = &site.floors[k].parts[c.wall];
         let e = groups.entry(part.material.clone()).or_default();
         e.0 += 1;
-        e.1 += scene.wall_loss[service][k][c.wall].eval(c.cos_incidence);
+        e.1 += scene.losses[service].part(k, c.wall).eval(c.cos_incidence);
     });
     let (n, fl) = scene.floor_db(service, tx, tf, rx, rx_floor);
     let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2))
@@ -504,7 +533,7 @@ impl Plugin for MultiWall {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "COST 231 multi-wall: free-space loss plus the loss of each wall, door and window crossed by the direct path (slab materials at the actual incidence angle), plus the non-linear floor term".into(),
+            summary: "COST 231 multi-wall: free-space loss plus the loss of each wall, door and window crossed by the direct path, plus the non-linear floor term. ITU-R P.2040 slab materials are charged at each crossing's own incidence angle (walls TE, floor slabs TM) from a table of the exact slab loss checked to 0.002 dB at every table midpoint (within 0.01 dB of the exact slab up to 89.9°); a crossing nearer grazing than 89.9° is charged the 89.9° loss; materials given as measured loss tables cost the same at every angle".into(),
             citations: vec![
                 "COST 231 Final Report (1999), section 4.7, multi-wall model".into(),
                 "ITU-R P.525-4 (08/2019) free-space loss".into(),
@@ -624,17 +653,24 @@ pub fn predict_grid_adjusted(
             })
             .collect();
         // Per floor: constant losses and the angle-dependent mask for this service.
-        let consts: Vec<Vec<f32>> = scene.wall_loss[si]
+        let losses = &scene.losses[si];
+        let consts: Vec<Vec<f32>> = losses
+            .parts
             .iter()
-            .map(|ls| {
-                ls.iter()
-                    .map(|l| if let LossFn::Const(v) = l { *v } else { 0.0 })
+            .map(|ks| {
+                ks.iter()
+                    .map(|&k| losses.kinds[k].constant_db().unwrap_or(0.0) as f32)
                     .collect()
             })
             .collect();
-        let masks: Vec<Vec<bool>> = scene.wall_loss[si]
+        let masks: Vec<Vec<bool>> = losses
+            .parts
             .iter()
-            .map(|ls| ls.iter().map(|l| matches!(l, LossFn::Angle(_))).collect())
+            .map(|ks| {
+                ks.iter()
+                    .map(|&k| losses.kinds[k].constant_db().is_none())
+                    .collect()
+            })
             .collect();
         for (fi, floor) in site.floors.iter().enumerate() {
             let grid = floor_grid(site, fi);
@@ -666,8 +702,7 @@ pub fn predict_grid_adjusted(
                     |(sc, loss), &k| {
                         let (t, tfi, t3) = txs[k];
                         loss.iter_mut().for_each(|x| *x = 0.0);
-                        let table = &scene.wall_loss[si][fi];
-                        let f = |w: usize, c: f64| table[w].eval(c) as f32;
+                        let f = |w: usize, c: f64| losses.part(fi, w).eval(c) as f32;
                         let wl = WallLosses {
                             constant_db: &consts[fi],
                             by_angle: if masks[fi].iter().any(|m| *m) {

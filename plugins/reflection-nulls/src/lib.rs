@@ -13,8 +13,8 @@
 //! (per floor, in a table), and draws the standing-wave pattern of each reflective
 //! material.
 //!
-//! `Gamma` comes from [`rfsite_model::Material::reflection_coefficient`]: the ITU-R
-//! P.2040-3 slab formulas for slab materials (magnitude and phase), or the empirical
+//! `Gamma` comes from [`rfsite_model::Material::reflection_coefficient`] at normal
+//! incidence, TE (the electric-field ratio): the ITU-R P.2040-3 slab formulas for slab materials (magnitude and phase), or the empirical
 //! reflection loss of a library entry (magnitude only, phase taken as pi).
 
 use std::collections::{BTreeMap, BTreeSet};
@@ -274,7 +274,9 @@ fn build_reflector(
             return None;
         }
     }
-    let gamma = m.reflection_coefficient(f, part.thickness_m);
+    // The standing wave of this plugin is the normal-incidence one; TE gives the ratio of
+    // the electric fields, whose nulls are the ones a receiver sees.
+    let gamma = m.reflection_coefficient(f, part.thickness_m, 1.0, Polarization::Te);
     let g = gamma.norm();
     if !g.is_finite() || g < opts.min_gamma {
         return None;
