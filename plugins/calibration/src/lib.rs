@@ -140,11 +140,13 @@ pub fn scene_for(site: &Site) -> Scene {
             .and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64)))
             .unwrap_or(d)
     };
+    use rfsite_plugin_multi_wall::{DEFAULT_MAX_CROSSING_LOSS_DB, DEFAULT_MAX_EXCESS_LOSS_DB};
     Scene::new(
         site,
         num("floor_b", rfsite_physics::cost231::COST231_DEFAULT_B),
-        num("max_crossing_loss_db", 60.0),
+        num("max_crossing_loss_db", DEFAULT_MAX_CROSSING_LOSS_DB),
     )
+    .with_max_excess_db(num("max_excess_loss_db", DEFAULT_MAX_EXCESS_LOSS_DB))
 }
 
 /// The observations of one service: (design row inputs, residual measured - predicted),

@@ -87,6 +87,8 @@ pub struct Scene {
     /// [service]: crossing kinds of walls and slabs.
     losses: Vec<ServiceLosses>,
     b: f64,
+    /// Cap on a path's total wall and floor loss (its excess over free space), dB.
+    max_excess_db: f64,
     /// Notes on materials used outside their ranges.
     pub notes: Vec<String>,
 }
@@ -206,8 +208,20 @@ impl Scene {
             floors,
             losses,
             b,
+            max_excess_db: DEFAULT_MAX_EXCESS_LOSS_DB,
             notes,
         }
+    }
+
+    /// The same scene with another cap on a path's total wall and floor loss, dB.
+    pub fn with_max_excess_db(mut self, cap: f64) -> Scene {
+        self.max_excess_db = cap;
+        self
+    }
+
+    /// A path's wall and floor loss, at most the excess-loss cap.
+    pub fn capped_excess_db(&self, walls_and_floors_db: f64) -> f64 {
+        walls_and_floors_db.min(self.max_excess_db)
     }
 
     /// Calls `f(floor, crossing)` for every wall crossing of the path.
@@ -380,8 +394,10 @@ impl PathLoss for Scene {
         rx: P3,
         rx_floor: usize,
     ) -> f64 {
-        self.walls_db(scratch, service, tx, tx_floor, rx, rx_floor)
-            + self.floor_db(service, tx, tx_floor, rx, rx_floor).1
+        self.capped_excess_db(
+            self.walls_db(scratch, service, tx, tx_floor, rx, rx_floor)
+                + self.floor_db(service, tx, tx_floor, rx, rx_floor).1,
+        )
     }
 }
 
@@ -408,8 +424,11 @@ pub struct Breakdown {
     pub floors_crossed: u32,
     /// Floor term, dB.
     pub floor_loss_db: f64,
-    /// Total path loss, dB (free space + walls + floors).
+    /// Total path loss, dB (free space + walls + floors, the last two at most the
+    /// excess-loss cap).
     pub total_loss_db: f64,
+    /// The walls and floors exceed the excess-loss cap: the total charges the cap.
+    pub excess_capped: bool,
 }
 
 /// Crossings of one material on a path.
@@ -494,7 +513,8 @@ pub fn breakdown(
         walls,
         floors_crossed: n,
         floor_loss_db: fl,
-        total_loss_db: fspl_db + wl + fl,
+        total_loss_db: fspl_db + scene.capped_excess_db(wl + fl),
+        excess_capped: wl + fl > scene.max_excess_db,
     })
 }
 
@@ -505,8 +525,24 @@ pub struct MultiWall;
 /// bound what one crossing costs (common practice).
 pub const DEFAULT_MAX_CROSSING_LOSS_DB: f64 = 60.0;
 
-/// The options `floor_b` and `max_crossing_loss_db`, checked.
-fn options(ctx: &Context<'_>) -> Result<(f64, f64), PluginError> {
+/// The default cap on a path's total wall and floor loss (its excess over free space),
+/// dB. Beyond it, energy through doors, stairs, shafts and around the outside carries more
+/// than the straight path; 80 dB is rfsite's choice (common practice that multi-wall sums
+/// over-predict deep inside large buildings; the number itself is from memory), far below
+/// any level a service could pass on, so the cap never turns a failing point into a
+/// passing one.
+pub const DEFAULT_MAX_EXCESS_LOSS_DB: f64 = 80.0;
+
+/// The checked options.
+#[derive(Debug, Clone, Copy)]
+struct Options {
+    floor_b: f64,
+    max_crossing_db: f64,
+    max_excess_db: f64,
+}
+
+/// The options `floor_b`, `max_crossing_loss_db` and `max_excess_loss_db`, checked.
+fn options(ctx: &Context<'_>) -> Result<Options, PluginError> {
     let b = ctx.option_f64("floor_b", cost231::COST231_DEFAULT_B)?;
     if !(0.0..=2.0).contains(&b) {
         return Err(PluginError::BadOption {
@@ -521,7 +557,20 @@ fn options(ctx: &Context<'_>) -> Result<(f64, f64), PluginError> {
             message: "must be positive".into(),
         });
     }
-    Ok((b, cap))
+    let excess = ctx.option_f64("max_excess_loss_db", DEFAULT_MAX_EXCESS_LOSS_DB)?;
+    if excess < cap {
+        return Err(PluginError::BadOption {
+            key: "max_excess_loss_db".into(),
+            message: format!(
+                "must be at least the cap on one crossing ({cap:.0} dB): a path's total cannot be capped below one wall"
+            ),
+        });
+    }
+    Ok(Options {
+        floor_b: b,
+        max_crossing_db: cap,
+        max_excess_db: excess,
+    })
 }
 
 impl Plugin for MultiWall {
@@ -533,7 +582,7 @@ impl Plugin for MultiWall {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "COST 231 multi-wall: free-space loss plus the loss of each wall, door and window crossed by the direct path, plus the non-linear floor term. ITU-R P.2040 slab materials are charged at each crossing's own incidence angle (walls TE, floor slabs TM) from a table of the exact slab loss checked to 0.002 dB at every table midpoint (within 0.01 dB of the exact slab up to 89.9°); a crossing nearer grazing than 89.9° is charged the 89.9° loss; materials given as measured loss tables cost the same at every angle".into(),
+            summary: "COST 231 multi-wall: free-space loss plus the loss of each wall, door and window crossed by the direct path, plus the non-linear floor term. ITU-R P.2040 slab materials are charged at each crossing's own incidence angle (walls TE, floor slabs TM) from a table of the exact slab loss checked to 0.002 dB at every table midpoint (within 0.01 dB of the exact slab up to 89.9°); a crossing nearer grazing than 89.9° is charged the 89.9° loss; materials given as measured loss tables cost the same at every angle. One crossing costs at most `max_crossing_loss_db` (default 60 dB) and a path's walls and floors together at most `max_excess_loss_db` over free space (default 80 dB; common practice, the number from memory)".into(),
             citations: vec![
                 "COST 231 Final Report (1999), section 4.7, multi-wall model".into(),
                 "ITU-R P.525-4 (08/2019) free-space loss".into(),
@@ -549,15 +598,20 @@ impl Plugin for MultiWall {
         !site.transmitters.is_empty()
     }
     fn option_keys(&self) -> Option<Vec<&'static str>> {
-        Some(vec!["floor_b", "max_crossing_loss_db"])
+        Some(vec![
+            "floor_b",
+            "max_crossing_loss_db",
+            "max_excess_loss_db",
+        ])
     }
     fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
         rfsite_plugin::check::problems_of(options(ctx))
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
-        let (b, cap) = options(ctx)?;
+        let o = options(ctx)?;
+        let cap = o.max_crossing_db;
         let site = ctx.site;
-        let scene = Scene::new(site, b, cap);
+        let scene = Scene::new(site, o.floor_b, cap).with_max_excess_db(o.max_excess_db);
         let layers = predict_grid(site, self.id(), &scene);
         let mut out = PluginOutput {
             warnings: scene
@@ -573,6 +627,10 @@ impl Plugin for MultiWall {
         out.warnings.push(Warning {
             plugin: self.id().into(),
             message: format!("a single crossing is capped at {cap:.0} dB: leakage and diffraction around real walls bound what one crossing costs (common practice)"),
+        });
+        out.warnings.push(Warning {
+            plugin: self.id().into(),
+            message: format!("a path's walls and floors together are charged at most {:.0} dB over free space (`max_excess_loss_db`): beyond that, doors, stairs and paths around the outside carry more than the straight line (common practice; the number is from memory)", o.max_excess_db),
         });
         // Worst point of every layer in each graded zone kind, explained.
         let mut bds = Vec::new();
@@ -680,17 +738,22 @@ pub fn predict_grid_adjusted(
                 .into_par_iter()
                 .map(|i| rfsite_geometry::point_in_polygon(grid.point(i), &floor.outline))
                 .collect();
-            // Levels without wall losses (an upper bound: walls only take away).
-            let base = |t: &rfsite_model::Transmitter, tfi: usize, t3: P3, i: usize| -> f64 {
-                let p = grid.point(i);
-                let rx = P3 { p, z: rz };
-                let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2))
-                    .sqrt()
-                    .max(MIN_DISTANCE_M);
-                t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
-                    - fspl::fspl_db(svc.freq_mhz, d)
-                    - scene.floor_db(si, t3, tfi, rx, fi).1
-                    - adjust(si, d)
+            // Free-space level and floor loss of a path (walls only take away).
+            let base =
+                |t: &rfsite_model::Transmitter, tfi: usize, t3: P3, i: usize| -> (f64, f64) {
+                    let p = grid.point(i);
+                    let rx = P3 { p, z: rz };
+                    let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2))
+                        .sqrt()
+                        .max(MIN_DISTANCE_M);
+                    let free = t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
+                        - fspl::fspl_db(svc.freq_mhz, d)
+                        - adjust(si, d);
+                    (free, scene.floor_db(si, t3, tfi, rx, fi).1)
+                };
+            // The level given the path's wall loss: its walls and floors at most the cap.
+            let level = |(free, floor): (f64, f64), walls: f64| -> f64 {
+                free - scene.capped_excess_db(floor + walls)
             };
             // Same-floor transmitters: whole-grid shadows (exact, rfsite-geometry tests).
             let same: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 == fi).collect();
@@ -723,7 +786,7 @@ pub fn predict_grid_adjusted(
                         let lv = (0..n)
                             .map(|i| {
                                 if inside[i] {
-                                    (base(t, tfi, t3, i) - loss[i] as f64) as f32
+                                    level(base(t, tfi, t3, i), loss[i] as f64) as f32
                                 } else {
                                     f32::NAN
                                 }
@@ -758,7 +821,8 @@ pub fn predict_grid_adjusted(
                                 if !inside[i] {
                                     return f32::NAN;
                                 }
-                                let ub = base(t, tfi, t3, i);
+                                let b = base(t, tfi, t3, i);
+                                let ub = level(b, 0.0);
                                 if strongest && (ub as f32) <= best_so_far[i] {
                                     return f32::NEG_INFINITY;
                                 }
@@ -767,7 +831,7 @@ pub fn predict_grid_adjusted(
                                     z: rz,
                                 };
                                 let walls = scene.walls_db(sc, si, t3, tfi, rx, fi);
-                                (ub - walls) as f32
+                                level(b, walls) as f32
                             })
                             .collect();
                         (k, lv)

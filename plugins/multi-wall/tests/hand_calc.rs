@@ -249,3 +249,30 @@ fn inter_floor_walls_agree_with_the_shadow_cut_paths() {
     }
     assert!(compared > 10_000);
 }
+
+#[test]
+fn a_path_is_charged_at_most_the_excess_loss_cap() {
+    // The hand plan with the cap lowered to 25 dB: (7.5, 5.5) crosses 4.0 + 23.27 =
+    // 27.27 dB of walls (library values at 900 MHz), so it is charged the cap; (5.5, 5.5)
+    // crosses only the 4.0 dB partition and is charged that. Both on the whole-grid and
+    // on the per-ray path, which must agree.
+    let site = load(
+        &SourceFile::new("mw.toml", SITE),
+        &MaterialLibrary::builtin(),
+    )
+    .site
+    .expect("valid");
+    let scene = Scene::new(&site, 0.46, 60.0).with_max_excess_db(25.0);
+    for layers in [
+        predict(&site, "multi-wall", &scene),
+        rfsite_plugin_multi_wall::predict_grid(&site, "multi-wall", &scene),
+    ] {
+        let l0 = layers.iter().find(|l| l.floor == "L0").unwrap();
+        let i = 5 * l0.grid.nx + 7;
+        let d = (5.5f64 * 5.5 + 0.5 * 0.5).sqrt();
+        assert!((l0.level_dbm[i] as f64 - (20.0 - fspl(900.0, d) - 25.0)).abs() < 1e-3);
+        let j = 5 * l0.grid.nx + 5;
+        let d = (3.5f64 * 3.5 + 0.5 * 0.5).sqrt();
+        assert!((l0.level_dbm[j] as f64 - (20.0 - fspl(900.0, d) - 4.0)).abs() < 1e-3);
+    }
+}
