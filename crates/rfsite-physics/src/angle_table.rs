@@ -61,15 +61,17 @@ fn node_cos(j: usize, bits: u32) -> f64 {
     (1.0 + step) * 2f64.powi(octave)
 }
 
-/// Interval index and position in it (0..1) of `c` in `[MIN_COS, 1)`.
+/// Interval index and position in it (0..1) of `c` in `[MIN_COS, 1)`. The bits of `c`
+/// above the lowest `52 - bits` are its biased exponent followed by its leading `bits`
+/// mantissa bits: the interval counted from the first octave's. The rest, scaled by the
+/// exact power of two `2^-(52 - bits)`, is the position in the interval.
 fn locate(c: f64, bits: u32) -> (usize, f64) {
     let raw = c.to_bits();
-    let exponent = (raw >> MANTISSA_BITS) as i64 - 1023;
-    let mantissa = raw & ((1u64 << MANTISSA_BITS) - 1);
     let shift = MANTISSA_BITS - bits;
-    let octave = (exponent + OCTAVES as i64) as u64;
-    let j = (octave << bits) | (mantissa >> shift);
-    let t = (mantissa & ((1u64 << shift) - 1)) as f64 / (1u64 << shift) as f64;
+    let first = (1023 - OCTAVES as u64) << bits;
+    let j = (raw >> shift) - first;
+    let scale = f64::from_bits((1023 - shift as u64) << MANTISSA_BITS);
+    let t = (raw & ((1u64 << shift) - 1)) as f64 * scale;
     (j as usize, t)
 }
 
