@@ -28,7 +28,7 @@ fn losses(m: &Material, t: f64) -> Vec<Value> {
         .iter()
         .map(|f| {
             let l = m.crossing_loss(*f, t, 1.0, Polarization::Te);
-            let beyond = !(l.loss_db <= CAP_DB);
+            let beyond = l.loss_db.is_nan() || l.loss_db > CAP_DB;
             json!({"freq_mhz": f, "loss_db": (!beyond).then_some((l.loss_db * 100.0).round() / 100.0),
                 "beyond_cap": beyond, "extrapolated": l.note.is_some()})
         })
