@@ -8,6 +8,7 @@ use clap::{Parser, Subcommand};
 mod calc;
 mod check;
 mod init;
+mod isolate;
 mod materials;
 mod plugins;
 mod portfolio;
@@ -54,6 +55,9 @@ enum Cmd {
     /// Run every site below a folder; write one folder per site and a portfolio summary.
     /// `rfsite portfolio merge OUT... -o MERGED` combines the outputs of shards.
     Portfolio(portfolio::Args),
+    /// One site of a portfolio, run in a child process (internal).
+    #[command(hide = true)]
+    PortfolioSite(isolate::Args),
 }
 
 fn main() -> ExitCode {
@@ -67,6 +71,7 @@ fn main() -> ExitCode {
         Cmd::Plugins(a) => plugins::run(a),
         Cmd::Rules(a) => rules::run(a),
         Cmd::Portfolio(a) => portfolio::run(a),
+        Cmd::PortfolioSite(a) => isolate::child(a),
     };
     match outcome {
         Outcome::Ok => ExitCode::SUCCESS,

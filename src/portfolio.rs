@@ -19,7 +19,7 @@ use serde_json::Value;
 
 use crate::check::{load_quiet, LoadError};
 use crate::report::{self, Settings, SiteError, OUTPUT_MARKER};
-use crate::Outcome;
+use crate::{isolate, Outcome};
 
 /// portfolio.json schema id.
 pub const PORTFOLIO_SCHEMA: &str = "rfsite-portfolio/1";
@@ -54,6 +54,12 @@ pub struct Args {
     /// A folder of `*.toml` external plugin declarations, for every site.
     #[arg(long)]
     pub plugins: Option<PathBuf>,
+    /// Time limit of one site's run, seconds; a site over it fails alone.
+    #[arg(long, default_value_t = 900)]
+    pub site_timeout_s: u64,
+    /// Memory limit (address space) of one site's run, MiB; a site over it fails alone.
+    #[arg(long, default_value_t = 8192)]
+    pub site_memory_mb: u64,
 }
 
 #[derive(clap::Subcommand)]
@@ -565,13 +571,11 @@ pub fn run(a: Args) -> Outcome {
         eprintln!("error: {}: not a folder\n  = hint: DIR is a folder holding site projects (each a folder with a site.toml)", dir.display());
         return Outcome::BadInput;
     }
-    let settings = match report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
-        Ok(s) => s,
-        Err(e) => {
-            eprintln!("error: {e}");
-            return Outcome::BadInput;
-        }
-    };
+    // Checked here so a bad template or plugin folder stops the run before any site.
+    if let Err(e) = report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
+        eprintln!("error: {e}");
+        return Outcome::BadInput;
+    }
     if let Err(e) = std::fs::create_dir_all(&out) {
         eprintln!("error: {}: {e}", out.display());
         return Outcome::Failed;
@@ -600,15 +604,15 @@ pub fn run(a: Args) -> Outcome {
 
     // Phase one: load every site (cheap) to learn its id, so that two sites claiming one
     // output folder are told apart deterministically, whatever order the workers finish in.
-    let probes = pool(jobs, &sites, |(rel, folder)| match load_quiet(folder) {
-        Ok((_, l)) => Probe::Id(l.site.meta.id.clone(), l.site.meta.name.clone()),
-        Err(e) => {
-            let status = if matches!(e, LoadError::BadInput(..)) {
-                "bad-input"
-            } else {
-                "failed"
-            };
-            Probe::Bad(failed_entry(rel, None, None, status, e.lines()))
+    let limits = isolate::Limits {
+        time: Duration::from_secs(a.site_timeout_s.max(1)),
+        memory_bytes: a.site_memory_mb.max(64).saturating_mul(1 << 20),
+    };
+    let probes = pool(jobs, &sites, |(rel, folder)| {
+        let args = isolate::child_args("probe", rel, folder, None, None, None, false);
+        match isolate::in_child(args, limits) {
+            Ok(v) => probe_from(rel, &v),
+            Err(e) => Probe::Bad(failed_entry(rel, None, None, "failed", vec![e])),
         }
     });
     let mut owner: BTreeMap<String, String> = BTreeMap::new();
@@ -655,7 +659,22 @@ pub fn run(a: Args) -> Outcome {
             if let Ok(mut r) = progress.running.lock() {
                 r.insert(id.clone());
             }
-            let (entry, reused) = run_one(rel, folder, id, &out, &settings, a.force);
+            let args = isolate::child_args(
+                "run",
+                rel,
+                folder,
+                Some((id, &out)),
+                a.template.as_deref(),
+                a.plugins.as_deref(),
+                a.force,
+            );
+            let (entry, reused) = match isolate::in_child(args, limits) {
+                Ok(v) => run_from(rel, id, &v),
+                Err(e) => (
+                    failed_entry(rel, Some(id.clone()), None, "failed", vec![e]),
+                    false,
+                ),
+            };
             if let Ok(mut r) = progress.running.lock() {
                 r.remove(id);
             }
@@ -678,7 +697,6 @@ pub fn run(a: Args) -> Outcome {
                 ),
             };
             progress.say(&line);
-            r_evict();
             entry
         });
         stop.store(true, Ordering::SeqCst);
@@ -702,8 +720,65 @@ pub fn run(a: Args) -> Outcome {
     p.outcome()
 }
 
-fn r_evict() {
-    rfsite_report::portfolio::evict_caches();
+/// The child's side of one site's phase (`rfsite portfolio-site`), as one JSON answer.
+pub fn child_answer(a: &isolate::Args) -> Value {
+    if a.phase == "probe" {
+        return match load_quiet(&a.folder) {
+            Ok((_, l)) => isolate::probe_answer(&l.site.meta.id, &l.site.meta.name),
+            Err(e) => {
+                let status = if matches!(e, LoadError::BadInput(..)) {
+                    "bad-input"
+                } else {
+                    "failed"
+                };
+                serde_json::json!({"entry": failed_entry(&a.rel, None, None, status, e.lines())})
+            }
+        };
+    }
+    let (Some(id), Some(out)) = (&a.id, &a.out) else {
+        return serde_json::json!({"error": "phase run needs --id and --out"});
+    };
+    let settings = match report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
+        Ok(s) => s,
+        Err(e) => return serde_json::json!({"error": e}),
+    };
+    let (entry, reused) = run_one(&a.rel, &a.folder, id, out, &settings, a.force);
+    serde_json::json!({"entry": entry, "reused": reused})
+}
+
+/// A probe's answer read back.
+fn probe_from(rel: &str, v: &Value) -> Probe {
+    if let (Some(id), Some(name)) = (v["id"].as_str(), v["name"].as_str()) {
+        return Probe::Id(id.to_string(), name.to_string());
+    }
+    match serde_json::from_value::<SiteEntry>(v["entry"].clone()) {
+        Ok(e) => Probe::Bad(e),
+        Err(_) => Probe::Bad(failed_entry(
+            rel,
+            None,
+            None,
+            "failed",
+            vec![answer_error(v)],
+        )),
+    }
+}
+
+/// A run's answer read back: the entry and whether the earlier outputs were kept.
+fn run_from(rel: &str, id: &str, v: &Value) -> (SiteEntry, bool) {
+    match serde_json::from_value::<SiteEntry>(v["entry"].clone()) {
+        Ok(e) => (e, v["reused"].as_bool().unwrap_or(false)),
+        Err(_) => (
+            failed_entry(rel, Some(id.into()), None, "failed", vec![answer_error(v)]),
+            false,
+        ),
+    }
+}
+
+fn answer_error(v: &Value) -> String {
+    v["error"]
+        .as_str()
+        .map(str::to_string)
+        .unwrap_or_else(|| "the site's run gave no usable answer".into())
 }
 
 /// Whether OUT/<id> holds the outputs of exactly these inputs, settings and rfsite version.

@@ -308,3 +308,79 @@ fn a_failing_external_plugin_fails_only_its_site() {
     );
     assert!(out.join("harrow-lane-office/report.pdf").is_file());
 }
+
+/// Issue 11 item 5: each site runs in its own child process, so a crash or a hang of one
+/// site is that site's failure and the others complete.
+fn with_good_and(bad_extra: &str) -> (tempfile::TempDir, std::path::PathBuf) {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = tmp.path().join("sites");
+    copy_dir(
+        &root().join("examples/portfolio/harrow-lane-office"),
+        &dir.join("good"),
+    );
+    let bad = dir.join("bad");
+    std::fs::create_dir_all(&bad).unwrap();
+    crate::cli::util::starter_site_with(&bad, bad_extra);
+    (tmp, dir)
+}
+
+fn bad_entry(out: &Path) -> serde_json::Value {
+    let p = json(&out.join("portfolio.json"));
+    p["sites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["path"] == "bad")
+        .unwrap()
+        .clone()
+}
+
+#[test]
+fn an_aborting_site_fails_alone() {
+    let (tmp, dir) = with_good_and("");
+    let out = tmp.path().join("o");
+    let o = rfsite()
+        .current_dir(root())
+        .env("RFSITE_TEST_ABORT_SITE", "bad")
+        .args(["portfolio"])
+        .arg(&dir)
+        .arg("-o")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let (so, se) = texts(&o);
+    assert_eq!(o.status.code(), Some(1), "{so}{se}");
+    let b = bad_entry(&out);
+    assert_eq!(b["status"], "failed");
+    assert!(
+        b["problems"][0].as_str().unwrap().contains("aborted"),
+        "{b}"
+    );
+    assert!(out.join("harrow-lane-office/report.pdf").is_file());
+}
+
+#[test]
+fn a_hanging_site_is_stopped_at_the_site_time_limit() {
+    let (tmp, dir) = with_good_and(&format!(
+        "[plugins.slow]\ncommand = \"python3\"\nargs = [{:?}]\ntimeout_s = 120\n",
+        crate::cli::util::external_fixture("sleep.py")
+    ));
+    let out = tmp.path().join("o");
+    let t0 = std::time::Instant::now();
+    let (code, so, se) = portfolio(&dir, &out, &["--site-timeout-s", "3"]);
+    assert_eq!(code, 1, "{so}{se}");
+    // The hang would otherwise last the plugin's 60 s sleep.
+    assert!(
+        t0.elapsed().as_secs() < 50,
+        "the hanging site was not stopped"
+    );
+    let b = bad_entry(&out);
+    assert!(
+        b["problems"][0]
+            .as_str()
+            .unwrap()
+            .contains("per-site time limit of 3 s"),
+        "{b}"
+    );
+    assert!(out.join("harrow-lane-office/report.pdf").is_file());
+}
