@@ -162,6 +162,8 @@ pub fn run_site(
     settings: &Settings,
     out: &Path,
 ) -> Result<SiteDone, SiteError> {
+    rfsite_engine::world::check_output_folder(out, world)
+        .map_err(|e| SiteError::BadInput(vec![e]))?;
     let (registry, specs) =
         registry_for(world, loaded, settings).map_err(|e| SiteError::BadInput(vec![e]))?;
     let problems = rfsite_engine::check_plugins(loaded, &registry);

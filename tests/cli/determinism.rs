@@ -27,3 +27,33 @@ fn two_runs_give_byte_identical_pdf_and_findings() {
         assert!(x == y, "{f} differs between two runs");
     }
 }
+
+/// Issue 11 item 6: `report SITE -o SITE` is refused before any work (exit 2), and a
+/// folder that rfsite did not write is never replaced.
+#[test]
+fn the_output_folder_is_never_the_site_or_a_stranger() {
+    let tmp = tempfile::tempdir().unwrap();
+    let site = tmp.path().join("site");
+    std::fs::create_dir_all(&site).unwrap();
+    crate::cli::util::starter_site_with(&site, "");
+    let o = crate::cli::util::run(&[
+        "report",
+        &site.display().to_string(),
+        "-o",
+        &site.display().to_string(),
+    ]);
+    let (_, err) = crate::cli::util::texts(&o);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("would hold the input"), "{err}");
+    let docs = tmp.path().join("docs");
+    std::fs::create_dir_all(&docs).unwrap();
+    std::fs::write(docs.join("letter.txt"), b"mine").unwrap();
+    let o = crate::cli::util::run(&[
+        "report",
+        &site.display().to_string(),
+        "-o",
+        &docs.display().to_string(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert_eq!(std::fs::read(docs.join("letter.txt")).unwrap(), b"mine");
+}

@@ -15,6 +15,7 @@ use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 
 pub mod external;
+pub mod outputs;
 mod precheck;
 pub use precheck::check_plugins;
 pub mod survey;

@@ -211,53 +211,26 @@ pub fn write_atomic(out: &Path, files: &[(String, Vec<u8>)]) -> Result<(), Strin
     Ok(())
 }
 
-/// Writes output files below `out` atomically: each file goes to a temporary name in the
-/// same folder and is renamed into place, so an interrupted run never leaves a half-written
-/// report. Refuses to write over any input file of `world`.
+/// Writes the whole output set of a run as the content of `out`, all or nothing
+/// ([`crate::outputs`]). Refuses an `out` that holds any input file of `world`.
 pub fn write_outputs(out: &Path, files: &[(String, Vec<u8>)], world: &World) -> Result<(), String> {
-    let inputs: Vec<PathBuf> = world
-        .hashes
-        .keys()
-        .map(|k| world.root.join(k))
-        .chain(std::iter::once(world.site_file.clone()))
-        .filter_map(|p| p.canonicalize().ok())
-        .collect();
-    std::fs::create_dir_all(out).map_err(|e| format!("{}: {e}", display_path(out)))?;
-    // Remove figures of an earlier run so the folder holds exactly this run's outputs.
-    let figs = out.join("figures");
-    if figs.is_dir() {
-        for e in std::fs::read_dir(&figs)
-            .map_err(|e| e.to_string())?
-            .flatten()
-        {
-            if e.path().extension().is_some_and(|x| x == "svg") {
-                let _ = std::fs::remove_file(e.path());
-            }
-        }
+    crate::outputs::write_all(out, files, &world.input_paths())
+}
+
+/// Refuses, before any work, an output folder that holds an input or that rfsite did not
+/// write ([`crate::outputs::check_destination`]).
+pub fn check_output_folder(out: &Path, world: &World) -> Result<(), String> {
+    crate::outputs::check_destination(out, &world.input_paths())
+}
+
+impl World {
+    /// The canonical paths of the site file and every input file read so far.
+    fn input_paths(&self) -> Vec<PathBuf> {
+        self.hashes
+            .keys()
+            .map(|k| self.root.join(k))
+            .chain(std::iter::once(self.site_file.clone()))
+            .filter_map(|p| p.canonicalize().ok())
+            .collect()
     }
-    for (rel, bytes) in files {
-        let dest = out.join(rel);
-        if let Some(parent) = dest.parent() {
-            std::fs::create_dir_all(parent)
-                .map_err(|e| format!("{}: {e}", display_path(parent)))?;
-        }
-        if let Ok(c) = dest.canonicalize() {
-            if inputs.contains(&c) {
-                return Err(format!(
-                    "{}: refusing to overwrite an input file; choose another output folder with -o",
-                    display_path(&dest)
-                ));
-            }
-        }
-        let tmp = dest.with_file_name(format!(
-            ".{}.tmp-{}",
-            dest.file_name()
-                .map(|n| n.to_string_lossy().to_string())
-                .unwrap_or_default(),
-            std::process::id()
-        ));
-        std::fs::write(&tmp, bytes).map_err(|e| format!("{}: {e}", display_path(&tmp)))?;
-        std::fs::rename(&tmp, &dest).map_err(|e| format!("{}: {e}", display_path(&dest)))?;
-    }
-    Ok(())
 }
