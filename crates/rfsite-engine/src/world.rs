@@ -151,7 +151,7 @@ fn open_checked(
     }
     let meta = std::fs::metadata(&canon).map_err(|e| FileProblem::io(shown, &e))?;
     check_meta(&meta, shown, limit)?;
-    let file = open_no_block(&canon).map_err(|e| FileProblem::io(shown, &e))?;
+    let file = open_no_block(&canon, false).map_err(|e| FileProblem::io(shown, &e))?;
     let meta = file.metadata().map_err(|e| FileProblem::io(shown, &e))?;
     check_meta(&meta, shown, limit)?;
     if !opened_inside(&file, root) {
@@ -187,16 +187,19 @@ fn check_meta(meta: &std::fs::Metadata, shown: &str, limit: Limit) -> Result<(),
     Ok(())
 }
 
-/// Opens a file without blocking (a FIFO swapped in after the check must not hang the run)
-/// and without following a link in its last component.
-fn open_no_block(p: &Path) -> std::io::Result<std::fs::File> {
+/// Opens a file without blocking (a FIFO swapped in after a check must not hang the run);
+/// unless `follow`, a link in its last component is refused.
+fn open_no_block(p: &Path, follow: bool) -> std::io::Result<std::fs::File> {
     let mut o = std::fs::OpenOptions::new();
     o.read(true);
     #[cfg(unix)]
     {
         use std::os::unix::fs::OpenOptionsExt;
-        o.custom_flags(libc::O_NONBLOCK | libc::O_NOFOLLOW);
+        let nofollow = if follow { 0 } else { libc::O_NOFOLLOW };
+        o.custom_flags(libc::O_NONBLOCK | nofollow);
     }
+    #[cfg(not(unix))]
+    let _ = follow;
     o.open(p)
 }
 
@@ -415,7 +418,38 @@ pub fn hash_file_if_exists(p: &Path) -> Option<String> {
     if !p.is_file() {
         return None;
     }
-    std::fs::read(p).ok().map(|b| sha256_hex(&b))
+    let (f, _) = open_regular(p).ok()?;
+    let mut hasher = Sha256::new();
+    std::io::copy(&mut std::io::BufReader::new(f), &mut hasher).ok()?;
+    Some(
+        hasher
+            .finalize()
+            .iter()
+            .map(|b| format!("{b:02x}"))
+            .collect(),
+    )
+}
+
+/// A file of a plugin folder: a plugin declaration (`*.toml`) is at most 16 MiB, like a site
+/// file.
+pub const PLUGIN_DECLARATION: Limit = Limit {
+    what: "plugin declaration",
+    bytes: 16 << 20,
+};
+
+/// Opens a regular file (links followed) without blocking: a FIFO or device put in its
+/// place after the caller's check is refused, never read.
+fn open_regular(p: &Path) -> Result<(std::fs::File, u64), String> {
+    let shown = display_path(p);
+    let f = open_no_block(p, true).map_err(|e| format!("{shown}: {e}"))?;
+    let m = f.metadata().map_err(|e| format!("{shown}: {e}"))?;
+    if !m.is_file() {
+        return Err(format!(
+            "{shown}: {}, not a regular file",
+            kind_of(&m.file_type())
+        ));
+    }
+    Ok((f, m.len()))
 }
 
 /// The `*.toml` files of a plugin folder, sorted by name: (path, text).
@@ -435,8 +469,12 @@ pub fn read_plugin_folder(dir: &Path) -> Result<Vec<(PathBuf, String)>, String> 
     files
         .into_iter()
         .map(|p| {
-            let text =
-                std::fs::read_to_string(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?;
+            let shown = display_path(&p);
+            let (f, len) = open_regular(&p)?;
+            let bytes = read_limited(f, len, &shown, PLUGIN_DECLARATION)
+                .map_err(|e| format!("{shown}: {}", e.message))?;
+            let text = String::from_utf8(bytes)
+                .map_err(|_| format!("{shown}: the file is not UTF-8 text"))?;
             Ok((p, text))
         })
         .collect()
@@ -465,10 +503,11 @@ pub fn read_dir_files(dir: &Path) -> Result<BTreeMap<String, Vec<u8>>, String> {
                     .map_err(|e| e.to_string())?
                     .to_string_lossy()
                     .replace('\\', "/");
-                out.insert(
-                    rel,
-                    std::fs::read(&p).map_err(|e| format!("{}: {e}", display_path(&p)))?,
-                );
+                let (mut f, len) = open_regular(&p)?;
+                let mut bytes = Vec::with_capacity(len as usize);
+                f.read_to_end(&mut bytes)
+                    .map_err(|e| format!("{}: {e}", display_path(&p)))?;
+                out.insert(rel, bytes);
             }
         }
         Ok(())

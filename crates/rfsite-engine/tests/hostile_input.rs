@@ -210,6 +210,24 @@ fn a_missing_survey_is_located_at_its_key() {
 }
 
 #[test]
+fn absolute_and_parent_paths_are_located_at_their_keys() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = site_text(&["/etc/passwd", "../walk.csv"], false);
+    write_site(dir.path(), &text);
+    let errs = errors(dir.path());
+    let at: Vec<(usize, usize)> = errs.iter().map(|e| (e.line, e.column)).collect();
+    assert_eq!(
+        at,
+        vec![
+            (line_of(&text, "file = \"/etc/passwd\""), 1),
+            (line_of(&text, "file = \"../walk.csv\""), 1)
+        ],
+        "{errs:#?}"
+    );
+    assert!(!all_text(&errs).contains(&passwd_first_line()));
+}
+
+#[test]
 fn survey_fifo_is_refused_without_being_opened() {
     let dir = tempfile::tempdir().unwrap();
     let text = site_text(&["walk.csv"], false);
@@ -347,6 +365,21 @@ fn oversized_site_file_is_bad_input_with_the_size() {
         e[0]
     );
     assert!(e[0].message.contains("16 MiB"), "{}", e[0]);
+}
+
+#[test]
+fn oversized_plugin_declaration_is_refused_with_the_size() {
+    let dir = tempfile::tempdir().unwrap();
+    sparse(
+        &dir.path().join("big.toml"),
+        "[plugins.x]\n",
+        (16 << 20) + 1,
+    );
+    let e = rfsite_engine::world::read_plugin_folder(dir.path())
+        .err()
+        .expect("a 16 MiB + 1 declaration must be refused");
+    assert!(e.contains(&((16u64 << 20) + 1).to_string()), "{e}");
+    assert!(e.contains("16 MiB"), "{e}");
 }
 
 // ---- survey rows per site ----------------------------------------------------------
