@@ -375,9 +375,9 @@ fn oversized_plugin_declaration_is_refused_with_the_size() {
         "[plugins.x]\n",
         (16 << 20) + 1,
     );
-    let e = rfsite_engine::world::read_plugin_folder(dir.path())
-        .err()
-        .expect("a 16 MiB + 1 declaration must be refused");
+    let Err(e) = rfsite_engine::world::read_plugin_folder(dir.path()) else {
+        panic!("a 16 MiB + 1 declaration must be refused");
+    };
     assert!(e.contains(&((16u64 << 20) + 1).to_string()), "{e}");
     assert!(e.contains("16 MiB"), "{e}");
 }
