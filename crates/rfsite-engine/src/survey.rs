@@ -201,7 +201,7 @@ struct Rows<'a> {
     site: &'a Site,
 }
 
-/// A line of a survey file: its 1-based number and text, or why it is not text.
+/// A line of a survey file: its text, or why it is not text.
 enum Line {
     Text(String),
     TooLong,
@@ -233,7 +233,8 @@ impl Rows<'_> {
                     diags.push(self.at_line(0, "survey file has no header line (it holds only comments or blank lines)".into(), None));
                     return Ok(0);
                 }
-                Some((_, Line::Text(t))) if t.trim().is_empty() || t.starts_with('#') => {}
+                Some((_, Line::Text(t)))
+                    if t.trim().is_empty() || t.trim_start().starts_with('#') => {}
                 Some(h) => break h,
             }
         };
@@ -303,7 +304,7 @@ impl Rows<'_> {
         diags.push(self.at_text(
             no,
             &text,
-            format!("survey header lacks column(s) {}; it has: {}", missing.join(", "), headers.join(", ")),
+            format!("survey header lacks column(s) {}; it has: {}", missing.join(", "), shorten(&headers.join(", "))),
             Some("name the columns in the `[[surveys]]` entry, e.g. `columns = { x = \"east_m\", level_dbm = \"rsrp\" }`, or set `floor`/`service` for the whole file".into()),
         ));
         None
@@ -445,6 +446,14 @@ impl Rows<'_> {
             ));
         }
         Ok(service)
+    }
+}
+
+/// At most 200 characters of `s`, with `...` when cut.
+fn shorten(s: &str) -> String {
+    match s.char_indices().nth(200) {
+        Some((i, _)) => format!("{}...", &s[..i]),
+        None => s.to_string(),
     }
 }
 
