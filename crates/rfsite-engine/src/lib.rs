@@ -10,6 +10,7 @@
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 
+use rfsite_model::locate::{locate, Seg};
 use rfsite_model::{Diagnostics, MaterialLibrary, Site, SourceFile};
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
@@ -83,50 +84,69 @@ pub struct LoadedSite {
     pub source: SourceFile,
 }
 
-/// Reads and validates the site in `world`. Errors come back all at once.
+/// Reads and validates the site in `world`. Errors come back all at once. Every file the
+/// site names is read through the world (inside the site folder, a regular file, within its
+/// size limit); a problem with one is located at the key that names it.
 pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, EngineError> {
-    let text = world.read_site_text().map_err(EngineError::Io)?;
+    let text = world.read_site_text()?;
     let file = SourceFile::new(world.display_site_path(), text);
     let loaded = rfsite_model::load(&file, library);
     let Some(site) = loaded.site else {
         return Err(EngineError::BadInput(loaded.diagnostics));
     };
-    let (surveys, mut survey_diags) = survey::read_all(world, &site);
-    if survey_diags.has_errors() {
-        let mut all = loaded.diagnostics;
-        all.items.append(&mut survey_diags.items);
+    let (surveys, mut survey_diags) = survey::read_all(world, &site, &file);
+    let mut all = loaded.diagnostics;
+    all.items.append(&mut survey_diags.items);
+    let plan_images = read_plan_images(world, &site, &file, &mut all);
+    if all.has_errors() {
         return Err(EngineError::BadInput(all));
-    }
-    let mut warnings = loaded.diagnostics;
-    warnings.items.append(&mut survey_diags.items);
-    let mut plan_images = BTreeMap::new();
-    let mut bad = Diagnostics::default();
-    for f in &site.floors {
-        if let Some(img) = &f.plan_image {
-            match world.read_bytes(img) {
-                Ok(b) => {
-                    plan_images.insert(f.id.clone(), b);
-                }
-                Err(e) => bad.push(rfsite_model::Diagnostic::whole_file(
-                    rfsite_model::Severity::Error,
-                    &world.display_site_path(),
-                    format!("floor `{}`: plan image cannot be read: {e}", f.id),
-                    Some("`plan_image` is a PNG or JPEG path relative to the site folder".into()),
-                )),
-            }
-        }
-    }
-    if bad.has_errors() {
-        warnings.items.append(&mut bad.items);
-        return Err(EngineError::BadInput(warnings));
     }
     Ok(LoadedSite {
         site,
-        warnings,
+        warnings: all,
         surveys,
         plan_images,
         source: file,
     })
+}
+
+/// Each floor's `plan_image`, by floor id; problems go to `diags`, located at the key.
+fn read_plan_images(
+    world: &mut World,
+    site: &Site,
+    file: &SourceFile,
+    diags: &mut Diagnostics,
+) -> BTreeMap<String, Vec<u8>> {
+    let mut out = BTreeMap::new();
+    for f in &site.floors {
+        let Some(img) = &f.plan_image else { continue };
+        match world.read_named(img, world::PLAN_IMAGE) {
+            Ok(b) => {
+                out.insert(f.id.clone(), b);
+            }
+            Err(p) => diags.push(at_key(
+                file,
+                &[Seg::Key("floors"), Seg::Id(&f.id), Seg::Key("plan_image")],
+                format!("floor `{}`: {}", f.id, p.message),
+                p.hint.or(Some(
+                    "`plan_image` is a PNG or JPEG path relative to the site folder".into(),
+                )),
+            )),
+        }
+    }
+    out
+}
+
+/// An error at a key path of the site file (the deepest step found), or at its start when
+/// the path cannot be found.
+pub(crate) fn at_key(
+    file: &SourceFile,
+    path: &[Seg<'_>],
+    message: String,
+    hint: Option<String>,
+) -> rfsite_model::Diagnostic {
+    let span = locate(&file.text, path).map(|f| f.span).unwrap_or(0..1);
+    rfsite_model::Diagnostic::at(rfsite_model::Severity::Error, file, span, message, hint)
 }
 
 /// The plugins known to a run.

@@ -86,3 +86,17 @@ fn every_bad_row_is_counted_with_file_line_and_reason() {
         .iter()
         .any(|i| i.path == "walk.csv" && i.sha256.len() == 64));
 }
+
+#[test]
+fn a_line_splits_into_fields_as_rfc_4180_quotes_them() {
+    // RFC 4180 section 2, rules 5-7: a field may be enclosed in double quotes, a field
+    // holding a comma must be, and a quote inside one is written twice. Fields are trimmed.
+    use rfsite_engine::survey::split_line;
+    assert_eq!(
+        split_line(r#"a, "b,c" ,"say ""hi""",,  d "#).unwrap(),
+        vec!["a", "b,c", "say \"hi\"", "", "d"]
+    );
+    // One row per line: a quote left open is an error naming its column.
+    let e = split_line(r#"1.0,"2.0,L1"#).unwrap_err();
+    assert!(e.contains("column 5"), "{e}");
+}
