@@ -435,7 +435,7 @@ pub struct RejectedRow {
     pub file: String,
     /// 1-based line.
     pub line: usize,
-    /// Reason class: `missing-value`, `not-a-number`, `off-plan`, `unknown-service`, `unknown-floor`, `malformed`, `suspicious-level`.
+    /// Reason class: `missing-value`, `not-a-number`, `off-plan`, `unknown-service`, `unknown-floor`, `malformed`, `suspicious-level`, `comment`.
     pub reason: String,
     /// Detail.
     pub detail: String,
