@@ -125,6 +125,10 @@ fn run_target(target: &str, o: &Opts) -> Tally {
             )
         }
     };
+    println!(
+        "{target}: cases are written to {} (kept there if the run aborts)",
+        file.display()
+    );
     let current: Arc<Mutex<Vec<u8>>> = Arc::default();
     let started = Arc::new(AtomicU64::new(u64::MAX));
     watchdog(target, o, current.clone(), started.clone());
