@@ -53,7 +53,19 @@ enum Cmd {
     Plugins(plugins::Args),
     /// Run every site below a folder; write one folder per site and a portfolio summary.
     /// `rfsite portfolio merge OUT... -o MERGED` combines the outputs of shards.
-    Portfolio(portfolio::Args),
+    Portfolio(PortfolioArgs),
+}
+
+/// `portfolio`'s arguments, and the consent flag that reaches every site's run through
+/// `report::load_settings`.
+#[derive(clap::Args)]
+struct PortfolioArgs {
+    #[command(flatten)]
+    args: portfolio::Args,
+    /// Run the commands that site files declare (`[plugins.<id>] command`), in every site.
+    /// Without it, only the commands of the `--plugins` folder run.
+    #[arg(long)]
+    allow_site_commands: bool,
 }
 
 fn main() -> ExitCode {
@@ -66,7 +78,10 @@ fn main() -> ExitCode {
         Cmd::Materials(a) => materials::run(a),
         Cmd::Plugins(a) => plugins::run(a),
         Cmd::Rules(a) => rules::run(a),
-        Cmd::Portfolio(a) => portfolio::run(a),
+        Cmd::Portfolio(a) => {
+            report::allow_site_commands(a.allow_site_commands);
+            portfolio::run(a.args)
+        }
     };
     match outcome {
         Outcome::Ok => ExitCode::SUCCESS,

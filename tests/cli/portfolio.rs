@@ -286,7 +286,7 @@ fn a_failing_external_plugin_fails_only_its_site() {
         ),
     );
     let out = tmp.path().join("o");
-    let (code, so, se) = portfolio(&dir, &out, &[]);
+    let (code, so, se) = portfolio(&dir, &out, &["--allow-site-commands"]);
     assert_eq!(
         code, 1,
         "a run failure (not bad input) gives exit 1\n{so}{se}"
