@@ -279,14 +279,19 @@ fn plugins_lists_external_plugins_in_run_order_with_version() {
     assert!(p["command"].as_str().unwrap().starts_with("python3 "));
     // Declared in the site file: it runs only with --allow-site-commands.
     assert_eq!(p["declared_in"], "examples/interference-demo/site.toml");
-    assert_eq!(p["declared_at"], "examples/interference-demo/site.toml:39:1");
+    assert_eq!(
+        p["declared_at"],
+        "examples/interference-demo/site.toml:39:1"
+    );
     assert_eq!(p["origin"], "site");
     assert_eq!(p["allowed"], false);
     let text = run(&["plugins", "examples/interference-demo"]);
     let text = String::from_utf8_lossy(&text.stdout).to_string();
     assert!(text.contains("interference 1.0.0 (external)"), "{text}");
     assert!(
-        text.contains("not allowed: a command declared in a site file runs only with --allow-site-commands"),
+        text.contains(
+            "not allowed: a command declared in a site file runs only with --allow-site-commands"
+        ),
         "{text}"
     );
     let out = run(&[
@@ -326,7 +331,10 @@ fn a_site_command_does_not_run_without_consent_and_the_error_points_at_it() {
     assert_eq!(code, 2, "bad input: {err}");
     let line = line_of(dir.path(), "command = ");
     assert!(err.contains(&format!("site.toml:{line}:1")), "{err}");
-    assert!(err.contains("runs only with --allow-site-commands"), "{err}");
+    assert!(
+        err.contains("runs only with --allow-site-commands"),
+        "{err}"
+    );
     assert!(
         !dir.path().join("ran.txt").exists(),
         "the site's command must not have started"
@@ -336,7 +344,8 @@ fn a_site_command_does_not_run_without_consent_and_the_error_points_at_it() {
 
 #[test]
 fn an_optional_site_command_without_consent_is_skipped_with_a_warning() {
-    let (code, err, dir) = report_flags(&plugin_table("sneaky", "touch.py", "optional = true"), &[]);
+    let (code, err, dir) =
+        report_flags(&plugin_table("sneaky", "touch.py", "optional = true"), &[]);
     assert_eq!(code, 0, "{err}");
     assert!(!dir.path().join("ran.txt").exists(), "it must not run");
     assert!(err.contains("warning"), "{err}");
@@ -350,7 +359,10 @@ fn an_optional_site_command_without_consent_is_skipped_with_a_warning() {
         .find(|w| w["plugin"] == "sneaky")
         .expect("a warning in findings.json");
     assert!(
-        w["message"].as_str().unwrap().contains("--allow-site-commands"),
+        w["message"]
+            .as_str()
+            .unwrap()
+            .contains("--allow-site-commands"),
         "{w}"
     );
 }
@@ -403,7 +415,10 @@ fn a_plugin_folder_command_runs_without_the_flag_and_check_says_so() {
     let (so, se) = texts(&out);
     assert!(out.status.success(), "{so}{se}");
     assert!(so.contains("interference.toml"), "{so}");
-    assert!(so.contains("allowed: declared in a --plugins folder"), "{so}");
+    assert!(
+        so.contains("allowed: declared in a --plugins folder"),
+        "{so}"
+    );
 }
 
 // ---- Declarations: the time limit (issue 11) ----
@@ -411,8 +426,11 @@ fn a_plugin_folder_command_runs_without_the_flag_and_check_says_so() {
 #[test]
 fn an_absurd_time_limit_is_a_located_error_not_a_panic() {
     for bad in ["1e300", "inf", "nan", "0", "-3", "86401", "\"60\""] {
-        let (code, err, dir) =
-            report_with(&plugin_table("slow", "sleep.py", &format!("timeout_s = {bad}")));
+        let (code, err, dir) = report_with(&plugin_table(
+            "slow",
+            "sleep.py",
+            &format!("timeout_s = {bad}"),
+        ));
         assert_eq!(code, 2, "timeout_s = {bad}: {err}");
         let line = line_of(dir.path(), "timeout_s = ");
         assert!(
@@ -432,7 +450,13 @@ fn gone(pid: &str) -> bool {
     while t0.elapsed() < Duration::from_secs(10) {
         match std::fs::read_to_string(format!("/proc/{pid}/stat")) {
             Err(_) => return true,
-            Ok(s) if s.rsplit(')').next().unwrap_or("").trim_start().starts_with('Z') => {
+            Ok(s)
+                if s.rsplit(')')
+                    .next()
+                    .unwrap_or("")
+                    .trim_start()
+                    .starts_with('Z') =>
+            {
                 return true
             }
             Ok(_) => std::thread::sleep(Duration::from_millis(50)),
@@ -461,7 +485,10 @@ fn a_grandchild_holding_stdout_does_not_spoil_a_complete_answer() {
 fn a_time_limit_kill_takes_the_whole_process_group() {
     let (code, err, dir) = report_with(&plugin_table("orphans", "orphan.py", "timeout_s = 2"));
     assert_eq!(code, 1, "{err}");
-    assert!(err.contains("did not answer within its time limit"), "{err}");
+    assert!(
+        err.contains("did not answer within its time limit"),
+        "{err}"
+    );
     let pid = std::fs::read_to_string(dir.path().join("grandchild.pid")).unwrap();
     assert!(gone(pid.trim()), "the grandchild {pid} survived the kill");
 }
@@ -478,15 +505,27 @@ fn a_flood_on_stderr_is_capped_and_said_to_be_truncated() {
         "8 MiB of plugin stderr reached the log: {} bytes",
         err.len()
     );
-    assert!(err.contains("flood [new-site]: [stderr truncated"), "{}", &err[err.len().saturating_sub(2000)..]);
+    assert!(
+        err.contains("flood [new-site]: [stderr truncated"),
+        "{}",
+        &err[err.len().saturating_sub(2000)..]
+    );
     let (code, err, _d) = report_with(&format!(
         "[plugins.flood]\ncommand = \"python3\"\nargs = [{:?}, \"fail\"]\n",
         external_fixture("flood.py")
     ));
     assert_eq!(code, 1);
     assert!(err.len() < 256 << 10, "{} bytes", err.len());
-    assert!(err.contains("failed with exit status 4"), "{}", &err[err.len().saturating_sub(2000)..]);
-    assert!(err.contains("final words before the end"), "the tail is kept: {}", &err[err.len().saturating_sub(2000)..]);
+    assert!(
+        err.contains("failed with exit status 4"),
+        "{}",
+        &err[err.len().saturating_sub(2000)..]
+    );
+    assert!(
+        err.contains("final words before the end"),
+        "the tail is kept: {}",
+        &err[err.len().saturating_sub(2000)..]
+    );
 }
 
 // ---- The answer: size and layers (issue 11) ----
@@ -498,7 +537,10 @@ fn a_huge_free_form_extra_is_refused_by_count() {
         external_fixture("extra.py")
     ));
     assert_eq!(code, 1, "{err}");
-    assert!(err.contains("`output.extra` holds more than 250000 JSON values"), "{err}");
+    assert!(
+        err.contains("`output.extra` holds more than 250000 JSON values"),
+        "{err}"
+    );
     let (code, err, _d) = report_with(&format!(
         "[plugins.bloat]\ncommand = \"python3\"\nargs = [{:?}, \"1000\"]\n",
         external_fixture("extra.py")
@@ -515,7 +557,10 @@ fn degenerate_layers_are_protocol_errors_naming_the_field() {
         ("levels", "output.layers[0].level_dbm"),
         ("server", "output.layers[0].best_server[1]"),
         ("huge", "output.layers[0].grid: 100000 x 100000 points"),
-        ("overflow", "output.layers[0].grid: 9223372036854775808 x 4 points"),
+        (
+            "overflow",
+            "output.layers[0].grid: 9223372036854775808 x 4 points",
+        ),
     ];
     for (kind, field) in cases {
         let (code, err, _d) = report_with(&format!(
@@ -549,10 +594,9 @@ fn portfolio_runs_site_commands_only_with_consent() {
             .args(flags)
             .output()
             .unwrap();
-        let p: serde_json::Value = serde_json::from_slice(
-            &std::fs::read(tmp.path().join("out/portfolio.json")).unwrap(),
-        )
-        .unwrap();
+        let p: serde_json::Value =
+            serde_json::from_slice(&std::fs::read(tmp.path().join("out/portfolio.json")).unwrap())
+                .unwrap();
         (out, p["sites"][0].clone())
     };
     let (out, s) = run_portfolio(&[]);

@@ -166,7 +166,11 @@ fn strings(
         None => Ok(Vec::new()),
         Some(toml::Value::Array(a)) => a
             .iter()
-            .map(|x| x.as_str().map(str::to_string).ok_or_else(|| bad(x.type_str())))
+            .map(|x| {
+                x.as_str()
+                    .map(str::to_string)
+                    .ok_or_else(|| bad(x.type_str()))
+            })
             .collect(),
         Some(other) => Err(bad(other.type_str())),
     }
@@ -216,7 +220,10 @@ impl ExternalSpec {
             .trim()
             .to_string();
         if command.is_empty() {
-            return Err(format!("{}: [plugins.{id}] `command` is empty", at("command")));
+            return Err(format!(
+                "{}: [plugins.{id}] `command` is empty",
+                at("command")
+            ));
         }
         let text = |key: &str, default: &str| -> Result<String, String> {
             match t.get(key) {
@@ -344,7 +351,10 @@ pub fn parse_declarations(file: &str, text: &str, dir: &Path) -> Result<Vec<Exte
         };
         for (id, v) in t {
             let Some(pt) = v.as_table() else {
-                return Err(format!("{}: `plugins.{id}` must be a table", place(&src, id, None)));
+                return Err(format!(
+                    "{}: `plugins.{id}` must be a table",
+                    place(&src, id, None)
+                ));
             };
             match ExternalSpec::from_table(id, pt, dir, &src, Origin::Folder)? {
                 Some(s) => out.push(s),
@@ -583,7 +593,10 @@ mod tests {
 
     #[test]
     fn a_table_without_command_is_not_external() {
-        assert_eq!(spec("multi-wall", "[plugins.multi-wall]\nfloor_b = 0.46").unwrap(), None);
+        assert_eq!(
+            spec("multi-wall", "[plugins.multi-wall]\nfloor_b = 0.46").unwrap(),
+            None
+        );
     }
 
     #[test]
@@ -594,18 +607,27 @@ mod tests {
 
     #[test]
     fn a_time_limit_is_finite_positive_and_at_most_a_day() {
-        for bad in ["-1", "0", "0.0", "1e300", "inf", "-inf", "nan", "86400.5", "\"30\""] {
-            let e = spec("sir", &format!("[plugins.sir]\ncommand = \"x\"\ntimeout_s = {bad}"))
-                .unwrap_err();
+        for bad in [
+            "-1", "0", "0.0", "1e300", "inf", "-inf", "nan", "86400.5", "\"30\"",
+        ] {
+            let e = spec(
+                "sir",
+                &format!("[plugins.sir]\ncommand = \"x\"\ntimeout_s = {bad}"),
+            )
+            .unwrap_err();
             assert!(
-                e.starts_with("site.toml:3:1: [plugins.sir] `timeout_s`") && e.contains("at most 86400"),
+                e.starts_with("site.toml:3:1: [plugins.sir] `timeout_s`")
+                    && e.contains("at most 86400"),
                 "{bad}: {e}"
             );
         }
         for (ok, s) in [("86400", 86400.0), ("0.5", 0.5), ("1", 1.0)] {
-            let t = spec("sir", &format!("[plugins.sir]\ncommand = \"x\"\ntimeout_s = {ok}"))
-                .unwrap()
-                .unwrap();
+            let t = spec(
+                "sir",
+                &format!("[plugins.sir]\ncommand = \"x\"\ntimeout_s = {ok}"),
+            )
+            .unwrap()
+            .unwrap();
             assert_eq!(t.timeout_s, s);
             // What the run does with it must not panic.
             let _ = Duration::from_secs_f64(t.timeout_s);
@@ -633,12 +655,23 @@ mod tests {
     #[test]
     fn a_site_command_is_allowed_only_with_consent_and_a_folder_one_always() {
         let (site, file) = starter_with("[plugins.x]\ncommand = \"true\"\n[plugins.y]\nnote = 1\n");
-        let x_line = file.text.lines().position(|l| l == "command = \"true\"").unwrap() + 1;
-        let folder = parse_declarations("p.toml", "[plugins.y]\ncommand = \"true\"\n", Path::new("."))
-            .unwrap();
-        for (consent, x_allowed) in [(SiteCommands::Refused, false), (SiteCommands::Allowed, true)] {
-            let specs =
-                site_plugins(&site, Path::new("."), &file, &folder, consent).unwrap();
+        let x_line = file
+            .text
+            .lines()
+            .position(|l| l == "command = \"true\"")
+            .unwrap()
+            + 1;
+        let folder = parse_declarations(
+            "p.toml",
+            "[plugins.y]\ncommand = \"true\"\n",
+            Path::new("."),
+        )
+        .unwrap();
+        for (consent, x_allowed) in [
+            (SiteCommands::Refused, false),
+            (SiteCommands::Allowed, true),
+        ] {
+            let specs = site_plugins(&site, Path::new("."), &file, &folder, consent).unwrap();
             let x = specs.iter().find(|s| s.id == "x").unwrap();
             assert_eq!((x.origin, x.allowed), (Origin::Site, x_allowed));
             assert_eq!(x.declared_at, format!("site.toml:{x_line}:1"));
@@ -651,7 +684,9 @@ mod tests {
     #[test]
     fn a_refused_command_is_a_check_error_at_its_key_or_a_warning_when_optional() {
         let (site, _) = starter_with("");
-        let mut s = spec("x", "[plugins.x]\ncommand = \"true\"\n").unwrap().unwrap();
+        let mut s = spec("x", "[plugins.x]\ncommand = \"true\"\n")
+            .unwrap()
+            .unwrap();
         let surveys = SurveyData::default();
         let empty = toml::Table::new();
         let ctx = Context {

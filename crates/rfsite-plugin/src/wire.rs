@@ -495,7 +495,9 @@ mod tests {
     #[test]
     fn the_protocol_is_checked_before_the_shape_wherever_it_stands() {
         assert_eq!(
-            Response::parse(br#"{"output": {"layers": "new shape"}, "protocol": "rfsite-plugin/2"}"#),
+            Response::parse(
+                br#"{"output": {"layers": "new shape"}, "protocol": "rfsite-plugin/2"}"#
+            ),
             Err(WireError::Protocol {
                 found: "rfsite-plugin/2".into()
             })
@@ -506,7 +508,9 @@ mod tests {
     fn extra_is_counted_at_every_depth_and_refused_past_the_limit() {
         let n = MAX_EXTRA_VALUES as usize; // `extra` and the array count 2 more
         let body = vec!["0"; n - 2].join(",");
-        let ok = format!(r#"{{"protocol": "rfsite-plugin/1", "output": {{"extra": {{"x": [{body}]}}}}}}"#);
+        let ok = format!(
+            r#"{{"protocol": "rfsite-plugin/1", "output": {{"extra": {{"x": [{body}]}}}}}}"#
+        );
         assert_eq!(
             Response::parse(ok.as_bytes()).unwrap().output.extra["x"]
                 .as_array()

@@ -18,7 +18,10 @@ pub const MAX_LAYER_POINTS: usize = 1 << 24;
 pub(super) fn check(site: &Site, id: &str, mut o: PluginOutput) -> Result<PluginOutput, String> {
     for (i, l) in o.layers.iter().enumerate() {
         layer(site, l).map_err(|m| {
-            format!("answer breaks `{}`: output.layers[{i}]{m}", rfsite_plugin::wire::PROTOCOL)
+            format!(
+                "answer breaks `{}`: output.layers[{i}]{m}",
+                rfsite_plugin::wire::PROTOCOL
+            )
         })?;
     }
     for l in &mut o.layers {
@@ -41,24 +44,30 @@ fn layer(site: &Site, l: &CoverageLayer) -> Result<(), String> {
     let g = &l.grid;
     if g.nx == 0 || g.ny == 0 {
         let k = if g.nx == 0 { "nx" } else { "ny" };
-        return Err(format!(".grid.{k} is 0; a layer has at least one column and one row"));
+        return Err(format!(
+            ".grid.{k} is 0; a layer has at least one column and one row"
+        ));
     }
-    let n = g
-        .nx
-        .checked_mul(g.ny)
-        .filter(|n| *n <= MAX_LAYER_POINTS)
-        .ok_or_else(|| {
-            format!(
-                ".grid: {} x {} points, more than the {MAX_LAYER_POINTS} a layer may have",
-                g.nx, g.ny
-            )
-        })?;
+    let n =
+        g.nx.checked_mul(g.ny)
+            .filter(|n| *n <= MAX_LAYER_POINTS)
+            .ok_or_else(|| {
+                format!(
+                    ".grid: {} x {} points, more than the {MAX_LAYER_POINTS} a layer may have",
+                    g.nx, g.ny
+                )
+            })?;
     if !(g.step_m.is_finite() && g.step_m > 0.0) {
-        return Err(format!(".grid.step_m is {}; it must be a length in metres above 0", g.step_m));
+        return Err(format!(
+            ".grid.step_m is {}; it must be a length in metres above 0",
+            g.step_m
+        ));
     }
     for (k, v) in [("origin_x_m", g.origin_x_m), ("origin_y_m", g.origin_y_m)] {
         if !v.is_finite() {
-            return Err(format!(".grid.{k} is {v}; it must be a finite number of metres"));
+            return Err(format!(
+                ".grid.{k} is {v}; it must be a finite number of metres"
+            ));
         }
     }
     if l.level_dbm.len() != n {
@@ -70,14 +79,22 @@ fn layer(site: &Site, l: &CoverageLayer) -> Result<(), String> {
         ));
     }
     if let Some(v) = l.level_dbm.iter().find(|v| v.is_infinite()) {
-        return Err(format!(".level_dbm holds {v}; a level is a number of dBm, or null outside the floor"));
+        return Err(format!(
+            ".level_dbm holds {v}; a level is a number of dBm, or null outside the floor"
+        ));
     }
     servers(l, n)?;
     if site.floor(&l.floor).is_none() {
-        return Err(format!(".floor is `{}`, which the site does not have", l.floor));
+        return Err(format!(
+            ".floor is `{}`, which the site does not have",
+            l.floor
+        ));
     }
     if site.service(&l.service).is_none() {
-        return Err(format!(".service is `{}`, which the site does not have", l.service));
+        return Err(format!(
+            ".service is `{}`, which the site does not have",
+            l.service
+        ));
     }
     Ok(())
 }
