@@ -279,9 +279,10 @@ fn plugins_lists_external_plugins_in_run_order_with_version() {
     assert!(p["command"].as_str().unwrap().starts_with("python3 "));
     // Declared in the site file: it runs only with --allow-site-commands.
     assert_eq!(p["declared_in"], "examples/interference-demo/site.toml");
+    let line = line_of(&root().join("examples/interference-demo"), "command = ");
     assert_eq!(
         p["declared_at"],
-        "examples/interference-demo/site.toml:39:1"
+        format!("examples/interference-demo/site.toml:{line}:1")
     );
     assert_eq!(p["origin"], "site");
     assert_eq!(p["allowed"], false);
