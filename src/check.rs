@@ -1,7 +1,8 @@
-//! `rfsite check SITE`
+//! `rfsite check SITE [--plugins DIR] [--allow-site-commands]`
 
 use std::path::PathBuf;
 
+use rfsite_engine::external::{ExternalSpec, SiteCommands};
 use rfsite_engine::{EngineError, LoadedSite, World};
 use rfsite_model::{Diagnostic, MaterialLibrary};
 
@@ -15,6 +16,10 @@ pub struct Args {
     /// A folder of `*.toml` external plugin declarations, as given to `report`.
     #[arg(long)]
     pub plugins: Option<PathBuf>,
+    /// Check as `report --allow-site-commands` would run: the site file's commands allowed
+    /// (check itself never runs any).
+    #[arg(long)]
+    pub allow_site_commands: bool,
 }
 
 /// Why a site could not be loaded.
@@ -99,13 +104,15 @@ pub fn load(site: &std::path::Path) -> Result<(World, LoadedSite), Outcome> {
 }
 
 /// Runs `check`: loads the site, then runs every plugin's own input check, as `report`
-/// does before it runs anything.
+/// does before it runs anything, and lists the external commands a report would run.
+/// It runs no plugin and no command.
 pub fn run(a: Args) -> Outcome {
     let (world, l) = match load(&a.site) {
         Ok(x) => x,
         Err(o) => return o,
     };
-    let problems = match plugin_problems(&world, &l, a.plugins.as_deref()) {
+    let consent = SiteCommands::from_flag(a.allow_site_commands);
+    let (problems, specs) = match plugin_problems(&world, &l, a.plugins.as_deref(), consent) {
         Ok(p) => p,
         Err(e) => {
             eprintln!("error: {e}");
@@ -114,6 +121,9 @@ pub fn run(a: Args) -> Outcome {
     };
     for x in &problems.items {
         eprint!("{x}");
+    }
+    for line in command_lines(&specs, &l.site) {
+        println!("{line}");
     }
     if problems.has_errors() {
         eprintln!(
@@ -127,14 +137,48 @@ pub fn run(a: Args) -> Outcome {
     Outcome::Ok
 }
 
+/// The plugins' input problems; builds the registry (external plugins included) but runs
+/// nothing: `check_plugins` calls each plugin's `check`, never its `run`.
 fn plugin_problems(
     world: &World,
     l: &LoadedSite,
     plugins: Option<&std::path::Path>,
-) -> Result<rfsite_model::Diagnostics, String> {
-    let settings = crate::report::load_settings(None, plugins)?;
-    let (registry, _) = crate::report::registry_for(world, l, &settings)?;
-    Ok(rfsite_engine::check_plugins(l, &registry))
+    consent: SiteCommands,
+) -> Result<(rfsite_model::Diagnostics, Vec<ExternalSpec>), String> {
+    let mut settings = crate::report::load_settings(None, plugins)?;
+    settings.site_commands = consent;
+    let (registry, specs) = crate::report::registry_for(world, l, &settings)?;
+    Ok((rfsite_engine::check_plugins(l, &registry), specs))
+}
+
+/// One line per external command: what would run, where it was declared, whether it may.
+fn command_lines(specs: &[ExternalSpec], site: &rfsite_model::Site) -> Vec<String> {
+    let enabled = |id: &str| {
+        site.plugin_options
+            .get(id)
+            .and_then(|t| t.get("enabled"))
+            .and_then(|v| v.as_bool())
+            .unwrap_or(true)
+    };
+    let mut out = Vec::new();
+    if !specs.is_empty() {
+        out.push("external commands a report would run:".to_string());
+    }
+    for s in specs {
+        let note = if enabled(&s.id) {
+            s.consent_note()
+        } else {
+            "disabled by the site (`enabled = false`): does not run".into()
+        };
+        out.push(format!(
+            "  {}: {} (in {}; declared at {}) — {note}",
+            s.id,
+            s.command_line(),
+            rfsite_engine::world::display_path(&s.dir),
+            s.declared_at
+        ));
+    }
+    out
 }
 
 fn print_summary(world: &World, l: &LoadedSite, warnings: usize) {

@@ -41,6 +41,9 @@ pub struct Args {
     /// Run even when unchanged.
     #[arg(long)]
     pub force: bool,
+    /// Run the commands the site file declares.
+    #[arg(long)]
+    pub allow_site_commands: bool,
 }
 
 /// Limits on one site's child process.
@@ -180,7 +183,7 @@ pub fn child_args(
     run: Option<(&str, &std::path::Path)>,
     template: Option<&std::path::Path>,
     plugins: Option<&std::path::Path>,
-    force: bool,
+    (force, allow_site_commands): (bool, bool),
 ) -> Vec<OsString> {
     let mut a: Vec<OsString> = vec![
         "--phase".into(),
@@ -201,6 +204,9 @@ pub fn child_args(
     }
     if force {
         a.push("--force".into());
+    }
+    if allow_site_commands {
+        a.push("--allow-site-commands".into());
     }
     a
 }

@@ -1,7 +1,8 @@
-//! `rfsite plugins [SITE] [--plugins DIR] [--json]`
+//! `rfsite plugins [SITE] [--plugins DIR] [--allow-site-commands] [--json]`
 
 use std::path::PathBuf;
 
+use rfsite_engine::external::SiteCommands;
 use rfsite_engine::Registry;
 
 use crate::Outcome;
@@ -14,6 +15,9 @@ pub struct Args {
     /// A folder of `*.toml` external plugin declarations.
     #[arg(long)]
     pub plugins: Option<PathBuf>,
+    /// Say what `report --allow-site-commands` would run: the site file's commands allowed.
+    #[arg(long)]
+    pub allow_site_commands: bool,
     /// Print JSON.
     #[arg(long)]
     pub json: bool,
@@ -21,13 +25,14 @@ pub struct Args {
 
 /// Runs `plugins`.
 pub fn run(a: Args) -> Outcome {
-    let settings = match crate::report::load_settings(None, a.plugins.as_deref()) {
+    let mut settings = match crate::report::load_settings(None, a.plugins.as_deref()) {
         Ok(s) => s,
         Err(e) => {
             eprintln!("error: {e}");
             return Outcome::BadInput;
         }
     };
+    settings.site_commands = SiteCommands::from_flag(a.allow_site_commands);
     let built = match &a.site {
         Some(site) => {
             let (world, loaded) = match crate::check::load(site) {
@@ -74,6 +79,9 @@ pub fn run(a: Args) -> Outcome {
                     o["optional"] = serde_json::json!(s.optional);
                     o["timeout_s"] = serde_json::json!(s.timeout_s);
                     o["declared_in"] = serde_json::json!(s.declared_in);
+                    o["declared_at"] = serde_json::json!(s.declared_at);
+                    o["origin"] = serde_json::json!(s.origin.label());
+                    o["allowed"] = serde_json::json!(s.allowed);
                 }
                 o
             })
@@ -105,13 +113,14 @@ pub fn run(a: Args) -> Outcome {
         }
         if let Some(s) = spec_of(p.id()) {
             println!(
-                "   command: {} (in {}; time limit {} s{}; declared in {})",
+                "   command: {} (in {}; time limit {} s{}; declared at {})",
                 s.command_line(),
                 rfsite_engine::world::display_path(&s.dir),
                 s.timeout_s,
                 if s.optional { ", optional" } else { "" },
-                s.declared_in
+                s.declared_at
             );
+            println!("   {}", s.consent_note());
         }
     }
     Outcome::Ok

@@ -60,6 +60,10 @@ pub struct Args {
     /// Memory limit (address space) of one site's run, MiB; a site over it fails alone.
     #[arg(long, default_value_t = 8192)]
     pub site_memory_mb: u64,
+    /// Run the commands that site files declare (`[plugins.<id>] command`), in every site.
+    /// Without it, only the commands of the `--plugins` folder run.
+    #[arg(long)]
+    pub allow_site_commands: bool,
 }
 
 #[derive(clap::Subcommand)]
@@ -609,7 +613,7 @@ pub fn run(a: Args) -> Outcome {
         memory_bytes: a.site_memory_mb.max(64).saturating_mul(1 << 20),
     };
     let probes = pool(jobs, &sites, |(rel, folder)| {
-        let args = isolate::child_args("probe", rel, folder, None, None, None, false);
+        let args = isolate::child_args("probe", rel, folder, None, None, None, (false, false));
         match isolate::in_child(args, limits) {
             Ok(v) => probe_from(rel, &v),
             Err(e) => Probe::Bad(failed_entry(rel, None, None, "failed", vec![e])),
@@ -666,7 +670,7 @@ pub fn run(a: Args) -> Outcome {
                 Some((id, &out)),
                 a.template.as_deref(),
                 a.plugins.as_deref(),
-                a.force,
+                (a.force, a.allow_site_commands),
             );
             let (entry, reused) = match isolate::in_child(args, limits) {
                 Ok(v) => run_from(rel, id, &v),
@@ -738,10 +742,12 @@ pub fn child_answer(a: &isolate::Args) -> Value {
     let (Some(id), Some(out)) = (&a.id, &a.out) else {
         return serde_json::json!({"error": "phase run needs --id and --out"});
     };
-    let settings = match report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
+    let mut settings = match report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
         Ok(s) => s,
         Err(e) => return serde_json::json!({"error": e}),
     };
+    settings.site_commands =
+        rfsite_engine::external::SiteCommands::from_flag(a.allow_site_commands);
     let (entry, reused) = run_one(&a.rel, &a.folder, id, out, &settings, a.force);
     serde_json::json!({"entry": entry, "reused": reused})
 }

@@ -1,10 +1,10 @@
-//! `rfsite report SITE [-o OUT] [--template DIR] [--plugins DIR]`, and the per-site run that
-//! `portfolio` shares.
+//! `rfsite report SITE [-o OUT] [--template DIR] [--plugins DIR] [--allow-site-commands]`,
+//! and the per-site run that `portfolio` shares.
 
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
-use rfsite_engine::external::{self, ExternalSpec};
+use rfsite_engine::external::{self, ExternalSpec, SiteCommands};
 use rfsite_engine::{findings_json, LoadedSite, Registry, World};
 use rfsite_plugin::Assessment;
 use rfsite_report::Template;
@@ -25,6 +25,11 @@ pub struct Args {
     /// A folder of `*.toml` external plugin declarations (`[plugins.<id>]` with `command`).
     #[arg(long)]
     pub plugins: Option<PathBuf>,
+    /// Run the commands that the site file declares (`[plugins.<id>] command`). Without it,
+    /// only the commands of a `--plugins` folder run: a site folder from someone else runs
+    /// none of their programs.
+    #[arg(long)]
+    pub allow_site_commands: bool,
 }
 
 /// The marker file written into every site output folder; `portfolio` never looks for
@@ -67,6 +72,8 @@ pub struct Settings {
     pub plugin_folder: Vec<ExternalSpec>,
     /// SHA-256 over the template and the plugin declarations (not the site).
     pub fingerprint: String,
+    /// Whether the commands declared in site files may run.
+    pub site_commands: SiteCommands,
 }
 
 /// Reads `--template` and `--plugins`; an error here is bad input.
@@ -99,10 +106,12 @@ pub fn load_settings(template: Option<&Path>, plugins: Option<&Path>) -> Result<
         template,
         plugin_folder,
         fingerprint: rfsite_engine::world::sha256_hex(fp.as_bytes()),
+        site_commands: SiteCommands::from_flag(false),
     })
 }
 
-/// The registry for one site: the built-ins, the folder's plugins and the site's own.
+/// The registry for one site: the built-ins, the folder's plugins and the site's own (whose
+/// commands may run only as `settings.site_commands` says). Builds it; runs nothing.
 pub fn registry_for(
     world: &World,
     loaded: &LoadedSite,
@@ -111,8 +120,9 @@ pub fn registry_for(
     let specs = external::site_plugins(
         &loaded.site,
         &world.root,
-        &world.display_site_path(),
+        &loaded.source,
         &settings.plugin_folder,
+        settings.site_commands,
     )?;
     Ok((Registry::with_external(specs.clone())?, specs))
 }
@@ -234,13 +244,14 @@ pub fn located_errors(d: &rfsite_model::Diagnostics) -> Vec<String> {
 
 /// Runs `report`.
 pub fn run(a: Args) -> Outcome {
-    let settings = match load_settings(a.template.as_deref(), a.plugins.as_deref()) {
+    let mut settings = match load_settings(a.template.as_deref(), a.plugins.as_deref()) {
         Ok(s) => s,
         Err(e) => {
             eprintln!("error: {e}");
             return Outcome::BadInput;
         }
     };
+    settings.site_commands = SiteCommands::from_flag(a.allow_site_commands);
     let (world, loaded) = match crate::check::load(&a.site) {
         Ok(x) => x,
         Err(o) => return o,

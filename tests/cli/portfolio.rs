@@ -286,7 +286,7 @@ fn a_failing_external_plugin_fails_only_its_site() {
         ),
     );
     let out = tmp.path().join("o");
-    let (code, so, se) = portfolio(&dir, &out, &[]);
+    let (code, so, se) = portfolio(&dir, &out, &["--allow-site-commands"]);
     assert_eq!(
         code, 1,
         "a run failure (not bad input) gives exit 1\n{so}{se}"
@@ -367,7 +367,11 @@ fn a_hanging_site_is_stopped_at_the_site_time_limit() {
     ));
     let out = tmp.path().join("o");
     let t0 = std::time::Instant::now();
-    let (code, so, se) = portfolio(&dir, &out, &["--site-timeout-s", "3"]);
+    let (code, so, se) = portfolio(
+        &dir,
+        &out,
+        &["--site-timeout-s", "3", "--allow-site-commands"],
+    );
     assert_eq!(code, 1, "{so}{se}");
     // The hang would otherwise last the plugin's 60 s sleep.
     assert!(

@@ -4,26 +4,39 @@
 //! in a `*.toml` file of a plugin folder (`--plugins DIR`). The host reads only its own keys
 //! ([`HOST_KEYS`]); every other key is the plugin's option and is passed on untouched.
 //!
+//! Consent: a plugin folder is chosen by the user, so its commands run. A command declared
+//! in a site file runs only when the user allows it ([`SiteCommands::Allowed`], the
+//! [`CONSENT_FLAG`] of the command line): opening a site folder received from someone else
+//! must not run their program. Without consent, [`ExternalPlugin::check`] reports the
+//! `command` key (an error, or a warning for an `optional` plugin, which is then skipped)
+//! and [`ExternalPlugin::run`] never starts it.
+//!
 //! [`ExternalPlugin::run`] writes a [`wire::Request`] on the command's stdin and reads a
-//! [`wire::Response`] from its stdout, with a time limit (the child is killed), a size
-//! limit on the answer, the exit status checked and the protocol version checked. Each
-//! line the command writes on stderr goes to rfsite's log, prefixed with the plugin id.
-//! Every failure is an error naming the plugin and its command; for an `optional = true`
-//! plugin it becomes a [`Warning`] in the report instead and the run goes on.
+//! [`wire::Response`] from its stdout (the process handling is in `child.rs`: its own
+//! process group, killed when it ends or overruns its time limit; a size limit on the
+//! answer; stderr logged up to a cap), checks the exit status, the protocol version and
+//! every layer of the answer. Every failure is an error naming the plugin and its command;
+//! for an `optional = true` plugin it becomes a [`Warning`] in the report instead and the
+//! run goes on.
 //!
 //! The engine sees only `Box<dyn Plugin>`: nothing else in rfsite knows a plugin is external.
 
-use std::collections::{BTreeMap, VecDeque};
-use std::io::{BufRead, Read, Write};
+use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Stdio};
-use std::sync::atomic::{AtomicBool, Ordering};
-use std::sync::{mpsc, Arc};
-use std::time::{Duration, Instant};
+use std::process::Command;
+use std::time::Duration;
 
-use rfsite_model::Site;
+use rfsite_model::locate::{locate, Seg};
+use rfsite_model::{Site, SourceFile};
 use rfsite_plugin::wire::{self, WireError, PROTOCOL};
 use rfsite_plugin::*;
+
+mod answer;
+mod child;
+
+pub use answer::MAX_LAYER_POINTS;
+pub use child::STDERR_LOG_BYTES;
+pub use wire::MAX_EXTRA_VALUES;
 
 /// Keys of a `[plugins.<id>]` table that rfsite itself reads; the rest are the plugin's.
 pub const HOST_KEYS: &[&str] = &[
@@ -45,6 +58,52 @@ pub const MAX_OUTPUT_BYTES: usize = 64 << 20;
 /// Default time limit, seconds.
 pub const DEFAULT_TIMEOUT_S: f64 = 30.0;
 
+/// Largest time limit a declaration may set, seconds (one day).
+pub const MAX_TIMEOUT_S: f64 = 86_400.0;
+
+/// The command-line flag by which the user allows the commands of site files to run.
+pub const CONSENT_FLAG: &str = "--allow-site-commands";
+
+/// Who declared an external plugin.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Origin {
+    /// A `*.toml` file of a `--plugins DIR` folder, which the user chose: its command runs.
+    Folder,
+    /// The site file: its command runs only with the user's consent.
+    Site,
+}
+
+impl Origin {
+    /// `"folder"` or `"site"`.
+    pub fn label(self) -> &'static str {
+        match self {
+            Origin::Folder => "folder",
+            Origin::Site => "site",
+        }
+    }
+}
+
+/// Whether the commands declared in site files may run in this run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SiteCommands {
+    /// They do not (the default).
+    #[default]
+    Refused,
+    /// The user allowed them ([`CONSENT_FLAG`]).
+    Allowed,
+}
+
+impl SiteCommands {
+    /// From the flag.
+    pub fn from_flag(allowed: bool) -> Self {
+        if allowed {
+            SiteCommands::Allowed
+        } else {
+            SiteCommands::Refused
+        }
+    }
+}
+
 /// An external plugin as declared.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ExternalSpec {
@@ -58,7 +117,7 @@ pub struct ExternalSpec {
     pub after: Vec<String>,
     /// A failure becomes a warning instead of an error.
     pub optional: bool,
-    /// Time limit, seconds.
+    /// Time limit, seconds: finite, more than 0, at most [`MAX_TIMEOUT_S`].
     pub timeout_s: f64,
     /// One-line description (its method summary).
     pub description: String,
@@ -74,66 +133,105 @@ pub struct ExternalSpec {
     pub dir: PathBuf,
     /// The declaring file, as shown to the user.
     pub declared_in: String,
+    /// Where its `command` key is: `file:line:column`.
+    pub declared_at: String,
+    /// Who declared it.
+    pub origin: Origin,
+    /// Whether its command may run: a folder's always, a site's only with consent.
+    pub allowed: bool,
+}
+
+/// `file:line:column` of `[plugins.<id>]` key `key` (or of the table) in a declaring file.
+fn place(file: &SourceFile, id: &str, key: Option<&str>) -> String {
+    let mut path = vec![Seg::Key("plugins"), Seg::Key(id)];
+    path.extend(key.map(Seg::Key));
+    let at = locate(&file.text, &path).map(|f| f.span.start).unwrap_or(0);
+    let (line, col) = file.line_col(at);
+    format!("{}:{line}:{col}", file.display_path)
 }
 
 fn strings(
     id: &str,
     key: &str,
     v: Option<&toml::Value>,
-    file: &str,
+    file: &SourceFile,
 ) -> Result<Vec<String>, String> {
+    let bad = |found: &str| {
+        format!(
+            "{}: [plugins.{id}] `{key}` must be a list of strings, found a {found}",
+            place(file, id, Some(key))
+        )
+    };
     match v {
         None => Ok(Vec::new()),
         Some(toml::Value::Array(a)) => a
             .iter()
             .map(|x| {
-                x.as_str().map(str::to_string).ok_or_else(|| {
-                    format!(
-                        "{file}: [plugins.{id}] `{key}` must be a list of strings, found a {}",
-                        x.type_str()
-                    )
-                })
+                x.as_str()
+                    .map(str::to_string)
+                    .ok_or_else(|| bad(x.type_str()))
             })
             .collect(),
-        Some(other) => Err(format!(
-            "{file}: [plugins.{id}] `{key}` must be a list of strings, found a {}",
-            other.type_str()
-        )),
+        Some(other) => Err(bad(other.type_str())),
+    }
+}
+
+/// The time limit: a number of seconds, finite, more than 0, at most [`MAX_TIMEOUT_S`]
+/// (`Duration::from_secs_f64` panics on what this refuses).
+fn timeout_s(v: Option<&toml::Value>) -> Result<f64, String> {
+    let x = match v {
+        None => return Ok(DEFAULT_TIMEOUT_S),
+        Some(toml::Value::Integer(i)) => *i as f64,
+        Some(toml::Value::Float(f)) => *f,
+        Some(o) => return Err(format!("a {}", o.type_str())),
+    };
+    if x.is_finite() && x > 0.0 && x <= MAX_TIMEOUT_S {
+        Ok(x)
+    } else {
+        Err(x.to_string())
     }
 }
 
 impl ExternalSpec {
-    /// Reads a `[plugins.<id>]` table; `None` when it has no `command` (a built-in
-    /// plugin's options). `dir` is the command's working folder, `file` the declaring file
-    /// as shown in messages.
+    /// Reads a `[plugins.<id>]` table of `file`; `None` when it has no `command` (a
+    /// built-in plugin's options). `dir` is the command's working folder. Errors are
+    /// `file:line:column: message`. The spec is allowed to run when it comes from a
+    /// plugin folder; [`site_plugins`] decides for a site's.
     pub fn from_table(
         id: &str,
         t: &toml::Table,
         dir: &Path,
-        file: &str,
+        file: &SourceFile,
+        origin: Origin,
     ) -> Result<Option<ExternalSpec>, String> {
         let Some(cmd) = t.get("command") else {
             return Ok(None);
         };
+        let at = |key: &str| place(file, id, Some(key));
         let command = cmd
             .as_str()
             .ok_or_else(|| {
                 format!(
-                    "{file}: [plugins.{id}] `command` must be a string, found a {}",
+                    "{}: [plugins.{id}] `command` must be a string, found a {}",
+                    at("command"),
                     cmd.type_str()
                 )
             })?
             .trim()
             .to_string();
         if command.is_empty() {
-            return Err(format!("{file}: [plugins.{id}] `command` is empty"));
+            return Err(format!(
+                "{}: [plugins.{id}] `command` is empty",
+                at("command")
+            ));
         }
         let text = |key: &str, default: &str| -> Result<String, String> {
             match t.get(key) {
                 None => Ok(default.to_string()),
                 Some(toml::Value::String(s)) => Ok(s.clone()),
                 Some(o) => Err(format!(
-                    "{file}: [plugins.{id}] `{key}` must be a string, found a {}",
+                    "{}: [plugins.{id}] `{key}` must be a string, found a {}",
+                    at(key),
                     o.type_str()
                 )),
             }
@@ -143,17 +241,18 @@ impl ExternalSpec {
             Some(toml::Value::Boolean(b)) => *b,
             Some(o) => {
                 return Err(format!(
-                    "{file}: [plugins.{id}] `optional` must be true or false, found a {}",
+                    "{}: [plugins.{id}] `optional` must be true or false, found a {}",
+                    at("optional"),
                     o.type_str()
                 ))
             }
         };
-        let timeout_s = match t.get("timeout_s") {
-            None => DEFAULT_TIMEOUT_S,
-            Some(toml::Value::Integer(i)) if *i > 0 => *i as f64,
-            Some(toml::Value::Float(f)) if *f > 0.0 && f.is_finite() => *f,
-            Some(o) => return Err(format!("{file}: [plugins.{id}] `timeout_s` must be a positive number of seconds, found {o}")),
-        };
+        let timeout_s = timeout_s(t.get("timeout_s")).map_err(|found| {
+            format!(
+                "{}: [plugins.{id}] `timeout_s` must be a number of seconds, more than 0 and at most {MAX_TIMEOUT_S} (one day); found {found}\n  = hint: e.g. `timeout_s = 60`",
+                at("timeout_s")
+            )
+        })?;
         let options: toml::Table = t
             .iter()
             .filter(|(k, _)| !HOST_KEYS.contains(&k.as_str()))
@@ -172,7 +271,10 @@ impl ExternalSpec {
             timeout_s,
             options,
             dir: dir.to_path_buf(),
-            declared_in: file.to_string(),
+            declared_in: file.display_path.clone(),
+            declared_at: at("command"),
+            origin,
+            allowed: origin == Origin::Folder,
         }))
     }
 
@@ -184,6 +286,20 @@ impl ExternalSpec {
             .join(" ")
     }
 
+    /// Whether a report runs its command, and why, in one phrase.
+    pub fn consent_note(&self) -> String {
+        match (self.origin, self.allowed) {
+            (Origin::Folder, _) => "allowed: declared in a --plugins folder".into(),
+            (Origin::Site, true) => format!("allowed by {CONSENT_FLAG}"),
+            (Origin::Site, false) if self.optional => format!(
+                "not allowed: a command declared in a site file runs only with {CONSENT_FLAG}; this optional plugin is skipped with a warning"
+            ),
+            (Origin::Site, false) => format!(
+                "not allowed: a command declared in a site file runs only with {CONSENT_FLAG}; `report` stops"
+            ),
+        }
+    }
+
     fn program(&self) -> PathBuf {
         let p = Path::new(&self.command);
         if p.components().count() > 1 && p.is_relative() {
@@ -193,11 +309,11 @@ impl ExternalSpec {
         }
     }
 
-    /// A fingerprint of the declaration and of the files its command and arguments name
-    /// (the script), for deciding whether an earlier result is still current.
+    /// A fingerprint of the declaration, of whether it may run and of the files its command
+    /// and arguments name (the script), for deciding whether an earlier result is current.
     pub fn fingerprint(&self) -> String {
         let mut s = format!(
-            "{}\0{}\0{:?}\0{:?}\0{}\0{}\0{}\0{}\n",
+            "{}\0{}\0{:?}\0{:?}\0{}\0{}\0{}\0{}\0{}\n",
             self.id,
             self.command,
             self.args,
@@ -205,6 +321,7 @@ impl ExternalSpec {
             self.optional,
             self.timeout_s,
             self.version,
+            self.allowed,
             toml::to_string(&self.options).unwrap_or_default()
         );
         for a in std::iter::once(&self.command).chain(self.args.iter()) {
@@ -219,8 +336,9 @@ impl ExternalSpec {
 /// Parses a plugin declaration file (`[plugins.<id>]` tables with a `command`). Tables
 /// without a command are refused: a plugin folder declares plugins, it does not set options.
 pub fn parse_declarations(file: &str, text: &str, dir: &Path) -> Result<Vec<ExternalSpec>, String> {
+    let src = SourceFile::new(file, text);
     let doc: toml::Table = toml::from_str(text).map_err(|e| {
-        let (line, col) = e.span().map(|s| line_col(text, s.start)).unwrap_or((1, 1));
+        let (line, col) = e.span().map(|s| src.line_col(s.start)).unwrap_or((1, 1));
         format!("{file}:{line}:{col}: {}", e.message())
     })?;
     let mut out = Vec::new();
@@ -233,45 +351,39 @@ pub fn parse_declarations(file: &str, text: &str, dir: &Path) -> Result<Vec<Exte
         };
         for (id, v) in t {
             let Some(pt) = v.as_table() else {
-                return Err(format!("{file}: `plugins.{id}` must be a table"));
+                return Err(format!(
+                    "{}: `plugins.{id}` must be a table",
+                    place(&src, id, None)
+                ));
             };
-            match ExternalSpec::from_table(id, pt, dir, file)? {
+            match ExternalSpec::from_table(id, pt, dir, &src, Origin::Folder)? {
                 Some(s) => out.push(s),
-                None => return Err(format!("{file}: [plugins.{id}] has no `command`\n  = hint: a plugin folder declares external plugins: add `command = \"...\"`")),
+                None => return Err(format!("{}: [plugins.{id}] has no `command`\n  = hint: a plugin folder declares external plugins: add `command = \"...\"`", place(&src, id, None))),
             }
         }
     }
     Ok(out)
 }
 
-fn line_col(text: &str, offset: usize) -> (usize, usize) {
-    let before = &text[..offset.min(text.len())];
-    let line = before.matches('\n').count() + 1;
-    let col = before
-        .rsplit('\n')
-        .next()
-        .map(|s| s.chars().count())
-        .unwrap_or(0)
-        + 1;
-    (line, col)
-}
-
 /// The external plugins of a site: those of the plugin folders (`folder`, later
-/// declarations of an id replace earlier ones), then the site's own `[plugins.<id>]` tables.
-/// A site table with a `command` replaces a folder's declaration of that id; one without
-/// adds its keys to the declared plugin's options (the site's value wins).
+/// declarations of an id replace earlier ones), then the site's own `[plugins.<id>]` tables
+/// (`source` is the site file as read). A site table with a `command` replaces a folder's
+/// declaration of that id, and runs only if `consent` allows; one without a command adds
+/// its keys to the declared plugin's options (the site's value wins).
 pub fn site_plugins(
     site: &Site,
     site_dir: &Path,
-    site_file: &str,
+    source: &SourceFile,
     folder: &[ExternalSpec],
+    consent: SiteCommands,
 ) -> Result<Vec<ExternalSpec>, String> {
     let mut by_id: BTreeMap<String, ExternalSpec> = BTreeMap::new();
     for s in folder {
         by_id.insert(s.id.clone(), s.clone());
     }
     for (id, t) in &site.plugin_options {
-        if let Some(s) = ExternalSpec::from_table(id, t, site_dir, site_file)? {
+        if let Some(mut s) = ExternalSpec::from_table(id, t, site_dir, source, Origin::Site)? {
+            s.allowed = consent == SiteCommands::Allowed;
             by_id.insert(id.clone(), s);
         } else if let Some(s) = by_id.get_mut(id) {
             for (k, v) in t {
@@ -322,166 +434,60 @@ impl ExternalPlugin {
         serde_json::to_vec(&req).map_err(|e| format!("could not serialise the request: {e}"))
     }
 
+    /// Why its command may not run, for the site file: `None` when it may.
+    fn refusal(&self) -> Option<String> {
+        (!self.spec.allowed).then(|| {
+            format!(
+                "this site file declares a command, `{}`, that runs on your machine; a command declared in a site file runs only with {CONSENT_FLAG}",
+                self.spec.command_line()
+            )
+        })
+    }
+
     /// Runs the command once; `Err` is a message naming what went wrong.
     fn call(&self, ctx: &Context<'_>) -> Result<PluginOutput, String> {
         let spec = &self.spec;
+        if let Some(m) = self.refusal() {
+            return Err(m);
+        }
         let cmdline = spec.command_line();
         let request = self.request(ctx)?;
-        let mut child = Command::new(spec.program())
-            .args(&spec.args)
-            .current_dir(&spec.dir)
-            .stdin(Stdio::piped())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::piped())
-            .spawn()
-            .map_err(|e| format!("could not start `{cmdline}` (in {}): {e}\n  = hint: check `command` in [plugins.{}] of {}", crate::world::display_path(&spec.dir), spec.id, spec.declared_in))?;
-
-        // The request is written from its own thread so that a plugin that answers before
-        // reading all of it cannot deadlock us; a plugin that never reads stdin is fine.
-        let mut stdin = child.stdin.take();
-        std::thread::spawn(move || {
-            if let Some(s) = stdin.as_mut() {
-                let _ = s.write_all(&request);
-            }
-            drop(stdin);
-        });
-
-        let oversize = Arc::new(AtomicBool::new(false));
-        let (out_tx, out_rx) = mpsc::channel();
-        let mut stdout = child.stdout.take();
-        let flag = oversize.clone();
-        std::thread::spawn(move || {
-            let mut buf = Vec::new();
-            if let Some(s) = stdout.as_mut() {
-                let _ = s.take(MAX_OUTPUT_BYTES as u64 + 1).read_to_end(&mut buf);
-            }
-            if buf.len() > MAX_OUTPUT_BYTES {
-                flag.store(true, Ordering::SeqCst);
-            }
-            let _ = out_tx.send(buf);
-        });
-
-        let (err_tx, err_rx) = mpsc::channel();
-        let mut stderr = child.stderr.take();
-        let prefix = format!("{} [{}]", spec.id, ctx.site.meta.id);
-        std::thread::spawn(move || {
-            let mut tail: VecDeque<String> = VecDeque::new();
-            if let Some(s) = stderr.as_mut() {
-                for line in std::io::BufReader::new(s).lines() {
-                    let Ok(line) = line else { break };
-                    eprintln!("{prefix}: {line}");
-                    tail.push_back(line);
-                    if tail.len() > 12 {
-                        tail.pop_front();
-                    }
-                }
-            }
-            let _ = err_tx.send(tail.into_iter().collect::<Vec<_>>());
-        });
-
-        let limit = Duration::from_secs_f64(spec.timeout_s);
-        let t0 = Instant::now();
-        let status = loop {
-            match child.try_wait() {
-                Ok(Some(s)) => break s,
-                Ok(None) => {}
-                Err(e) => return Err(format!("`{cmdline}`: could not wait for it: {e}")),
-            }
-            if oversize.load(Ordering::SeqCst) {
-                let _ = child.kill();
-                let _ = child.wait();
-                return Err(format!(
-                    "`{cmdline}` wrote more than {} MiB on stdout; it was stopped",
-                    MAX_OUTPUT_BYTES >> 20
-                ));
-            }
-            if t0.elapsed() >= limit {
-                let _ = child.kill();
-                let _ = child.wait();
-                return Err(format!(
-                    "`{cmdline}` did not answer within its time limit of {} s and was killed\n  = hint: raise `timeout_s` in [plugins.{}] of {} if it needs longer",
-                    spec.timeout_s, spec.id, spec.declared_in
-                ));
-            }
-            std::thread::sleep(Duration::from_millis(5));
+        let mut cmd = Command::new(spec.program());
+        cmd.args(&spec.args).current_dir(&spec.dir);
+        let limits = child::Limits {
+            time: Duration::from_secs_f64(spec.timeout_s),
+            stdout_bytes: MAX_OUTPUT_BYTES,
         };
-        // A grandchild may hold the pipes open after the command exits: wait a little, not forever.
-        let grace = Duration::from_secs(2);
-        let stdout = out_rx.recv_timeout(grace).unwrap_or_default();
-        let tail = err_rx.recv_timeout(grace).unwrap_or_default();
-        if !status.success() {
-            let code = status
-                .code()
-                .map(|c| format!("exit status {c}"))
-                .unwrap_or_else(|| "a signal".into());
-            let tail = if tail.is_empty() {
-                "(its stderr was empty)".to_string()
-            } else {
-                format!("last lines of its stderr:\n    {}", tail.join("\n    "))
-            };
-            return Err(format!("`{cmdline}` failed with {code}; {tail}"));
-        }
-        if stdout.len() > MAX_OUTPUT_BYTES {
-            return Err(format!(
-                "`{cmdline}` wrote more than {} MiB on stdout",
+        let log = format!("{} [{}]", spec.id, ctx.site.meta.id);
+        let ran = child::run(cmd, request, &limits, &log).map_err(|e| format!("could not start `{cmdline}` (in {}): {e}\n  = hint: check `command` in [plugins.{}] of {}", crate::world::display_path(&spec.dir), spec.id, spec.declared_in))?;
+        let stdout = match ran.end {
+            child::End::Exited(status) if !status.success() => {
+                let code = status
+                    .code()
+                    .map(|c| format!("exit status {c}"))
+                    .unwrap_or_else(|| "a signal".into());
+                return Err(format!("`{cmdline}` failed with {code}; {}", ran.stderr.quoted()));
+            }
+            child::End::Exited(_) => ran.stdout,
+            child::End::TimedOut => return Err(format!(
+                "`{cmdline}` did not answer within its time limit of {} s and was killed\n  = hint: raise `timeout_s` in [plugins.{}] of {} if it needs longer",
+                spec.timeout_s, spec.id, spec.declared_in
+            )),
+            child::End::Oversize => return Err(format!(
+                "`{cmdline}` wrote more than {} MiB on stdout; it was stopped",
                 MAX_OUTPUT_BYTES >> 20
-            ));
-        }
+            )),
+        };
         let resp = wire::Response::parse(&stdout).map_err(|e| match e {
             WireError::Malformed(_) => {
                 let head: String = String::from_utf8_lossy(&stdout[..stdout.len().min(160)]).chars().filter(|c| !c.is_control()).collect();
                 format!("`{cmdline}`: {e}; its stdout began with `{head}`")
             }
             WireError::Protocol { .. } => format!("`{cmdline}` {e}\n  = hint: update the plugin, or use an rfsite release that speaks its protocol"),
+            WireError::TooBig(_) => format!("`{cmdline}`: {e}"),
         })?;
-        self.check_output(ctx.site, resp.output)
-            .map_err(|m| format!("`{cmdline}`: {m}"))
-    }
-
-    /// The answer must make sense for this site: layers sized to their grids on floors and
-    /// services that exist; what it raises is attributed to this plugin.
-    fn check_output(&self, site: &Site, mut o: PluginOutput) -> Result<PluginOutput, String> {
-        let id = &self.spec.id;
-        for l in &mut o.layers {
-            let n = l.grid.nx.saturating_mul(l.grid.ny);
-            if l.level_dbm.len() != n {
-                return Err(format!(
-                    "layer {}/{} has {} levels for a {}x{} grid",
-                    l.floor,
-                    l.service,
-                    l.level_dbm.len(),
-                    l.grid.nx,
-                    l.grid.ny
-                ));
-            }
-            if !l.best_server.is_empty() && l.best_server.len() != n {
-                return Err(format!(
-                    "layer {}/{} has {} best-server entries for a {}x{} grid",
-                    l.floor,
-                    l.service,
-                    l.best_server.len(),
-                    l.grid.nx,
-                    l.grid.ny
-                ));
-            }
-            if site.floor(&l.floor).is_none() || site.service(&l.service).is_none() {
-                return Err(format!(
-                    "layer for floor `{}` and service `{}`, which the site does not have",
-                    l.floor, l.service
-                ));
-            }
-            l.model = id.clone();
-        }
-        for f in &mut o.findings {
-            f.plugin = id.clone();
-        }
-        for w in &mut o.warnings {
-            w.plugin = id.clone();
-        }
-        for r in &mut o.remediation {
-            r.plugin = id.clone();
-        }
-        Ok(o)
+        drop(stdout);
+        answer::check(ctx.site, &spec.id, resp.output).map_err(|m| format!("`{cmdline}`: {m}"))
     }
 }
 
@@ -501,6 +507,26 @@ impl Plugin for ExternalPlugin {
     }
     fn after(&self) -> Vec<String> {
         self.spec.after.clone()
+    }
+    /// A site file's command without consent: an error at its `command` key, or a warning
+    /// for an optional plugin (skipped). Never runs anything.
+    fn check(&self, _ctx: &Context<'_>) -> Vec<InputProblem> {
+        let Some(m) = self.refusal() else {
+            return Vec::new();
+        };
+        let hint = Some(format!(
+            "if you trust this site folder, run `rfsite report` with {CONSENT_FLAG}; or declare the plugin in a folder given with --plugins DIR; or set `enabled = false`"
+        ));
+        let place = Place::Option("command".into());
+        if self.spec.optional {
+            vec![InputProblem::warning(
+                place,
+                format!("{m}: this optional plugin is skipped"),
+                hint,
+            )]
+        } else {
+            vec![InputProblem::error(place, m, hint)]
+        }
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         match self.call(ctx) {
@@ -527,10 +553,33 @@ impl Plugin for ExternalPlugin {
 mod tests {
     use super::*;
 
+    fn site_file(text: &str) -> SourceFile {
+        SourceFile::new("site.toml", text)
+    }
+
+    /// The starter site with `extra` appended, validated.
+    fn starter_with(extra: &str) -> (Site, SourceFile) {
+        let text = format!(
+            "{}\n{extra}",
+            include_str!("../../../templates/starter/site.toml")
+        );
+        let file = site_file(&text);
+        let site = rfsite_model::load(&file, &rfsite_model::MaterialLibrary::builtin())
+            .site
+            .expect("the starter site loads");
+        (site, file)
+    }
+
+    /// The `[plugins.<id>]` table of a TOML text, read as a site file declares it.
+    fn spec(id: &str, text: &str) -> Result<Option<ExternalSpec>, String> {
+        let doc: toml::Table = toml::from_str(text).unwrap();
+        let t = doc["plugins"][id].as_table().unwrap();
+        ExternalSpec::from_table(id, t, Path::new("/tmp"), &site_file(text), Origin::Site)
+    }
+
     #[test]
     fn host_keys_are_read_and_the_rest_are_options() {
-        let t: toml::Table = toml::from_str("command = \"python3\"\nargs = [\"x.py\"]\nafter = [\"multi-wall\"]\noptional = true\ntimeout_s = 5\nsir_target_db = 9.0\n").unwrap();
-        let s = ExternalSpec::from_table("sir", &t, Path::new("/tmp"), "site.toml")
+        let s = spec("sir", "[plugins.sir]\ncommand = \"python3\"\nargs = [\"x.py\"]\nafter = [\"multi-wall\"]\noptional = true\ntimeout_s = 5\nsir_target_db = 9.0\n")
             .unwrap()
             .unwrap();
         assert_eq!(s.args, vec!["x.py"]);
@@ -539,28 +588,50 @@ mod tests {
         assert_eq!(s.timeout_s, 5.0);
         assert_eq!(s.options.len(), 1);
         assert_eq!(s.options["sir_target_db"].as_float(), Some(9.0));
+        assert_eq!(s.declared_at, "site.toml:2:1");
     }
 
     #[test]
     fn a_table_without_command_is_not_external() {
-        let t: toml::Table = toml::from_str("floor_b = 0.46").unwrap();
         assert_eq!(
-            ExternalSpec::from_table("multi-wall", &t, Path::new("."), "site.toml").unwrap(),
+            spec("multi-wall", "[plugins.multi-wall]\nfloor_b = 0.46").unwrap(),
             None
         );
     }
 
     #[test]
-    fn wrong_types_name_the_table_and_key() {
-        let t: toml::Table = toml::from_str("command = \"x\"\nargs = \"y\"").unwrap();
-        let e = ExternalSpec::from_table("sir", &t, Path::new("."), "site.toml").unwrap_err();
-        assert!(e.contains("[plugins.sir] `args`"), "{e}");
-        let t: toml::Table = toml::from_str("command = \"x\"\ntimeout_s = -1").unwrap();
-        assert!(
-            ExternalSpec::from_table("sir", &t, Path::new("."), "site.toml")
-                .unwrap_err()
-                .contains("timeout_s")
-        );
+    fn wrong_types_name_the_table_and_key_where_they_are() {
+        let e = spec("sir", "[plugins.sir]\ncommand = \"x\"\nargs = \"y\"").unwrap_err();
+        assert!(e.starts_with("site.toml:3:1: [plugins.sir] `args`"), "{e}");
+    }
+
+    #[test]
+    fn a_time_limit_is_finite_positive_and_at_most_a_day() {
+        for bad in [
+            "-1", "0", "0.0", "1e300", "inf", "-inf", "nan", "86400.5", "\"30\"",
+        ] {
+            let e = spec(
+                "sir",
+                &format!("[plugins.sir]\ncommand = \"x\"\ntimeout_s = {bad}"),
+            )
+            .unwrap_err();
+            assert!(
+                e.starts_with("site.toml:3:1: [plugins.sir] `timeout_s`")
+                    && e.contains("at most 86400"),
+                "{bad}: {e}"
+            );
+        }
+        for (ok, s) in [("86400", 86400.0), ("0.5", 0.5), ("1", 1.0)] {
+            let t = spec(
+                "sir",
+                &format!("[plugins.sir]\ncommand = \"x\"\ntimeout_s = {ok}"),
+            )
+            .unwrap()
+            .unwrap();
+            assert_eq!(t.timeout_s, s);
+            // What the run does with it must not panic.
+            let _ = Duration::from_secs_f64(t.timeout_s);
+        }
     }
 
     #[test]
@@ -574,8 +645,64 @@ mod tests {
         )
         .unwrap();
         assert_eq!(ok[0].id, "x");
+        assert_eq!(ok[0].origin, Origin::Folder);
+        assert!(ok[0].allowed, "a plugin folder is the user's choice");
         let e =
             parse_declarations("p.toml", "[plugins.x]\ncommand = \n", Path::new(".")).unwrap_err();
         assert!(e.starts_with("p.toml:2:"), "{e}");
+    }
+
+    #[test]
+    fn a_site_command_is_allowed_only_with_consent_and_a_folder_one_always() {
+        let (site, file) = starter_with("[plugins.x]\ncommand = \"true\"\n[plugins.y]\nnote = 1\n");
+        let x_line = file
+            .text
+            .lines()
+            .position(|l| l == "command = \"true\"")
+            .unwrap()
+            + 1;
+        let folder = parse_declarations(
+            "p.toml",
+            "[plugins.y]\ncommand = \"true\"\n",
+            Path::new("."),
+        )
+        .unwrap();
+        for (consent, x_allowed) in [
+            (SiteCommands::Refused, false),
+            (SiteCommands::Allowed, true),
+        ] {
+            let specs = site_plugins(&site, Path::new("."), &file, &folder, consent).unwrap();
+            let x = specs.iter().find(|s| s.id == "x").unwrap();
+            assert_eq!((x.origin, x.allowed), (Origin::Site, x_allowed));
+            assert_eq!(x.declared_at, format!("site.toml:{x_line}:1"));
+            let y = specs.iter().find(|s| s.id == "y").unwrap();
+            assert_eq!((y.origin, y.allowed), (Origin::Folder, true));
+            assert_eq!(y.options["note"].as_integer(), Some(1));
+        }
+    }
+
+    #[test]
+    fn a_refused_command_is_a_check_error_at_its_key_or_a_warning_when_optional() {
+        let (site, _) = starter_with("");
+        let mut s = spec("x", "[plugins.x]\ncommand = \"true\"\n")
+            .unwrap()
+            .unwrap();
+        let surveys = SurveyData::default();
+        let empty = toml::Table::new();
+        let ctx = Context {
+            site: &site,
+            options: &empty,
+            earlier: &[],
+            surveys: &surveys,
+        };
+        let p = ExternalPlugin::new(s.clone()).check(&ctx);
+        assert_eq!(p.len(), 1);
+        assert_eq!(p[0].place, Place::Option("command".into()));
+        assert!(!p[0].warning);
+        assert!(p[0].message.contains(CONSENT_FLAG), "{}", p[0].message);
+        s.optional = true;
+        assert!(ExternalPlugin::new(s.clone()).check(&ctx)[0].warning);
+        s.allowed = true;
+        assert!(ExternalPlugin::new(s).check(&ctx).is_empty());
     }
 }

@@ -25,9 +25,24 @@ pub use assessment::*;
 pub use check::{InputProblem, Place};
 pub use verdict::*;
 
+/// Reads levels with `null` as NaN, straight into the `Vec<f32>` (no `Vec<Option<f32>>` of
+/// twice the size on the way).
 fn nan_from_null<'de, D: serde::Deserializer<'de>>(d: D) -> Result<Vec<f32>, D::Error> {
-    let v: Vec<Option<f32>> = Vec::deserialize(d)?;
-    Ok(v.into_iter().map(|x| x.unwrap_or(f32::NAN)).collect())
+    struct Levels;
+    impl<'de> serde::de::Visitor<'de> for Levels {
+        type Value = Vec<f32>;
+        fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+            f.write_str("an array of numbers or nulls")
+        }
+        fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut s: A) -> Result<Vec<f32>, A::Error> {
+            let mut v = Vec::with_capacity(s.size_hint().unwrap_or(0).min(1 << 16));
+            while let Some(x) = s.next_element::<Option<f32>>()? {
+                v.push(x.unwrap_or(f32::NAN));
+            }
+            Ok(v)
+        }
+    }
+    d.deserialize_seq(Levels)
 }
 
 /// What a plugin computes and on what authority.

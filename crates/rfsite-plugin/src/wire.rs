@@ -51,6 +51,12 @@ pub struct Response {
     pub output: PluginOutput,
 }
 
+/// Most JSON values (objects, arrays, strings, numbers, booleans, nulls, at any depth) a
+/// response's free-form `output.extra` may hold. `extra` is kept as a `serde_json::Value`
+/// tree, which costs up to ~100 bytes a value against ~8 bytes of JSON (small objects);
+/// 250 000 values keep it under ~30 MB whatever the answer size.
+pub const MAX_EXTRA_VALUES: u64 = 250_000;
+
 /// Why a response could not be accepted.
 #[derive(Debug, Clone, PartialEq)]
 pub enum WireError {
@@ -61,6 +67,8 @@ pub enum WireError {
         /// What it answered with.
         found: String,
     },
+    /// A part that is kept as a JSON tree is larger than rfsite keeps (the message).
+    TooBig(String),
 }
 
 impl std::fmt::Display for WireError {
@@ -73,6 +81,7 @@ impl std::fmt::Display for WireError {
                 f,
                 "answers in protocol `{found}`, but rfsite speaks `{PROTOCOL}`"
             ),
+            WireError::TooBig(m) => write!(f, "answer breaks `{PROTOCOL}`: {m}"),
         }
     }
 }
@@ -81,15 +90,18 @@ impl std::error::Error for WireError {}
 
 impl Response {
     /// Parses and checks a response: the protocol field first (so that a plugin written for
-    /// another version gets a version error rather than a shape error), then the output.
+    /// another version gets a version error rather than a shape error), then the size of
+    /// `output.extra`, then the output, straight into the output types. Two passes over
+    /// the bytes; the first builds nothing but the protocol string, the second no
+    /// intermediate JSON tree.
     pub fn parse(bytes: &[u8]) -> Result<Response, WireError> {
-        let v: serde_json::Value =
+        let probe: probe::Probe =
             serde_json::from_slice(bytes).map_err(|e| WireError::Malformed(e.to_string()))?;
-        let found = match v.get("protocol") {
-            Some(serde_json::Value::String(s)) => s.clone(),
-            Some(other) => {
+        let found = match probe.protocol {
+            Some(probe::Protocol::Text(s)) => s,
+            Some(probe::Protocol::Other(kind)) => {
                 return Err(WireError::Malformed(format!(
-                    "`protocol` must be a string, found {other}"
+                    "`protocol` must be a string, found {kind}"
                 )))
             }
             None => return Err(WireError::Malformed("no `protocol` field".into())),
@@ -97,7 +109,198 @@ impl Response {
         if found != PROTOCOL {
             return Err(WireError::Protocol { found });
         }
-        serde_json::from_value(v).map_err(|e| WireError::Malformed(e.to_string()))
+        if probe.extra_values > MAX_EXTRA_VALUES {
+            return Err(WireError::TooBig(format!(
+                "`output.extra` holds more than {MAX_EXTRA_VALUES} JSON values; put bulk data in layers or tables"
+            )));
+        }
+        serde_json::from_slice(bytes).map_err(|e| WireError::Malformed(e.to_string()))
+    }
+}
+
+/// The first pass of [`Response::parse`]: reads the protocol and counts the values of
+/// `output.extra` without building them; accepts any JSON object.
+mod probe {
+    use serde::de::{self, Deserializer, IgnoredAny, MapAccess, SeqAccess, Visitor};
+    use serde::Deserialize;
+
+    /// What the first pass found.
+    pub struct Probe {
+        pub protocol: Option<Protocol>,
+        pub extra_values: u64,
+    }
+
+    /// The `protocol` field: a string, or the kind of value found instead.
+    pub enum Protocol {
+        Text(String),
+        Other(&'static str),
+    }
+
+    impl<'de> Deserialize<'de> for Probe {
+        fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+            d.deserialize_map(TopVisitor)
+        }
+    }
+
+    struct TopVisitor;
+    impl<'de> Visitor<'de> for TopVisitor {
+        type Value = Probe;
+        fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+            f.write_str("a JSON object")
+        }
+        fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<Probe, A::Error> {
+            let mut p = Probe {
+                protocol: None,
+                extra_values: 0,
+            };
+            while let Some(k) = m.next_key::<std::borrow::Cow<'de, str>>()? {
+                match k.as_ref() {
+                    "protocol" => p.protocol = Some(m.next_value::<Protocol>()?),
+                    "output" => p.extra_values += m.next_value::<OutputProbe>()?.0,
+                    _ => {
+                        m.next_value::<IgnoredAny>()?;
+                    }
+                }
+            }
+            Ok(p)
+        }
+    }
+
+    impl<'de> Deserialize<'de> for Protocol {
+        fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+            d.deserialize_any(ProtocolVisitor)
+        }
+    }
+
+    struct ProtocolVisitor;
+    impl<'de> Visitor<'de> for ProtocolVisitor {
+        type Value = Protocol;
+        fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+            f.write_str("a string")
+        }
+        fn visit_str<E: de::Error>(self, v: &str) -> Result<Protocol, E> {
+            Ok(Protocol::Text(v.to_string()))
+        }
+        fn visit_bool<E: de::Error>(self, _: bool) -> Result<Protocol, E> {
+            Ok(Protocol::Other("a boolean"))
+        }
+        fn visit_i64<E: de::Error>(self, _: i64) -> Result<Protocol, E> {
+            Ok(Protocol::Other("a number"))
+        }
+        fn visit_u64<E: de::Error>(self, _: u64) -> Result<Protocol, E> {
+            Ok(Protocol::Other("a number"))
+        }
+        fn visit_f64<E: de::Error>(self, _: f64) -> Result<Protocol, E> {
+            Ok(Protocol::Other("a number"))
+        }
+        fn visit_unit<E: de::Error>(self) -> Result<Protocol, E> {
+            Ok(Protocol::Other("null"))
+        }
+        fn visit_seq<A: SeqAccess<'de>>(self, mut s: A) -> Result<Protocol, A::Error> {
+            while s.next_element::<IgnoredAny>()?.is_some() {}
+            Ok(Protocol::Other("an array"))
+        }
+        fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<Protocol, A::Error> {
+            while m.next_entry::<IgnoredAny, IgnoredAny>()?.is_some() {}
+            Ok(Protocol::Other("an object"))
+        }
+    }
+
+    /// `output`: the number of values under its `extra` key; anything else is skipped.
+    struct OutputProbe(u64);
+    impl<'de> Deserialize<'de> for OutputProbe {
+        fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+            d.deserialize_any(OutputVisitor)
+        }
+    }
+
+    struct OutputVisitor;
+    impl<'de> Visitor<'de> for OutputVisitor {
+        type Value = OutputProbe;
+        fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+            f.write_str("any JSON value")
+        }
+        fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<OutputProbe, A::Error> {
+            let mut n = 0;
+            while let Some(k) = m.next_key::<std::borrow::Cow<'de, str>>()? {
+                if k == "extra" {
+                    n += m.next_value::<Count>()?.0;
+                } else {
+                    m.next_value::<IgnoredAny>()?;
+                }
+            }
+            Ok(OutputProbe(n))
+        }
+        fn visit_seq<A: SeqAccess<'de>>(self, mut s: A) -> Result<OutputProbe, A::Error> {
+            while s.next_element::<IgnoredAny>()?.is_some() {}
+            Ok(OutputProbe(0))
+        }
+        fn visit_bool<E: de::Error>(self, _: bool) -> Result<OutputProbe, E> {
+            Ok(OutputProbe(0))
+        }
+        fn visit_i64<E: de::Error>(self, _: i64) -> Result<OutputProbe, E> {
+            Ok(OutputProbe(0))
+        }
+        fn visit_u64<E: de::Error>(self, _: u64) -> Result<OutputProbe, E> {
+            Ok(OutputProbe(0))
+        }
+        fn visit_f64<E: de::Error>(self, _: f64) -> Result<OutputProbe, E> {
+            Ok(OutputProbe(0))
+        }
+        fn visit_str<E: de::Error>(self, _: &str) -> Result<OutputProbe, E> {
+            Ok(OutputProbe(0))
+        }
+        fn visit_unit<E: de::Error>(self) -> Result<OutputProbe, E> {
+            Ok(OutputProbe(0))
+        }
+    }
+
+    /// The number of JSON values in one value, itself included; nothing is kept.
+    struct Count(u64);
+    impl<'de> Deserialize<'de> for Count {
+        fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+            d.deserialize_any(CountVisitor)
+        }
+    }
+
+    struct CountVisitor;
+    impl<'de> Visitor<'de> for CountVisitor {
+        type Value = Count;
+        fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+            f.write_str("any JSON value")
+        }
+        fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<Count, A::Error> {
+            let mut n = 1;
+            while m.next_key::<IgnoredAny>()?.is_some() {
+                n += m.next_value::<Count>()?.0;
+            }
+            Ok(Count(n))
+        }
+        fn visit_seq<A: SeqAccess<'de>>(self, mut s: A) -> Result<Count, A::Error> {
+            let mut n = 1;
+            while let Some(c) = s.next_element::<Count>()? {
+                n += c.0;
+            }
+            Ok(Count(n))
+        }
+        fn visit_bool<E: de::Error>(self, _: bool) -> Result<Count, E> {
+            Ok(Count(1))
+        }
+        fn visit_i64<E: de::Error>(self, _: i64) -> Result<Count, E> {
+            Ok(Count(1))
+        }
+        fn visit_u64<E: de::Error>(self, _: u64) -> Result<Count, E> {
+            Ok(Count(1))
+        }
+        fn visit_f64<E: de::Error>(self, _: f64) -> Result<Count, E> {
+            Ok(Count(1))
+        }
+        fn visit_str<E: de::Error>(self, _: &str) -> Result<Count, E> {
+            Ok(Count(1))
+        }
+        fn visit_unit<E: de::Error>(self) -> Result<Count, E> {
+            Ok(Count(1))
+        }
     }
 }
 
@@ -276,6 +479,49 @@ mod tests {
                 br#"{"protocol": "rfsite-plugin/1", "output": {"findings": [{"id": 1}]}}"#
             ),
             Err(WireError::Malformed(_))
+        ));
+    }
+
+    #[test]
+    fn a_non_string_protocol_is_named_by_kind() {
+        assert_eq!(
+            Response::parse(br#"{"protocol": {"v": [1, 2]}}"#),
+            Err(WireError::Malformed(
+                "`protocol` must be a string, found an object".into()
+            ))
+        );
+    }
+
+    #[test]
+    fn the_protocol_is_checked_before_the_shape_wherever_it_stands() {
+        assert_eq!(
+            Response::parse(
+                br#"{"output": {"layers": "new shape"}, "protocol": "rfsite-plugin/2"}"#
+            ),
+            Err(WireError::Protocol {
+                found: "rfsite-plugin/2".into()
+            })
+        );
+    }
+
+    #[test]
+    fn extra_is_counted_at_every_depth_and_refused_past_the_limit() {
+        let n = MAX_EXTRA_VALUES as usize; // `extra` and the array count 2 more
+        let body = vec!["0"; n - 2].join(",");
+        let ok = format!(
+            r#"{{"protocol": "rfsite-plugin/1", "output": {{"extra": {{"x": [{body}]}}}}}}"#
+        );
+        assert_eq!(
+            Response::parse(ok.as_bytes()).unwrap().output.extra["x"]
+                .as_array()
+                .unwrap()
+                .len(),
+            n - 2
+        );
+        let over = ok.replace("[0,", "[0,0,");
+        assert!(matches!(
+            Response::parse(over.as_bytes()),
+            Err(WireError::TooBig(m)) if m.contains("`output.extra`")
         ));
     }
 }
