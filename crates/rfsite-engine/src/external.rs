@@ -35,6 +35,13 @@ mod answer;
 mod child;
 
 pub use answer::MAX_LAYER_POINTS;
+
+/// An external plugin's answer read as `run` reads it: the protocol, the wire types and
+/// every layer checked against the site (for the fuzz harness and tests).
+pub fn read_answer(site: &Site, id: &str, bytes: &[u8]) -> Result<PluginOutput, String> {
+    let resp = wire::Response::parse(bytes).map_err(|e| e.to_string())?;
+    answer::check(site, id, resp.output)
+}
 pub use child::STDERR_LOG_BYTES;
 pub use wire::MAX_EXTRA_VALUES;
 

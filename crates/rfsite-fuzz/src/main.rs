@@ -9,6 +9,7 @@
 //! (`--memory-mb`), so an allocation failure aborts the run instead of going unseen; it
 //! prints the peak resident memory. Failing cases are saved under `--save DIR`.
 
+mod answer;
 mod mutate;
 
 use std::panic::{catch_unwind, AssertUnwindSafe};
@@ -21,20 +22,20 @@ use mutate::Rng;
 use rfsite_engine::{EngineError, Registry, World};
 use rfsite_model::MaterialLibrary;
 
-struct Opts {
-    cases: u64,
+pub(crate) struct Opts {
+    pub(crate) cases: u64,
     seed: u64,
     targets: Vec<String>,
     case_timeout_ms: u64,
     memory_mb: u64,
-    save: PathBuf,
+    pub(crate) save: PathBuf,
 }
 
 fn opts() -> Result<Opts, String> {
     let mut o = Opts {
         cases: 10_000,
         seed: 1,
-        targets: vec!["site".into(), "survey".into()],
+        targets: vec!["site".into(), "survey".into(), "answer".into()],
         case_timeout_ms: 10_000,
         memory_mb: 4096,
         save: PathBuf::from("target/fuzz-cases"),
@@ -52,9 +53,9 @@ fn opts() -> Result<Opts, String> {
             "--save" => o.save = PathBuf::from(val()?),
             "--target" => {
                 o.targets = match val()?.as_str() {
-                    "all" => vec!["site".into(), "survey".into()],
-                    t @ ("site" | "survey") => vec![t.into()],
-                    t => return Err(format!("unknown target `{t}` (site, survey, all)")),
+                    "all" => vec!["site".into(), "survey".into(), "answer".into()],
+                    t @ ("site" | "survey" | "answer") => vec![t.into()],
+                    t => return Err(format!("unknown target `{t}` (site, survey, answer, all)")),
                 }
             }
             _ => return Err(format!("unknown argument `{a}`")),
@@ -65,12 +66,12 @@ fn opts() -> Result<Opts, String> {
 
 /// What one case came to.
 #[derive(Default, Debug)]
-struct Tally {
+pub(crate) struct Tally {
     cases: u64,
-    loaded: u64,
-    rejected: u64,
-    unlocated: u64,
-    panics: u64,
+    pub(crate) loaded: u64,
+    pub(crate) rejected: u64,
+    pub(crate) unlocated: u64,
+    pub(crate) panics: u64,
 }
 
 fn main() {
@@ -102,12 +103,15 @@ fn main() {
 }
 
 /// A scratch copy of the demo clinic, where each case rewrites one input.
-fn scratch() -> tempdir::Scratch {
+pub(crate) fn scratch() -> tempdir::Scratch {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../examples/kestrel-quay-clinic");
     tempdir::Scratch::copy_of(&root)
 }
 
 fn run_target(target: &str, o: &Opts) -> Tally {
+    if target == "answer" {
+        return answer::run(o);
+    }
     let dir = scratch();
     let (file, seeds): (PathBuf, Vec<String>) = match target {
         "site" => (
@@ -205,7 +209,7 @@ fn located(d: &rfsite_model::Diagnostic) -> bool {
     !d.file.is_empty() && d.line >= 1 && d.column >= 1
 }
 
-fn save(o: &Opts, target: &str, kind: &str, i: u64, bytes: &[u8], why: &str) {
+pub(crate) fn save(o: &Opts, target: &str, kind: &str, i: u64, bytes: &[u8], why: &str) {
     let base = o.save.join(format!("{target}-{kind}-{i}"));
     let _ = std::fs::write(base.with_extension("case"), bytes);
     let _ = std::fs::write(base.with_extension("why"), why);
