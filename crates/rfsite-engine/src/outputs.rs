@@ -246,7 +246,7 @@ mod tests {
         std::fs::create_dir_all(&site).unwrap();
         std::fs::write(site.join("site.toml"), b"").unwrap();
         let input = site.join("site.toml").canonicalize().unwrap();
-        let e = write_all(&site, &files("one", &[]), &[input.clone()]).unwrap_err();
+        let e = write_all(&site, &files("one", &[]), std::slice::from_ref(&input)).unwrap_err();
         assert!(e.contains("would hold the input"), "{e}");
         let e = write_all(t.path(), &files("one", &[]), &[input]).unwrap_err();
         assert!(e.contains("would hold the input"), "{e}");
