@@ -1,0 +1,129 @@
+//! Hostile and broken site files: every one is refused at load with a located error and a
+//! hint, never a hang, a panic or an allocation failure.
+//!
+//! Outside references: TOML 1.0.0 ("Float": `inf` and `nan` are valid float values, so a
+//! parser hands them on and the loader must refuse them); Unicode 15.0 general category
+//! Cc (the control characters, `char::is_control`); XML 1.0 (Fifth Edition) §2.2 `Char`,
+//! which excludes U+FFFE and U+FFFF, so an SVG cannot carry them.
+
+use rfsite_model::{load, Diagnostic, Loaded, MaterialLibrary, SourceFile};
+
+/// A small valid site; `{extra}` is appended.
+const BASE: &str = r#"[site]
+id = "hostile"
+name = "Hostile input"
+units = "metres"
+report_date = "2026-01-15"
+
+[[floors]]
+id = "L1"
+elevation = 0.0
+height = 3.0
+outline = [[0, 0], [20, 0], [20, 10], [0, 10]]
+
+[[services]]
+id = "lte"
+freq_mhz = 1800.0
+threshold_dbm = -100.0
+
+[[transmitters]]
+id = "T1"
+service = "lte"
+floor = "L1"
+position = [5, 5]
+power_dbm = 10.0
+"#;
+
+fn load_text(text: &str) -> Loaded {
+    load(
+        &SourceFile::new("site.toml", text),
+        &MaterialLibrary::builtin(),
+    )
+}
+
+fn with(extra: &str) -> Loaded {
+    load_text(&format!("{BASE}\n{extra}\n"))
+}
+
+/// 1-based line of the first line of `text` containing `needle`.
+fn line_of(text: &str, needle: &str) -> usize {
+    text.lines()
+        .position(|l| l.contains(needle))
+        .unwrap_or_else(|| panic!("`{needle}` not in the text"))
+        + 1
+}
+
+/// The errors, as text.
+fn errors(l: &Loaded) -> Vec<&Diagnostic> {
+    l.diagnostics.items.iter().filter(|d| d.is_error()).collect()
+}
+
+/// The one error whose message contains `what`, with a hint.
+fn error_with<'a>(l: &'a Loaded, what: &str) -> &'a Diagnostic {
+    let found: Vec<&Diagnostic> = errors(l)
+        .into_iter()
+        .filter(|d| d.message.contains(what))
+        .collect();
+    assert!(
+        found.len() == 1,
+        "expected one error containing `{what}`, got {:#?}",
+        l.diagnostics.items
+    );
+    assert!(found[0].hint.is_some(), "no hint: {:#?}", found[0]);
+    assert!(l.site.is_none());
+    found[0]
+}
+
+#[test]
+fn base_site_loads() {
+    let l = with("");
+    assert!(errors(&l).is_empty(), "{:#?}", l.diagnostics.items);
+    assert!(l.site.is_some());
+}
+
+#[test]
+fn nan_probe_frequency_is_refused_at_its_place() {
+    // Used to loop in `MaterialLibrary::apply_probes` until memory ran out.
+    for bad in ["nan", "+nan", "-nan", "inf", "-inf"] {
+        let extra = format!(
+            "[[probes]]\nmaterial = \"concrete\"\nfreq_mhz = {bad}\nclear_dbm = -40.0\nthrough_dbm = -60.0\n"
+        );
+        let text = format!("{BASE}\n{extra}");
+        let l = load_text(&text);
+        let d = error_with(&l, "not a finite number");
+        assert_eq!(d.line, line_of(&text, "freq_mhz = "), "{bad}: {d:#?}");
+        assert_eq!(d.column, "freq_mhz = ".len() + 1, "{bad}");
+        assert!(d.message.contains("freq_mhz"), "{}", d.message);
+        assert_eq!(errors(&l).len(), 1, "{bad}: {:#?}", l.diagnostics.items);
+    }
+}
+
+#[test]
+fn every_number_of_the_site_file_must_be_finite() {
+    // One key of each kind: coordinates, lengths, levels, angles, fractions, tables,
+    // plugin options.
+    let cases: &[(&str, &str)] = &[
+        ("[site]", "north_deg = nan"),
+        ("[prediction]", "grid_step = inf"),
+        ("[prediction]", "shadowing_sigma_db = nan"),
+        ("[[floors]]\nid = \"L2\"\nheight = 3.0\nelevation = 3.0\noutline = [[0, 0], [20, 0], [20, 10], [0, 10]]", "slab_thickness = nan"),
+        ("[[floors]]\nid = \"L2\"\nheight = 3.0\noutline = [[0, 0], [20, 0], [20, 10], [0, 10]]", "elevation = -inf"),
+        ("[[walls]]\nfloor = \"L1\"\nmaterial = \"concrete\"\nthickness = 0.2", "points = [[0, 1], [nan, 1]]"),
+        ("[[services]]\nid = \"wifi\"\nfreq_mhz = 2400.0", "threshold_dbm = nan"),
+        ("[[services]]\nid = \"wifi\"\nfreq_mhz = 2400.0\nthreshold_dbm = -80.0", "target_general = nan"),
+        ("[[transmitters]]\nid = \"T2\"\nservice = \"lte\"\nfloor = \"L1\"\nposition = [6, 6]", "power_dbm = inf"),
+        ("[[transmitters]]\nid = \"T2\"\nservice = \"lte\"\nfloor = \"L1\"\nposition = [6, 6]\npower_dbm = 10.0\npattern = \"sector\"", "azimuth_deg = nan"),
+        ("[[donors]]\nid = \"D1\"\nservice = \"lte\"", "level_dbm = nan"),
+        ("[[materials]]\nid = \"m1\"", "loss_db = [[900, nan]]"),
+        ("[[materials]]\nid = \"m1\"", "permittivity = nan"),
+        ("[plugins.multi-wall]", "floor_b = nan"),
+    ];
+    for (table, line) in cases {
+        let text = format!("{BASE}\n{table}\n{line}\n");
+        let l = load_text(&text);
+        let d = error_with(&l, "not a finite number");
+        assert_eq!(d.line, line_of(&text, line), "{line}: {d:#?}");
+        let key = line.split(' ').next().unwrap();
+        assert!(d.message.contains(key), "{line}: {}", d.message);
+    }
+}
