@@ -23,10 +23,16 @@ struct V<'a> {
     file: &'a SourceFile,
     diags: Diagnostics,
     to_m: f64,
+    /// Byte offsets of values [`scan_values`] refused: later checks of the same value
+    /// would only repeat the problem, so their errors are dropped.
+    refused: BTreeSet<usize>,
 }
 
 impl<'a> V<'a> {
     fn error(&mut self, span: Range<usize>, msg: impl Into<String>, hint: Option<String>) {
+        if self.refused.contains(&span.start) {
+            return;
+        }
         self.diags
             .push(Diagnostic::at(Severity::Error, self.file, span, msg, hint));
     }
@@ -94,7 +100,11 @@ impl<'a> V<'a> {
     }
     fn point(&mut self, p: &S<RawPoint>) -> Option<Point2> {
         let v = p.get_ref();
-        if v.len() != 2 || v.iter().any(|x| !x.is_finite()) {
+        if v.iter().any(|x| !x.is_finite()) {
+            // Refused by `scan_values`, located at the number itself.
+            return None;
+        }
+        if v.len() != 2 {
             self.error(
                 p.span(),
                 format!("a point is `[x, y]`; this one has {} numbers", v.len()),
@@ -152,6 +162,7 @@ pub fn load(file: &SourceFile, library: &MaterialLibrary) -> Loaded {
         file,
         diags: Diagnostics::default(),
         to_m: 1.0,
+        refused: BTreeSet::new(),
     };
     let site = load_inner(&mut v, library);
     let diagnostics = v.diags.sorted();
@@ -188,6 +199,7 @@ fn parse_raw(v: &mut V<'_>) -> Option<RawProject> {
     });
     match raw {
         Ok(r) => {
+            scan_values(v);
             report_unknown_keys(v, &unknown);
             Some(r)
         }
@@ -196,6 +208,82 @@ fn parse_raw(v: &mut V<'_>) -> Option<RawProject> {
             None
         }
     }
+}
+
+/// Whether a character may not stand in the site file's text: the Unicode control
+/// characters (general category Cc, line breaks and tabs included) and U+FFFE, U+FFFF,
+/// which XML 1.0 §2.2 `Char` excludes, so an SVG figure cannot carry them.
+fn forbidden_char(c: char) -> bool {
+    c.is_control() || c == '\u{FFFE}' || c == '\u{FFFF}'
+}
+
+/// Every value of the file, before any is interpreted: a number must be finite (TOML
+/// allows `nan` and `inf`; no coordinate, length, level or option of rfsite can be one)
+/// and no key or string may hold a [`forbidden_char`]. Plugin tables included.
+fn scan_values(v: &mut V<'_>) {
+    let Ok(doc) = toml::de::DeTable::parse(&v.file.text) else {
+        return;
+    };
+    let mut path = Vec::new();
+    scan_table(v, doc.get_ref(), &mut path);
+}
+
+fn scan_table(v: &mut V<'_>, t: &toml::de::DeTable<'_>, path: &mut Vec<String>) {
+    for (k, val) in t.iter() {
+        let key = k.get_ref().as_ref();
+        path.push(key.to_string());
+        if let Some(c) = key.chars().find(|c| forbidden_char(*c)) {
+            refuse_char(v, k.span(), &format!("the key `{}`", key.escape_debug()), c);
+        }
+        scan_value(v, val, path);
+        path.pop();
+    }
+}
+
+fn scan_value(v: &mut V<'_>, val: &toml::Spanned<toml::de::DeValue<'_>>, path: &mut Vec<String>) {
+    use toml::de::DeValue;
+    let name = || format!("`{}`", path.join("."));
+    match val.get_ref() {
+        DeValue::Float(f) => {
+            let text = f.as_str();
+            let finite = !text.contains("nan")
+                && !text.contains("inf")
+                && text
+                    .replace('_', "")
+                    .parse::<f64>()
+                    .is_ok_and(f64::is_finite);
+            if !finite {
+                let span = val.span();
+                v.error(
+                    span.clone(),
+                    format!("{} is not a finite number (`{text}`)", name()),
+                    Some("write a number: `nan` and `inf` are TOML floats, but no coordinate, length, level or option can be one".into()),
+                );
+                v.refused.insert(span.start);
+            }
+        }
+        DeValue::String(s) => {
+            if let Some(c) = s.chars().find(|c| forbidden_char(*c)) {
+                refuse_char(v, val.span(), &name(), c);
+            }
+        }
+        DeValue::Array(a) => {
+            for x in a.iter() {
+                scan_value(v, x, path);
+            }
+        }
+        DeValue::Table(t) => scan_table(v, t, path),
+        DeValue::Integer(_) | DeValue::Boolean(_) | DeValue::Datetime(_) => {}
+    }
+}
+
+fn refuse_char(v: &mut V<'_>, span: Range<usize>, what: &str, c: char) {
+    v.error(
+        span.clone(),
+        format!("{what} contains the control character U+{:04X}", c as u32),
+        Some("remove it (write a line break or a tab as a space): names and text are printed in the PDF and its SVG figures, which cannot carry control characters".into()),
+    );
+    v.refused.insert(span.start);
 }
 
 /// Storeys that leave a gap or overlap (elevation + height against the next elevation)

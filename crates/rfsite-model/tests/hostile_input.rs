@@ -53,9 +53,24 @@ fn line_of(text: &str, needle: &str) -> usize {
         + 1
 }
 
+/// The base site with `line` added to `table`: below its header when the base has that
+/// table, else as a new table at the end.
+fn in_table(table: &str, line: &str) -> String {
+    let header = format!("{table}\n");
+    if BASE.starts_with(&header) || BASE.contains(&format!("\n{header}")) {
+        BASE.replacen(&header, &format!("{header}{line}\n"), 1)
+    } else {
+        format!("{BASE}\n{table}\n{line}\n")
+    }
+}
+
 /// The errors, as text.
 fn errors(l: &Loaded) -> Vec<&Diagnostic> {
-    l.diagnostics.items.iter().filter(|d| d.is_error()).collect()
+    l.diagnostics
+        .items
+        .iter()
+        .filter(|d| d.is_error())
+        .collect()
 }
 
 /// The one error whose message contains `what`, with a hint.
@@ -91,7 +106,11 @@ fn nan_probe_frequency_is_refused_at_its_place() {
         let text = format!("{BASE}\n{extra}");
         let l = load_text(&text);
         let d = error_with(&l, "not a finite number");
-        assert_eq!(d.line, line_of(&text, "freq_mhz = "), "{bad}: {d:#?}");
+        assert_eq!(
+            d.line,
+            line_of(&text, &format!("freq_mhz = {bad}")),
+            "{bad}: {d:#?}"
+        );
         assert_eq!(d.column, "freq_mhz = ".len() + 1, "{bad}");
         assert!(d.message.contains("freq_mhz"), "{}", d.message);
         assert_eq!(errors(&l).len(), 1, "{bad}: {:#?}", l.diagnostics.items);
@@ -119,7 +138,7 @@ fn every_number_of_the_site_file_must_be_finite() {
         ("[plugins.multi-wall]", "floor_b = nan"),
     ];
     for (table, line) in cases {
-        let text = format!("{BASE}\n{table}\n{line}\n");
+        let text = in_table(table, line);
         let l = load_text(&text);
         let d = error_with(&l, "not a finite number");
         assert_eq!(d.line, line_of(&text, line), "{line}: {d:#?}");
