@@ -337,6 +337,146 @@ fn storey_warnings(v: &mut V<'_>, raw: &[S<RawFloor>], floors: &[Floor]) {
     }
 }
 
+/// Levels in dBm outside this span are no radio level (+100 dBm is 10 MW); kept well
+/// inside the range where a power sum in milliwatts stays finite.
+pub const LEVEL_RANGE_DBM: (f64, f64) = (-300.0, 100.0);
+/// Gains, losses and margins in dB outside this span are a typing error.
+pub const GAIN_RANGE_DB: (f64, f64) = (-100.0, 100.0);
+
+/// The numbers the loader otherwise takes as written, each within a plausible range: a
+/// level, gain or angle beyond it is a typing or unit error, and some would stall a
+/// calculation (an azimuth of 1e300 degrees never normalises to ±180).
+fn plausible_numbers(v: &mut V<'_>, raw: &RawProject) {
+    let angle = |hint: &'static str| (hint, "degrees");
+    let mut within = |v: &mut V<'_>,
+                      x: &Option<S<f64>>,
+                      field: &str,
+                      (lo, hi): (f64, f64),
+                      (hint, unit): (&str, &str)| {
+        let Some(x) = x else { return };
+        let val = *x.get_ref();
+        if val.is_finite() && !(lo..=hi).contains(&val) {
+            v.error(
+                x.span(),
+                format!("`{field}` {val} is outside {lo} to {hi} {unit}"),
+                Some(hint.to_string()),
+            );
+        }
+    };
+    let level = |hint: &'static str| (hint, "dBm");
+    let db = |hint: &'static str| (hint, "dB");
+    if let Some(m) = &raw.site {
+        let m = m.get_ref();
+        within(
+            v,
+            &m.north_deg,
+            "north_deg",
+            (-360.0, 360.0),
+            angle("the plan direction of true north, degrees counter-clockwise from +x"),
+        );
+    }
+    for s in &raw.services {
+        let s = s.get_ref();
+        within(
+            v,
+            &s.threshold_dbm,
+            "threshold_dbm",
+            LEVEL_RANGE_DBM,
+            level("the required level in dBm, e.g. `threshold_dbm = -95.0`"),
+        );
+        within(
+            v,
+            &s.design_margin_db,
+            "design_margin_db",
+            GAIN_RANGE_DB,
+            db("the margin above the threshold in dB, e.g. `design_margin_db = 5.0`"),
+        );
+    }
+    for t in &raw.transmitters {
+        let t = t.get_ref();
+        within(
+            v,
+            &t.power_dbm,
+            "power_dbm",
+            LEVEL_RANGE_DBM,
+            level("the conducted power in dBm: 1 W is 30 dBm"),
+        );
+        within(
+            v,
+            &t.antenna_gain_dbi,
+            "antenna_gain_dbi",
+            GAIN_RANGE_DB,
+            db("the antenna gain in dBi from its data sheet"),
+        );
+        for (x, f) in [
+            (&t.cable_loss_db, "cable_loss_db"),
+            (&t.connector_loss_db, "connector_loss_db"),
+        ] {
+            within(
+                v,
+                x,
+                f,
+                (f64::NEG_INFINITY, GAIN_RANGE_DB.1),
+                db("the loss in dB"),
+            );
+        }
+        within(
+            v,
+            &t.azimuth_deg,
+            "azimuth_deg",
+            (-360.0, 360.0),
+            angle("the plan direction of boresight, degrees counter-clockwise from +x"),
+        );
+        within(
+            v,
+            &t.downtilt_deg,
+            "downtilt_deg",
+            (-90.0, 90.0),
+            angle("the tilt below the horizon in degrees"),
+        );
+    }
+    for d in &raw.donors {
+        within(
+            v,
+            &d.get_ref().level_dbm,
+            "level_dbm",
+            LEVEL_RANGE_DBM,
+            level("the level outside the facade in dBm, e.g. `level_dbm = -70.0`"),
+        );
+    }
+    for p in &raw.probes {
+        let p = p.get_ref();
+        within(
+            v,
+            &p.freq_mhz,
+            "freq_mhz",
+            (1.0, 100_000.0),
+            ("`freq_mhz` is in MHz: 2.4 GHz is 2400", "MHz"),
+        );
+        within(
+            v,
+            &p.clear_dbm,
+            "clear_dbm",
+            LEVEL_RANGE_DBM,
+            level("the level with a clear path, dBm"),
+        );
+        within(
+            v,
+            &p.through_dbm,
+            "through_dbm",
+            LEVEL_RANGE_DBM,
+            level("the level through the material, dBm"),
+        );
+        within(
+            v,
+            &p.angle_deg,
+            "angle_deg",
+            (0.0, 90.0),
+            angle("the incidence angle from the wall's normal, 0 to 90 degrees"),
+        );
+    }
+}
+
 /// A donor's elevation must lie in −90…90° (ITU-R P.2109 takes no other) and its plan
 /// direction in 0…360°.
 fn donor_angles(v: &mut V<'_>, d: &RawDonor, what: &str) {
@@ -474,6 +614,7 @@ fn find_key<'t, 'i>(
 
 fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let raw = parse_raw(v)?;
+    plausible_numbers(v, &raw);
     let whole = 0..1;
 
     // ---- [site] and units first: every length depends on them.

@@ -146,3 +146,26 @@ fn every_number_of_the_site_file_must_be_finite() {
         assert!(d.message.contains(key), "{line}: {}", d.message);
     }
 }
+
+#[test]
+fn numbers_taken_as_written_must_be_plausible() {
+    // An azimuth of 1e300 degrees never normalises to +-180 (1e300 + 360 == 1e300), so
+    // the prediction stalled; the others are unit or typing errors. The ranges are the
+    // loader's own (README "Limits"), not a published table.
+    let cases: &[(&str, &str, &str)] = &[
+        ("[[transmitters]]\nid = \"T2\"\nservice = \"lte\"\nfloor = \"L1\"\nposition = [6, 6]\npower_dbm = 10.0\npattern = \"sector\"", "azimuth_deg = 1e300", "azimuth_deg"),
+        ("[[transmitters]]\nid = \"T2\"\nservice = \"lte\"\nfloor = \"L1\"\nposition = [6, 6]\npower_dbm = 10.0\npattern = \"sector\"", "downtilt_deg = 95", "downtilt_deg"),
+        ("[[transmitters]]\nid = \"T2\"\nservice = \"lte\"\nfloor = \"L1\"\nposition = [6, 6]", "power_dbm = 1e300", "power_dbm"),
+        ("[site]", "north_deg = 1e9", "north_deg"),
+        ("[[services]]\nid = \"wifi\"\nfreq_mhz = 2400.0", "threshold_dbm = -1e6", "threshold_dbm"),
+        ("[[probes]]\nmaterial = \"concrete\"\nclear_dbm = -40.0\nthrough_dbm = -60.0", "freq_mhz = 0.0", "freq_mhz"),
+        ("[[probes]]\nmaterial = \"concrete\"\nfreq_mhz = 900.0\nclear_dbm = -40.0\nthrough_dbm = -60.0", "angle_deg = 120", "angle_deg"),
+    ];
+    for (table, line, key) in cases {
+        let text = in_table(table, line);
+        let l = load_text(&text);
+        let d = error_with(&l, "is outside");
+        assert_eq!(d.line, line_of(&text, line), "{line}: {d:#?}");
+        assert!(d.message.contains(key), "{line}: {}", d.message);
+    }
+}
