@@ -144,15 +144,60 @@ impl<'a> V<'a> {
         }
         Some(x)
     }
+    /// An id of the `what` kind: [`id_is_valid`], and not used before by another of its
+    /// kind, letter case aside (ids name figure files, and file systems may ignore case).
     fn unique(&mut self, seen: &mut BTreeSet<String>, id: &S<String>, what: &str) {
-        if !seen.insert(id.get_ref().clone()) {
+        self.id_chars(
+            id,
+            what,
+            "ids name figures and findings; e.g. `id = \"L2-east\"`",
+        );
+        let exact = id.get_ref();
+        if !seen.insert(exact.clone()) {
             self.error(
                 id.span(),
-                format!("{what} id `{}` is used twice", id.get_ref()),
+                format!("{what} id `{}` is used twice", shown(exact)),
                 Some("give each one its own id".into()),
+            );
+        } else if !seen.insert(format!("\0{}", exact.to_ascii_lowercase())) {
+            self.error(
+                id.span(),
+                format!("{what} id `{}` differs from another {what} id only in letter case", shown(exact)),
+                Some("give each one its own id: ids name figure files, and some file systems ignore case".into()),
             );
         }
     }
+    fn id_chars(&mut self, id: &S<String>, what: &str, hint: &str) {
+        if !id_is_valid(id.get_ref()) {
+            self.error(
+                id.span(),
+                format!(
+                    "{what} id `{}` must be 1 to {MAX_ID_CHARS} letters, digits, `-` or `_`",
+                    shown(id.get_ref())
+                ),
+                Some(hint.to_string()),
+            );
+        }
+    }
+}
+
+/// Longest id, in characters.
+pub const MAX_ID_CHARS: usize = 64;
+
+/// Whether `id` is a valid id: 1 to [`MAX_ID_CHARS`] ASCII letters, digits, `-` or `_`.
+pub fn id_is_valid(id: &str) -> bool {
+    !id.is_empty()
+        && id.len() <= MAX_ID_CHARS
+        && id
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+}
+
+/// A user's text for a message: escaped, and cut after 40 characters.
+fn shown(s: &str) -> String {
+    let t: String = s.chars().take(40).collect();
+    let more = if s.chars().count() > 40 { "..." } else { "" };
+    format!("{}{more}", t.escape_debug())
 }
 
 /// Parses and validates a site file. `library` holds the materials known before the site's
@@ -589,7 +634,7 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
             format!(
                 "unknown key `{}` is ignored",
                 path.iter()
-                    .map(|s| s.as_str())
+                    .map(|s| shown(s))
                     .collect::<Vec<_>>()
                     .join(".")
             ),
@@ -664,18 +709,11 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         .cloned()
         .unwrap_or_default();
     if let Some(idv) = &m.id {
-        if idv.get_ref().is_empty()
-            || !idv
-                .get_ref()
-                .chars()
-                .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
-        {
-            v.error(
-                idv.span(),
-                "the site id must be letters, digits, `-` or `_`",
-                Some("it names output folders; e.g. `id = \"north-depot\"`".into()),
-            );
-        }
+        v.id_chars(
+            idv,
+            "the site",
+            "it names output folders; e.g. `id = \"north-depot\"`",
+        );
     }
     let name = v
         .req(
@@ -1113,7 +1151,15 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             }
         };
 
-    // ---- openings grouped by wall id
+    // ---- openings grouped by wall id (opening and donor ids are optional)
+    let mut seen = BTreeSet::new();
+    for i in raw.openings.iter().filter_map(|o| o.get_ref().id.as_ref()) {
+        v.unique(&mut seen, i, "opening");
+    }
+    let mut seen = BTreeSet::new();
+    for i in raw.donors.iter().filter_map(|d| d.get_ref().id.as_ref()) {
+        v.unique(&mut seen, i, "donor");
+    }
     let mut openings: BTreeMap<String, Vec<&S<RawOpening>>> = BTreeMap::new();
     for o in &raw.openings {
         match &o.get_ref().wall {

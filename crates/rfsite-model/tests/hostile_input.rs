@@ -169,3 +169,79 @@ fn numbers_taken_as_written_must_be_plausible() {
         assert!(d.message.contains(key), "{line}: {}", d.message);
     }
 }
+
+#[test]
+fn control_characters_are_refused_in_every_string_and_key() {
+    // Unicode Cc (BEL, ESC, NUL escaped in TOML, DEL, a C1 control, and line breaks and
+    // tabs too) and the XML 1.0 non-characters U+FFFE / U+FFFF: each used to pass
+    // `check` and then break the SVG figures.
+    let cases: &[(&str, &str)] = &[
+        ("[site]", r#"client = "Bell\u0007 & Co""#),
+        ("[site]", "address = \"Two\\nlines\""),
+        ("[site]", "author = \"tab\\there\""),
+        ("[site]", r#"reviewer = "nul\u0000""#),
+        ("[site]", r#"revision = "del\u007F""#),
+        ("[[floors]]\nid = \"L2\"\nelevation = 3.0\nheight = 3.0\noutline = [[0, 0], [20, 0], [20, 10], [0, 10]]", r#"name = "Level\u001B[31m 2""#),
+        ("[[zones]]\nid = \"Z1\"\nfloor = \"L1\"\npolygon = [[1, 1], [4, 1], [4, 4]]", r#"name = "stair\u0085""#),
+        ("[[services]]\nid = \"wifi\"\nfreq_mhz = 2400.0\nthreshold_dbm = -80.0", r#"name = "Wi\uFFFFFi""#),
+        ("[[revisions]]\nrevision = \"A\"", r#"note = "first\rissue""#),
+        ("[plugins.interference-demo]", r#"label = "x\u0008""#),
+        ("[[surveys]]\nfloor = \"L1\"", r#"file = "survey\u0000.csv""#),
+    ];
+    for (table, line) in cases {
+        let text = in_table(table, line);
+        let l = load_text(&text);
+        let d = error_with(&l, "control character");
+        assert_eq!(d.line, line_of(&text, line), "{line}: {d:#?}");
+        let key = line.split(' ').next().unwrap();
+        assert!(d.message.contains(key), "{line}: {}", d.message);
+    }
+    // The site name itself, and a key.
+    let text = BASE.replace(r#"name = "Hostile input""#, r#"name = "Hostile\u0007""#);
+    let l = load_text(&text);
+    assert_eq!(error_with(&l, "control character").line, 3);
+    let text = in_table("[site]", "\"odd\\u0007key\" = 1");
+    let l = load_text(&text);
+    assert!(error_with(&l, "control character").message.contains("key"));
+}
+
+#[test]
+fn every_id_is_letters_digits_dash_or_underscore() {
+    let cases: &[(&str, &str, &str)] = &[
+        ("[[floors]]\nelevation = 3.0\nheight = 3.0\noutline = [[0, 0], [20, 0], [20, 10], [0, 10]]", r#"id = "a/b""#, "floor id"),
+        ("[[walls]]\nfloor = \"L1\"\nmaterial = \"concrete\"\nthickness = 0.2\npoints = [[0, 1], [5, 1]]", r#"id = "W 1""#, "wall id"),
+        ("[[zones]]\nfloor = \"L1\"\npolygon = [[1, 1], [4, 1], [4, 4]]", r#"id = "zone.1""#, "zone id"),
+        ("[[services]]\nfreq_mhz = 2400.0\nthreshold_dbm = -80.0", r#"id = "wi-fi:5""#, "service id"),
+        ("[[transmitters]]\nservice = \"lte\"\nfloor = \"L1\"\nposition = [6, 6]\npower_dbm = 10.0", r#"id = "T#2""#, "transmitter id"),
+        ("[[donors]]\nservice = \"lte\"\nlevel_dbm = -70.0", r#"id = "D1/north""#, "donor id"),
+        ("[[materials]]\nitu = \"concrete\"", r#"id = "my concrete""#, "material id"),
+        ("[[materials]]\nitu = \"concrete\"", r#"id = """#, "material id"),
+        ("[[services]]\nfreq_mhz = 2400.0\nthreshold_dbm = -80.0", &format!("id = \"{}\"", "s".repeat(65)), "service id"),
+        ("[[zones]]\nfloor = \"L1\"\npolygon = [[1, 1], [4, 1], [4, 4]]", r#"id = "zone-ü""#, "zone id"),
+    ];
+    for (table, line, what) in cases {
+        let text = in_table(table, line);
+        let l = load_text(&text);
+        let d = error_with(&l, "letters, digits");
+        assert_eq!(d.line, line_of(&text, line), "{line}: {d:#?}");
+        assert!(d.message.contains(what), "{line}: {}", d.message);
+    }
+    // Hyphens, underscores and both letter cases stay valid.
+    let l = with(
+        "[[zones]]\nid = \"Stair_1-north\"\nfloor = \"L1\"\npolygon = [[1, 1], [4, 1], [4, 4]]",
+    );
+    assert!(errors(&l).is_empty(), "{:#?}", l.diagnostics.items);
+}
+
+#[test]
+fn ids_differing_only_in_case_are_refused() {
+    let text = in_table(
+        "[[floors]]\nelevation = 3.0\nheight = 3.0\noutline = [[0, 0], [20, 0], [20, 10], [0, 10]]",
+        r#"id = "l1""#,
+    );
+    let l = load_text(&text);
+    let d = error_with(&l, "only in letter case");
+    assert_eq!(d.line, line_of(&text, r#"id = "l1""#));
+    let l = with("[[openings]]\nid = \"O1\"\nwall = \"W1\"\nmaterial = \"wooden-door\"\noffset = 1.0\nwidth = 1.0\n[[openings]]\nid = \"O1\"\nwall = \"W1\"\nmaterial = \"wooden-door\"\noffset = 3.0\nwidth = 1.0\n[[walls]]\nid = \"W1\"\nfloor = \"L1\"\nmaterial = \"concrete\"\nthickness = 0.2\npoints = [[0, 1], [8, 1]]");
+    error_with(&l, "opening id `O1` is used twice");
+}
