@@ -31,6 +31,7 @@
 
 pub mod diag;
 pub mod keys;
+pub mod limits;
 pub mod locate;
 pub mod material;
 #[allow(missing_docs)]

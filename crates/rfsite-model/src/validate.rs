@@ -6,6 +6,7 @@ use std::ops::Range;
 use rfsite_geometry::{Point2, Segment};
 
 use crate::diag::{unknown_name_hint, Diagnostic, Diagnostics, Severity, SourceFile};
+use crate::limits::*;
 use crate::material::{Material, MaterialClass, MaterialLibrary, MaterialModel};
 use crate::raw::*;
 use crate::site::*;
@@ -88,7 +89,7 @@ impl<'a> V<'a> {
             );
             return None;
         }
-        Some(x * self.to_m)
+        self.within_extent(v.span(), x, &format!("`{field}`"))
     }
     fn coord(&mut self, v: &S<f64>) -> Option<f64> {
         let x = *v.get_ref();
@@ -96,7 +97,24 @@ impl<'a> V<'a> {
             self.error(v.span(), "coordinate is not a finite number", None);
             return None;
         }
-        Some(x * self.to_m)
+        self.within_extent(v.span(), x, "this coordinate")
+    }
+    /// `x` site units in metres, if within [`MAX_COORD_M`] either side of 0.
+    fn within_extent(&mut self, span: Range<usize>, x: f64, what: &str) -> Option<f64> {
+        let m = x * self.to_m;
+        if m.abs() <= MAX_COORD_M {
+            return Some(m);
+        }
+        self.error(
+            span,
+            format!(
+                "{what} ({}) lies beyond {} km of the origin",
+                number(x),
+                MAX_COORD_M / 1000.0
+            ),
+            Some("draw the building from a local origin, in the units set by `site.units`: coordinates, elevations and lengths are at most 100 km either side of 0".into()),
+        );
+        None
     }
     fn point(&mut self, p: &S<RawPoint>) -> Option<Point2> {
         let v = p.get_ref();
@@ -112,9 +130,30 @@ impl<'a> V<'a> {
             );
             return None;
         }
+        if let Some(far) = v
+            .iter()
+            .copied()
+            .find(|x| (x * self.to_m).abs() > MAX_COORD_M)
+        {
+            return self
+                .within_extent(p.span(), far, "a coordinate of this point")
+                .and(None);
+        }
         Some(Point2::new(v[0] * self.to_m, v[1] * self.to_m))
     }
     fn points(&mut self, ps: &S<Vec<S<RawPoint>>>) -> Option<Vec<Point2>> {
+        if ps.get_ref().len() > MAX_POLYLINE_POINTS {
+            self.error(
+                ps.span(),
+                format!(
+                    "this list has {} points; at most {} are taken",
+                    thousands(ps.get_ref().len() as u64),
+                    thousands(MAX_POLYLINE_POINTS as u64)
+                ),
+                Some("split the wall or zone into several, or simplify the outline".into()),
+            );
+            return None;
+        }
         let mut out = Vec::new();
         let mut ok = true;
         for p in ps.get_ref() {
@@ -191,6 +230,15 @@ pub fn id_is_valid(id: &str) -> bool {
         && id
             .chars()
             .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+}
+
+/// A number for a message: in exponent form when very large or small.
+fn number(x: f64) -> String {
+    if x != 0.0 && (x.abs() >= 1e9 || x.abs() < 1e-6) {
+        format!("{x:e}")
+    } else {
+        format!("{x}")
+    }
 }
 
 /// A user's text for a message: escaped, and cut after 40 characters.
@@ -393,11 +441,11 @@ pub const GAIN_RANGE_DB: (f64, f64) = (-100.0, 100.0);
 /// calculation (an azimuth of 1e300 degrees never normalises to ±180).
 fn plausible_numbers(v: &mut V<'_>, raw: &RawProject) {
     let angle = |hint: &'static str| (hint, "degrees");
-    let mut within = |v: &mut V<'_>,
-                      x: &Option<S<f64>>,
-                      field: &str,
-                      (lo, hi): (f64, f64),
-                      (hint, unit): (&str, &str)| {
+    let within = |v: &mut V<'_>,
+                  x: &Option<S<f64>>,
+                  field: &str,
+                  (lo, hi): (f64, f64),
+                  (hint, unit): (&str, &str)| {
         let Some(x) = x else { return };
         let val = *x.get_ref();
         if val.is_finite() && !(lo..=hi).contains(&val) {
@@ -522,6 +570,293 @@ fn plausible_numbers(v: &mut V<'_>, raw: &RawProject) {
     }
 }
 
+/// Each table's number of entries within its documented maximum
+/// ([`crate::limits`]); the first entry beyond it is named.
+fn count_limits(v: &mut V<'_>, raw: &RawProject) {
+    fn over<T>(v: &mut V<'_>, items: &[S<T>], max: usize, table: &str) {
+        if let Some(first) = items.get(max) {
+            v.error(
+                first.span(),
+                format!(
+                    "the site has {} `[[{table}]]` entries; at most {} are taken",
+                    thousands(items.len() as u64),
+                    thousands(max as u64)
+                ),
+                Some(
+                    "split the site into several site projects (`rfsite portfolio` runs them all)"
+                        .into(),
+                ),
+            );
+        }
+    }
+    over(v, &raw.floors, MAX_FLOORS, "floors");
+    over(v, &raw.walls, MAX_WALLS, "walls");
+    over(v, &raw.openings, MAX_OPENINGS, "openings");
+    over(v, &raw.zones, MAX_ZONES, "zones");
+    over(v, &raw.services, MAX_SERVICES, "services");
+    over(v, &raw.transmitters, MAX_TRANSMITTERS, "transmitters");
+    over(v, &raw.donors, MAX_DONORS, "donors");
+    over(v, &raw.materials, MAX_MATERIALS, "materials");
+    over(v, &raw.surveys, MAX_SURVEYS, "surveys");
+    over(v, &raw.probes, MAX_PROBES, "probes");
+    over(v, &raw.revisions, MAX_REVISIONS, "revisions");
+}
+
+/// Where a grid problem is shown: the `grid_step` key, else `[prediction]`, else `at`.
+fn step_span(raw: &RawProject, at: Range<usize>) -> Range<usize> {
+    let p = raw.prediction.as_ref();
+    p.and_then(|p| p.get_ref().grid_step.as_ref().map(|g| g.span()))
+        .or(p.map(|p| p.span()))
+        .unwrap_or(at)
+}
+
+/// The prediction grid's size, counted as [`Site::floor_grid`] builds it, within
+/// [`crate::limits`]: points per floor (at most and at least), in all, and
+/// point–transmitter pairs per floor and per service. Each problem names the step that
+/// would fit; a limit whose step is no larger than one already named is not repeated
+/// (that step fits it too).
+fn grid_limits(
+    v: &mut V<'_>,
+    raw: &RawProject,
+    p: &Prediction,
+    units: Units,
+    floors: &[Floor],
+    transmitters: &[Transmitter],
+) {
+    let floors: Vec<(&Floor, Range<usize>)> = floors
+        .iter()
+        .filter(|f| f.outline.len() >= 3 && rfsite_geometry::polygon_area(&f.outline) > 0.0)
+        .filter_map(|f| Some((f, outline_span(raw, &f.id)?)))
+        .collect();
+    let Some(first) = floors.first().map(|(_, s)| s.clone()) else {
+        return;
+    };
+    let mut g = GridCheck {
+        step: p.grid_step_m,
+        units,
+        named: 0.0,
+    };
+    for (f, span) in &floors {
+        let n = grid_points(&f.outline, g.step);
+        if n > MAX_POINTS_PER_FLOOR {
+            let (lo, hi) = rfsite_geometry::polygon_bbox(&f.outline);
+            let what = format!(
+                "floor `{}` would have {} prediction points at {} (its outline's bounding box is {} × {}); at most {} per floor",
+                f.id,
+                thousands(n),
+                g.step_text(),
+                g.m(hi.x - lo.x),
+                g.m(hi.y - lo.y),
+                thousands(MAX_POINTS_PER_FLOOR)
+            );
+            let fit = |s: f64| grid_points(&f.outline, s);
+            g.over(
+                v,
+                span.clone(),
+                what,
+                MAX_POINTS_PER_FLOOR,
+                fit,
+                "raise `[prediction] grid_step`, or split the floor into several site projects",
+            );
+        } else {
+            let at = if raw_step_given(raw) {
+                step_span(raw, first.clone())
+            } else {
+                span.clone()
+            };
+            too_few_points(v, f, g.step, units, at);
+        }
+    }
+    let total = |s: f64| -> u64 {
+        floors
+            .iter()
+            .map(|(f, _)| grid_points(&f.outline, s))
+            .fold(0u64, u64::saturating_add)
+    };
+    let n = total(g.step);
+    if n > MAX_POINTS {
+        let what = format!(
+            "the {} floors would have {} prediction points at {}; at most {} in all",
+            floors.len(),
+            thousands(n),
+            g.step_text(),
+            thousands(MAX_POINTS)
+        );
+        g.over(
+            v,
+            step_span(raw, first),
+            what,
+            MAX_POINTS,
+            total,
+            "raise `[prediction] grid_step`, or split the site into several site projects",
+        );
+    }
+    service_pairs(v, raw, &mut g, &floors, transmitters);
+}
+
+/// The grid step checked, and the largest step an error has named so far.
+struct GridCheck {
+    step: f64,
+    units: Units,
+    named: f64,
+}
+
+impl GridCheck {
+    fn m(&self, x: f64) -> String {
+        format!(
+            "{} {}",
+            round_up_cm(self.units.from_m(x)),
+            self.units.label()
+        )
+    }
+    fn step_text(&self) -> String {
+        format!("grid_step {}", number(self.units.from_m(self.step)))
+    }
+    /// Reports `what` (a count beyond `limit`) with the step at which `count` fits,
+    /// unless a step already named fits it.
+    fn over(
+        &mut self,
+        v: &mut V<'_>,
+        span: Range<usize>,
+        what: String,
+        limit: u64,
+        count: impl Fn(f64) -> u64,
+        hint: &str,
+    ) {
+        let needed = smallest_step(limit, self.step, &count);
+        // The count falls as the step grows: a step already named, if larger, fits.
+        if needed.is_some_and(|s| self.named >= s) {
+            return;
+        }
+        let needs = match needed {
+            Some(s) => format!("needs `grid_step` of at least {}", self.m(s)),
+            None => "no grid step fits".into(),
+        };
+        self.named = self.named.max(needed.unwrap_or(f64::INFINITY));
+        v.error(span, format!("{what}: {needs}"), Some(hint.to_string()));
+    }
+}
+
+fn raw_step_given(raw: &RawProject) -> bool {
+    raw.prediction
+        .as_ref()
+        .is_some_and(|p| p.get_ref().grid_step.is_some())
+}
+
+/// The span of a floor's `outline` (by floor id).
+fn outline_span(raw: &RawProject, id: &str) -> Option<Range<usize>> {
+    raw.floors
+        .iter()
+        .find(|r| r.get_ref().id.as_ref().map(|i| i.get_ref().as_str()) == Some(id))
+        .and_then(|r| r.get_ref().outline.as_ref().map(|o| o.span()))
+}
+
+/// A floor with fewer than [`MIN_POINTS_PER_FLOOR`] grid points inside its outline, with
+/// the step (rounded down) that gives it enough.
+fn too_few_points(v: &mut V<'_>, f: &Floor, step: f64, units: Units, span: Range<usize>) {
+    let enough = MIN_POINTS_PER_FLOOR;
+    let n = points_inside(&f.outline, step, enough);
+    if n >= enough {
+        return;
+    }
+    let works = |s: f64| points_inside(&f.outline, s, enough) >= enough;
+    // Halve until it works (or the grid would grow beyond the floor limit) ...
+    let mut ok = step / 2.0;
+    while !works(ok) && grid_points(&f.outline, ok / 2.0) <= MAX_POINTS_PER_FLOOR {
+        ok /= 2.0;
+    }
+    let hint = if works(ok) {
+        // ... then close in between a step that works and one that does not.
+        let mut bad = ok * 2.0;
+        for _ in 0..30 {
+            let mid = 0.5 * (ok + bad);
+            if works(mid) {
+                ok = mid;
+            } else {
+                bad = mid;
+            }
+        }
+        let shown = round_down_cm(units.from_m(ok));
+        let shown = if works(shown * units.to_m()) {
+            shown
+        } else {
+            units.from_m(ok)
+        };
+        format!(
+            "set `[prediction] grid_step` to {shown} {} or less",
+            units.label()
+        )
+    } else {
+        "the outline is too small or too thin for a prediction grid: check its points and units"
+            .into()
+    };
+    v.error(
+        span,
+        format!(
+            "floor `{}` gets {n} prediction point{} inside its outline at grid_step {} {}; at least {enough} are needed to grade it",
+            f.id,
+            if n == 1 { "" } else { "s" },
+            number(units.from_m(step)),
+            units.label()
+        ),
+        Some(hint),
+    );
+}
+
+/// Point–transmitter pairs of each service, per floor and in all.
+fn service_pairs(
+    v: &mut V<'_>,
+    raw: &RawProject,
+    g: &mut GridCheck,
+    floors: &[(&Floor, Range<usize>)],
+    transmitters: &[Transmitter],
+) {
+    let mut per_service: BTreeMap<&str, u64> = BTreeMap::new();
+    for t in transmitters {
+        *per_service.entry(t.service.as_str()).or_default() += 1;
+    }
+    for (sid, k) in per_service {
+        for (f, span) in floors {
+            let on_floor = |s: f64| grid_points(&f.outline, s).saturating_mul(k);
+            let n = on_floor(g.step);
+            if n > MAX_PAIRS_PER_FLOOR {
+                let what = format!(
+                    "floor `{}`: {} prediction points at {} × {k} transmitters of service `{sid}` make {} point–transmitter pairs on one floor; at most {}",
+                    f.id,
+                    thousands(n / k),
+                    g.step_text(),
+                    thousands(n),
+                    thousands(MAX_PAIRS_PER_FLOOR)
+                );
+                g.over(v, span.clone(), what, MAX_PAIRS_PER_FLOOR, on_floor, "the prediction holds a level per transmitter at every point of a floor: raise `[prediction] grid_step`, use fewer transmitters, or split the site");
+            }
+        }
+        let pairs = |s: f64| -> u64 {
+            floors
+                .iter()
+                .map(|(f, _)| grid_points(&f.outline, s).saturating_mul(k))
+                .fold(0u64, u64::saturating_add)
+        };
+        let n = pairs(g.step);
+        if n > MAX_PAIRS_PER_SERVICE {
+            let span = raw
+                .services
+                .iter()
+                .find_map(|s| s.get_ref().id.as_ref().filter(|i| i.get_ref() == sid))
+                .map(|i| i.span())
+                .unwrap_or(0..1);
+            let what = format!(
+                "service `{sid}`: {k} transmitters × {} prediction points at {} make {} point–transmitter pairs; at most {}",
+                thousands(n / k),
+                g.step_text(),
+                thousands(n),
+                thousands(MAX_PAIRS_PER_SERVICE)
+            );
+            g.over(v, span, what, MAX_PAIRS_PER_SERVICE, pairs, "the prediction's time grows with the pairs: raise `[prediction] grid_step`, use fewer transmitters, or split the site");
+        }
+    }
+}
+
 /// A donor's elevation must lie in −90…90° (ITU-R P.2109 takes no other) and its plan
 /// direction in 0…360°.
 fn donor_angles(v: &mut V<'_>, d: &RawDonor, what: &str) {
@@ -633,10 +968,7 @@ fn report_unknown_keys(v: &mut V<'_>, unknown: &[Vec<String>]) {
             span,
             format!(
                 "unknown key `{}` is ignored",
-                path.iter()
-                    .map(|s| shown(s))
-                    .collect::<Vec<_>>()
-                    .join(".")
+                path.iter().map(|s| shown(s)).collect::<Vec<_>>().join(".")
             ),
             Some(hint),
         );
@@ -660,6 +992,7 @@ fn find_key<'t, 'i>(
 fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let raw = parse_raw(v)?;
     plausible_numbers(v, &raw);
+    count_limits(v, &raw);
     let whole = 0..1;
 
     // ---- [site] and units first: every length depends on them.
@@ -1172,6 +1505,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         }
     }
     let mut wall_ids = BTreeSet::new();
+    let mut wall_parts = 0usize;
     for (wi, rw) in raw.walls.iter().enumerate() {
         let span = rw.span();
         let w = rw.get_ref();
@@ -1348,9 +1682,20 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             thickness_m,
             kind: PartKind::Wall,
         };
-        floors[fi]
-            .parts
-            .extend(split_polyline(&pts, &intervals, &wall_part));
+        let parts = split_polyline(&pts, &intervals, &wall_part);
+        wall_parts += parts.len();
+        if wall_parts > MAX_WALL_PARTS {
+            // Reported once, at the wall that goes beyond; later walls are not split.
+            if wall_parts - parts.len() <= MAX_WALL_PARTS {
+                v.error(
+                    span.clone(),
+                    format!("{what} brings the site beyond {} wall parts (straight pieces of wall, doors and windows)", thousands(MAX_WALL_PARTS as u64)),
+                    Some("simplify the walls (fewer points) or split the site into several site projects".into()),
+                );
+            }
+            continue;
+        }
+        floors[fi].parts.extend(parts);
     }
     for (wid, ops) in openings {
         for o in ops {
@@ -1792,6 +2137,8 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             position_units,
         });
     }
+
+    grid_limits(v, &raw, &prediction, units, &floors, &transmitters);
 
     // ---- probes
     let mut probes = Vec::new();

@@ -245,3 +245,165 @@ fn ids_differing_only_in_case_are_refused() {
     let l = with("[[openings]]\nid = \"O1\"\nwall = \"W1\"\nmaterial = \"wooden-door\"\noffset = 1.0\nwidth = 1.0\n[[openings]]\nid = \"O1\"\nwall = \"W1\"\nmaterial = \"wooden-door\"\noffset = 3.0\nwidth = 1.0\n[[walls]]\nid = \"W1\"\nfloor = \"L1\"\nmaterial = \"concrete\"\nthickness = 0.2\npoints = [[0, 1], [8, 1]]");
     error_with(&l, "opening id `O1` is used twice");
 }
+
+/// A site of one rectangular floor `w` × `h` (site units) at `step`, `k` transmitters.
+fn floor_site(w: f64, h: f64, step: Option<f64>, k: usize) -> String {
+    let mut t = String::from(
+        "[site]\nid = \"big\"\nname = \"Big\"\nunits = \"metres\"\nreport_date = \"2026-01-15\"\n",
+    );
+    if let Some(s) = step {
+        t += &format!("[prediction]\ngrid_step = {s:?}\n");
+    }
+    t += &format!(
+        "[[floors]]\nid = \"L1\"\nelevation = 0.0\nheight = 3.0\noutline = [[0, 0], [{w:?}, 0], [{w:?}, {h:?}], [0, {h:?}]]\n"
+    );
+    t += "[[services]]\nid = \"lte\"\nfreq_mhz = 1800.0\nthreshold_dbm = -100.0\n";
+    for i in 0..k {
+        t += &format!("[[transmitters]]\nid = \"T{i}\"\nservice = \"lte\"\nfloor = \"L1\"\nposition = [1, 1]\npower_dbm = 10.0\n");
+    }
+    t
+}
+
+#[test]
+fn an_outline_of_1e300_is_refused_not_allocated() {
+    // Used to pass `check`; `report` then died of a capacity overflow.
+    let text = floor_site(1e300, 10.0, None, 1);
+    let l = load_text(&text);
+    // Each of the two far points, located at its `[x, y]`.
+    let far: Vec<&Diagnostic> = errors(&l);
+    assert_eq!(far.len(), 2, "{far:#?}");
+    let line = line_of(&text, "outline = ");
+    let cols: Vec<usize> = far.iter().map(|d| d.column).collect();
+    assert_eq!(cols, [20, 32], "{far:#?}");
+    for d in far {
+        assert_eq!(d.line, line);
+        assert!(d.message.contains("(1e300) lies beyond 100 km of the origin"));
+        assert!(d.hint.is_some());
+    }
+    // Feet count too: 400 000 ft is 121.92 km.
+    let text = floor_site(10.0, 10.0, None, 1).replace("[[transmitters]]", "[[zones]]\nid = \"Z\"\nfloor = \"L1\"\npolygon = [[0, 0], [400000, 0], [0, 5]]\n[[transmitters]]").replace("\"metres\"", "\"feet\"");
+    error_with(&load_text(&text), "beyond 100 km");
+    // Lengths and elevations as well.
+    let text = floor_site(10.0, 10.0, None, 1).replace("height = 3.0", "height = 1e9");
+    error_with(&load_text(&text), "`height` (1e9) lies beyond 100 km");
+}
+
+#[test]
+fn a_1_km_floor_at_5_cm_is_refused_with_the_step_that_fits() {
+    // 1000 m / 0.05 m = 20 000 cells per axis: 400 000 000 points. Used to pass `check`
+    // and then run `report` for minutes at over 1 GB. The step that fits 4 000 000
+    // points: ceil(1000 / s)^2 <= 4 000 000 from s = 0.5 m (hand calculation).
+    let text = floor_site(1000.0, 1000.0, Some(0.05), 1);
+    let l = load_text(&text);
+    let d = error_with(&l, "prediction points");
+    assert_eq!(d.line, line_of(&text, "outline = "), "{d:#?}");
+    assert!(d.message.contains("400 000 000"), "{}", d.message);
+    assert!(
+        d.message.contains("at most 4 000 000 per floor"),
+        "{}",
+        d.message
+    );
+    assert!(
+        d.message.contains("grid_step` of at least 0.5 m"),
+        "{}",
+        d.message
+    );
+    // At that step it loads.
+    let l = load_text(&floor_site(1000.0, 1000.0, Some(0.5), 1));
+    assert!(errors(&l).is_empty(), "{:#?}", l.diagnostics.items);
+}
+
+#[test]
+fn points_over_all_floors_are_limited() {
+    // Six floors of 1000 m x 1000 m at 0.5 m: 6 x 4 000 000 = 24 000 000 > 20 000 000.
+    // Fitting 20 000 000: 6 ceil(1000/s)^2 <= 2e7, ceil(1000/s) <= 1825 (1825^2 * 6 =
+    // 19 983 750), so s >= 1000/1825 = 0.54795 m, printed rounded up: 0.55 m.
+    let mut text = floor_site(1000.0, 1000.0, Some(0.5), 1);
+    for i in 2..=6 {
+        text += &format!("[[floors]]\nid = \"L{i}\"\nelevation = {}.0\nheight = 3.0\noutline = [[0, 0], [1000, 0], [1000, 1000], [0, 1000]]\n", 3 * (i - 1));
+    }
+    let l = load_text(&text);
+    let d = error_with(&l, "in all");
+    assert_eq!(d.line, line_of(&text, "grid_step = "));
+    assert!(d.message.contains("24 000 000"), "{}", d.message);
+    assert!(d.message.contains("at least 0.55 m"), "{}", d.message);
+}
+
+#[test]
+fn point_transmitter_pairs_are_limited() {
+    // 400 m x 250 m at 0.5 m: 800 x 500 = 400 000 points; 251 transmitters make
+    // 100 400 000 pairs on the floor, beyond 100 000 000. 250 transmitters fit.
+    let text = floor_site(400.0, 250.0, Some(0.5), 251);
+    let l = load_text(&text);
+    let d = error_with(&l, "on one floor");
+    assert_eq!(d.line, line_of(&text, "outline = "));
+    assert!(d.message.contains("100 400 000"), "{}", d.message);
+    let l = load_text(&floor_site(400.0, 250.0, Some(0.5), 250));
+    assert!(errors(&l).is_empty(), "{:#?}", l.diagnostics.items);
+    // Over all floors: 11 such floors x 250 transmitters = 1 100 000 000 > 1e9.
+    let mut text = floor_site(400.0, 250.0, Some(0.5), 250);
+    for i in 2..=11 {
+        text += &format!("[[floors]]\nid = \"L{i}\"\nelevation = {}.0\nheight = 3.0\noutline = [[0, 0], [400, 0], [400, 250], [0, 250]]\n", 3 * (i - 1));
+    }
+    let l = load_text(&text);
+    let d = error_with(&l, "point–transmitter pairs;");
+    assert_eq!(d.line, line_of(&text, "id = \"lte\""));
+    assert!(d.message.contains("1 100 000 000"), "{}", d.message);
+}
+
+#[test]
+fn a_grid_step_too_large_for_the_floor_is_refused() {
+    // grid_step = 1e6 m used to give 0 points and contradictory findings with no
+    // warning; it is beyond the 100 km of any length now.
+    let l = load_text(&floor_site(20.0, 10.0, Some(1e6), 1));
+    error_with(&l, "`grid_step` (1000000) lies beyond 100 km");
+    // 1000 m: one cell, its centre (500, 500) outside the 20 m x 10 m outline.
+    let text = floor_site(20.0, 10.0, Some(1000.0), 1);
+    let l = load_text(&text);
+    let d = error_with(&l, "gets 0 prediction points");
+    assert_eq!(d.line, line_of(&text, "grid_step = "));
+    // 20 x 10 m needs 2 x 2 centres inside at least: any step below 10 m gives
+    // ceil(10 / s) >= 2 rows and ceil(20 / s) >= 2 columns (hand calculation); the hint
+    // names a step that does.
+    let hint = d.hint.as_deref().unwrap();
+    let shown: f64 = hint
+        .split_whitespace()
+        .find_map(|w| w.parse().ok())
+        .unwrap_or_else(|| panic!("no step in {hint}"));
+    assert!(shown < 10.0, "{hint}");
+    let l = load_text(&floor_site(20.0, 10.0, Some(shown), 1));
+    assert!(errors(&l).is_empty(), "{hint}: {:#?}", l.diagnostics.items);
+    // Without a `grid_step` (default 1 m) a tiny floor is shown at its outline.
+    let text = floor_site(0.5, 0.5, None, 0);
+    let l = load_text(&text);
+    let d = error_with(&l, "gets 1 prediction point");
+    assert_eq!(d.line, line_of(&text, "outline = "));
+}
+
+#[test]
+fn entry_counts_are_limited_at_the_first_entry_beyond() {
+    // 201 floors: the 201st is named. (MAX_FLOORS = 200, README "Limits".)
+    let mut text = floor_site(10.0, 10.0, None, 1);
+    for i in 2..=201 {
+        text += &format!("[[floors]]\nid = \"F{i}\"\nelevation = {}.0\nheight = 3.0\noutline = [[0, 0], [10, 0], [10, 10], [0, 10]]\n", 3 * (i - 1));
+    }
+    let l = load_text(&text);
+    let d = error_with(&l, "`[[floors]]` entries");
+    assert!(
+        d.message.contains("201") && d.message.contains("at most 200"),
+        "{}",
+        d.message
+    );
+    assert_eq!(d.line, line_of(&text, "id = \"F201\"") - 1);
+    // A polyline of 10 001 points.
+    let pts: Vec<String> = (0..10_001)
+        .map(|i| format!("[{}, 1]", i as f64 * 0.001))
+        .collect();
+    let text = in_table(
+        "[[walls]]\nfloor = \"L1\"\nmaterial = \"concrete\"\nthickness = 0.2",
+        &format!("points = [{}]", pts.join(", ")),
+    );
+    let l = load_text(&text);
+    let d = error_with(&l, "10 001 points");
+    assert_eq!(d.line, line_of(&text, "points = "));
+}
