@@ -34,6 +34,7 @@ pub mod keys;
 pub mod limits;
 pub mod locate;
 pub mod material;
+pub mod names;
 #[allow(missing_docs)]
 pub mod raw;
 pub mod site;

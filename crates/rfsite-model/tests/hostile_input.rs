@@ -277,7 +277,9 @@ fn an_outline_of_1e300_is_refused_not_allocated() {
     assert_eq!(cols, [20, 32], "{far:#?}");
     for d in far {
         assert_eq!(d.line, line);
-        assert!(d.message.contains("(1e300) lies beyond 100 km of the origin"));
+        assert!(d
+            .message
+            .contains("(1e300) lies beyond 100 km of the origin"));
         assert!(d.hint.is_some());
     }
     // Feet count too: 400 000 ft is 121.92 km.
