@@ -710,7 +710,11 @@ impl GridCheck {
         )
     }
     fn step_text(&self) -> String {
-        format!("grid_step {}", number(self.units.from_m(self.step)))
+        format!(
+            "grid_step {} {}",
+            number(self.units.from_m(self.step)),
+            self.units.label()
+        )
     }
     /// Reports `what` (a count beyond `limit`) with the step at which `count` fits,
     /// unless a step already named fits it.
