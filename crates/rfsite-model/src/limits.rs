@@ -36,6 +36,11 @@ pub const MAX_PAIRS_PER_SERVICE: u64 = 1_000_000_000;
 /// at most 400 MB.
 pub const MAX_PAIRS_PER_FLOOR: u64 = 100_000_000;
 
+/// Most point-in-polygon vertex tests on one floor: its points times the vertices of its
+/// outline and of its zones, 2 000 000 000. Every point is tested against the outline
+/// (is it on the floor?) and against each zone (which kind of area?).
+pub const MAX_POLYGON_TESTS_PER_FLOOR: u64 = 2_000_000_000;
+
 /// Most `[[floors]]`: 200 (the tallest buildings have about 160 storeys, from memory).
 pub const MAX_FLOORS: usize = 200;
 /// Most `[[walls]]` entries: 100 000.

@@ -666,6 +666,7 @@ fn grid_limits(
             };
             too_few_points(v, f, g.step, units, at);
         }
+        polygon_tests(v, &mut g, f, span.clone());
     }
     let total = |s: f64| -> u64 {
         floors
@@ -738,6 +739,27 @@ impl GridCheck {
         };
         self.named = self.named.max(needed.unwrap_or(f64::INFINITY));
         v.error(span, format!("{what}: {needs}"), Some(hint.to_string()));
+    }
+}
+
+/// Point-in-polygon work on a floor: its points × the vertices of its outline and zones.
+fn polygon_tests(v: &mut V<'_>, g: &mut GridCheck, f: &Floor, span: Range<usize>) {
+    let vertices = f.outline.len() + f.zones.iter().map(|z| z.polygon.len()).sum::<usize>();
+    let vertices = vertices as u64;
+    let tests = |s: f64| grid_points(&f.outline, s).saturating_mul(vertices);
+    let n = tests(g.step);
+    if n > MAX_POLYGON_TESTS_PER_FLOOR {
+        let what = format!(
+            "floor `{}`: {} prediction points at {} × {vertices} vertices of its outline and zones make {} point-in-polygon tests; at most {}",
+            f.id,
+            thousands(n / vertices),
+            g.step_text(),
+            thousands(n),
+            thousands(MAX_POLYGON_TESTS_PER_FLOOR)
+        );
+        let hint =
+            "raise `[prediction] grid_step`, or draw the outline and zones with fewer points";
+        g.over(v, span, what, MAX_POLYGON_TESTS_PER_FLOOR, tests, hint);
     }
 }
 

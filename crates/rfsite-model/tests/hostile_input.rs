@@ -409,3 +409,39 @@ fn entry_counts_are_limited_at_the_first_entry_beyond() {
     let d = error_with(&l, "10 001 points");
     assert_eq!(d.line, line_of(&text, "points = "));
 }
+
+#[test]
+fn point_in_polygon_work_per_floor_is_limited() {
+    // 1000 m x 1000 m at 1 m: 1 000 000 points; outline 4 vertices + a zone of 2001:
+    // 2 005 000 000 tests > 2 000 000 000. Fitting: ceil(1000 / s)^2 * 2005 <= 2e9 gives
+    // ceil(1000 / s) <= 998 (998^2 * 2005 = 1 996 988 020), s >= 1000 / 998 = 1.002 m,
+    // printed rounded up: 1.01 m (hand calculation).
+    let site = |n: usize| {
+        let ring: Vec<String> = (0..n)
+            .map(|i| {
+                let a = i as f64 * std::f64::consts::TAU / n as f64;
+                format!(
+                    "[{:.6}, {:.6}]",
+                    500.0 + 100.0 * a.cos(),
+                    500.0 + 100.0 * a.sin()
+                )
+            })
+            .collect();
+        floor_site(1000.0, 1000.0, Some(1.0), 1).replace(
+            "[[services]]",
+            &format!(
+                "[[zones]]\nid = \"Z\"\nfloor = \"L1\"\npolygon = [{}]\n[[services]]",
+                ring.join(", ")
+            ),
+        )
+    };
+    let text = site(2001);
+    let l = load_text(&text);
+    let d = error_with(&l, "point-in-polygon tests");
+    assert_eq!(d.line, line_of(&text, "outline = "));
+    assert!(d.message.contains("2 005 000 000"), "{}", d.message);
+    assert!(d.message.contains("at least 1.01 m"), "{}", d.message);
+    // 4 + 1996 vertices: exactly 2 000 000 000 tests, which fits.
+    let l = load_text(&site(1996));
+    assert!(errors(&l).is_empty(), "{:#?}", l.diagnostics.items);
+}
