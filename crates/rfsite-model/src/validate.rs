@@ -664,7 +664,11 @@ fn grid_limits(
             } else {
                 span.clone()
             };
-            too_few_points(v, f, g.step, units, at);
+            // Beyond the polygon-test limit, counting is the work refused below.
+            let tests = n.saturating_mul(f.outline.len() as u64);
+            if tests <= MAX_POLYGON_TESTS_PER_FLOOR {
+                too_few_points(v, f, g.step, units, at);
+            }
         }
         polygon_tests(v, &mut g, f, span.clone());
     }
@@ -786,15 +790,24 @@ fn too_few_points(v: &mut V<'_>, f: &Floor, step: f64, units: Units, span: Range
         return;
     }
     let works = |s: f64| points_inside(&f.outline, s, enough) >= enough;
-    // Halve until it works (or the grid would grow beyond the floor limit) ...
-    let mut ok = step / 2.0;
-    while !works(ok) && grid_points(&f.outline, ok / 2.0) <= MAX_POINTS_PER_FLOOR {
+    // The search for a step that works tests at most 10^8 vertices per try.
+    let affordable =
+        |s: f64| grid_points(&f.outline, s).saturating_mul(f.outline.len() as u64) <= 100_000_000;
+    // Halve until it works (or a try would cost too much) ...
+    let mut ok = step;
+    let found = loop {
         ok /= 2.0;
-    }
-    let hint = if works(ok) {
+        if !affordable(ok) {
+            break false;
+        }
+        if works(ok) {
+            break true;
+        }
+    };
+    let hint = if found {
         // ... then close in between a step that works and one that does not.
         let mut bad = ok * 2.0;
-        for _ in 0..30 {
+        for _ in 0..20 {
             let mid = 0.5 * (ok + bad);
             if works(mid) {
                 ok = mid;
