@@ -2,6 +2,7 @@ pub mod util;
 
 mod calc_cli;
 mod check_broken;
+mod check_limits;
 mod check_parity;
 mod determinism;
 mod external;

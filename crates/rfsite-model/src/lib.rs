@@ -31,8 +31,10 @@
 
 pub mod diag;
 pub mod keys;
+pub mod limits;
 pub mod locate;
 pub mod material;
+pub mod names;
 #[allow(missing_docs)]
 pub mod raw;
 pub mod site;

@@ -651,38 +651,30 @@ impl MaterialLibrary {
         let mut notes = Vec::new();
         let mut by_mat: BTreeMap<&str, Vec<(f64, f64)>> = BTreeMap::new();
         for p in probes {
+            if !(p.freq_mhz.is_finite() && p.freq_mhz > 0.0 && p.loss_db.is_finite()) {
+                notes.push(format!(
+                    "probe of `{}` ({} MHz, {} dB) is not a measurement and is not used",
+                    p.material, p.freq_mhz, p.loss_db
+                ));
+                continue;
+            }
             by_mat
                 .entry(p.material.as_str())
                 .or_default()
                 .push((p.freq_mhz, p.loss_db));
         }
-        for (id, mut pts) in by_mat {
+        for (id, pts) in by_mat {
             let Some(orig) = self.materials.get(id).cloned() else {
                 continue;
             };
-            pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-            // Average probes at the same frequency.
-            let mut table: Vec<(f64, f64)> = Vec::new();
-            let mut i = 0;
-            while i < pts.len() {
-                let f = pts[i].0;
-                let same: Vec<f64> = pts[i..]
-                    .iter()
-                    .take_while(|p| (p.0 - f).abs() < 1e-9)
-                    .map(|p| p.1)
-                    .collect();
-                let n = same.len();
-                let mean = same.iter().sum::<f64>() / n as f64;
-                if mean < 0.0 {
-                    notes.push(format!("probe of `{id}` at {f} MHz measured more through the material than with a clear path ({mean:.1} dB): taken as 0 dB"));
-                }
-                table.push((f, mean.max(0.0)));
-                i += n;
-            }
+            let mut table = average_by_frequency(id, pts, &mut notes);
             let (lo, hi) = (table[0].0, table[table.len() - 1].0);
             let t = thickness_m.get(id).copied().unwrap_or(0.1);
             let mut extra = Vec::new();
-            for &fs in service_freqs_mhz {
+            for &fs in service_freqs_mhz
+                .iter()
+                .filter(|f| f.is_finite() && **f > 0.0)
+            {
                 if fs >= lo && fs <= hi {
                     continue;
                 }
@@ -734,6 +726,33 @@ impl MaterialLibrary {
     pub fn ids(&self) -> impl Iterator<Item = &str> + Clone {
         self.materials.keys().map(String::as_str)
     }
+}
+
+/// Probe points of one material (finite, at least one) as a table ascending in frequency:
+/// probes at the same frequency (within 1e-9 MHz of the first of a run) are averaged; a
+/// mean below 0 dB is taken as 0 dB, with a note. Each step consumes at least one point.
+fn average_by_frequency(
+    id: &str,
+    mut pts: Vec<(f64, f64)>,
+    notes: &mut Vec<String>,
+) -> Vec<(f64, f64)> {
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut table: Vec<(f64, f64)> = Vec::new();
+    let mut rest = pts.as_slice();
+    while let Some(&(f, _)) = rest.first() {
+        let n = rest
+            .iter()
+            .take_while(|p| (p.0 - f).abs() < 1e-9)
+            .count()
+            .max(1);
+        let mean = rest[..n].iter().map(|p| p.1).sum::<f64>() / n as f64;
+        if mean < 0.0 {
+            notes.push(format!("probe of `{id}` at {f} MHz measured more through the material than with a clear path ({mean:.1} dB): taken as 0 dB"));
+        }
+        table.push((f, mean.max(0.0)));
+        rest = &rest[n..];
+    }
+    table
 }
 
 /// The class of each ITU row.
@@ -794,6 +813,45 @@ mod tests {
             .unwrap()
             .crossing_loss(850.0, 0.2, 1.0, Polarization::Te);
         assert!((l.loss_db - 26.0).abs() < 1e-12 && l.note.is_none());
+    }
+
+    #[test]
+    fn non_finite_probes_are_set_aside_not_looped_on() {
+        // A NaN frequency used to stall the averaging loop (no progress, the table grew
+        // until memory ran out). Non-finite points are now noted and left out; the finite
+        // probe of the same material still makes the table.
+        let mut lib = MaterialLibrary::builtin();
+        let probe = |freq_mhz: f64, loss_db: f64| ProbePoint {
+            material: "concrete".into(),
+            freq_mhz,
+            loss_db,
+        };
+        let probes = vec![
+            probe(f64::NAN, 20.0),
+            probe(f64::INFINITY, 20.0),
+            probe(900.0, f64::NAN),
+            probe(900.0, 26.0),
+        ];
+        let th: BTreeMap<String, f64> = [("concrete".to_string(), 0.2)].into();
+        let notes = lib.apply_probes(&probes, &[900.0, f64::NAN], &th);
+        assert_eq!(
+            notes
+                .iter()
+                .filter(|n| n.contains("not a measurement"))
+                .count(),
+            3,
+            "{notes:?}"
+        );
+        let m = lib.get("concrete").unwrap();
+        assert_eq!(m.origin, "probe");
+        let MaterialModel::Empirical { loss_db, .. } = &m.model else {
+            panic!("a probed material is a measured table");
+        };
+        assert_eq!(loss_db, &vec![(900.0, 26.0)]);
+        // Only non-finite probes: the library entry stays as it was.
+        let mut lib2 = MaterialLibrary::builtin();
+        lib2.apply_probes(&probes[..2], &[900.0], &th);
+        assert_eq!(lib2.get("concrete").unwrap().origin, "itu");
     }
 
     #[test]

@@ -440,9 +440,9 @@ impl Site {
         self.services.iter().find(|s| s.id == id)
     }
     /// The prediction grid of floor `index`: the outline's bounding box at the grid step.
+    /// The load checked its size against [`crate::limits`] with the same function.
     pub fn floor_grid(&self, index: usize) -> rfsite_geometry::Grid {
-        let (min, max) = rfsite_geometry::polygon_bbox(&self.floors[index].outline);
-        rfsite_geometry::Grid::covering(min, max, self.prediction.grid_step_m)
+        crate::limits::grid_of(&self.floors[index].outline, self.prediction.grid_step_m)
     }
     /// Index of a floor by id.
     pub fn floor_index(&self, id: &str) -> Option<usize> {

@@ -15,20 +15,8 @@ fn e<E: std::fmt::Debug>(x: E) -> String {
     format!("{x:?}")
 }
 
-fn clean(s: &str) -> String {
-    s.chars()
-        .map(|c| {
-            if c.is_ascii_alphanumeric() || c == '-' {
-                c
-            } else {
-                '_'
-            }
-        })
-        .collect()
-}
-
 /// Draws every grading map in the assessment: file name -> SVG. Names match the
-/// grading plugin's figures (`grading-<floor>-<service>.svg`).
+/// grading plugin's figures (`grading-<floor>.<service>.svg`, `rfsite_model::names`).
 pub fn grading_maps(site: &Site, a: &Assessment) -> Result<Vec<(String, String)>, String> {
     let mut out = Vec::new();
     let Some(services) = a
@@ -47,7 +35,8 @@ pub fn grading_maps(site: &Site, a: &Assessment) -> Result<Vec<(String, String)>
                 continue;
             };
             let svg = draw(site, floor, f)?;
-            out.push((format!("grading-{}-{}.svg", clean(fid), clean(sid)), svg));
+            let stem = rfsite_model::names::figure_stem("grading", &[fid, sid]);
+            out.push((rfsite_model::names::figure_file(&stem), svg));
         }
     }
     Ok(out)

@@ -12,6 +12,7 @@
 
 use std::collections::BTreeMap;
 
+use rfsite_model::names::{figure_file, figure_stem};
 use rfsite_model::Site;
 use rfsite_plugin::{Assessment, Measurement, Severity};
 use serde::{Deserialize, Serialize};
@@ -188,19 +189,25 @@ fn model_name(model: &str) -> String {
     }
 }
 
+/// The coverage map of a floor and service: `map-<floor>.<service>.svg`, one file per
+/// pair (`rfsite_model::names`).
 fn figure_name(floor: &str, service: &str) -> String {
-    let clean = |s: &str| {
-        s.chars()
-            .map(|c| {
-                if c.is_ascii_alphanumeric() || c == '-' {
-                    c
-                } else {
-                    '_'
-                }
-            })
-            .collect::<String>()
-    };
-    format!("map-{}-{}.svg", clean(floor), clean(service))
+    figure_file(&figure_stem("map", &[floor, service]))
+}
+
+/// Adds a figure, refusing a second one of the same name (it would overwrite the first).
+fn add_figure(
+    out: &mut BTreeMap<String, String>,
+    name: String,
+    svg: String,
+) -> Result<(), ReportError> {
+    if out.contains_key(&name) {
+        return Err(ReportError(format!(
+            "two figures are named `{name}`: a plugin's figure id repeats another figure's"
+        )));
+    }
+    out.insert(name, svg);
+    Ok(())
 }
 
 /// Builds the figures: one coverage map per graded layer, plus the plugins' figures.
@@ -246,19 +253,16 @@ pub fn figures(
         .figures
         .par_iter()
         .filter(|f| f.kind != "grading-map")
-        .map(|f| {
-            Ok((
-                format!("{}.svg", f.id),
-                charts::figure(f).map_err(ReportError)?,
-            ))
-        })
+        .map(|f| Ok((figure_file(&f.id), charts::figure(f).map_err(ReportError)?)))
         .collect();
     let mut out = BTreeMap::new();
     for r in maps.into_iter().chain(others) {
         let (k, v) = r?;
-        out.insert(k, v);
+        add_figure(&mut out, k, v)?;
     }
-    out.extend(grading_map::grading_maps(site, a).map_err(ReportError)?);
+    for (k, v) in grading_map::grading_maps(site, a).map_err(ReportError)? {
+        add_figure(&mut out, k, v)?;
+    }
     Ok(out)
 }
 
@@ -456,7 +460,7 @@ pub fn view_model(
     let figs: Vec<Value> = a
         .figures
         .iter()
-        .map(|f| json!({"title": f.title, "file": format!("{}.svg", f.id)}))
+        .map(|f| json!({"title": f.title, "file": figure_file(&f.id)}))
         .collect();
     Ok(json!({
         "meta": {

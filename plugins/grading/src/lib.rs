@@ -301,19 +301,6 @@ fn all_in_zone(inp: &FloorInput<'_>, z: &rfsite_model::Zone) -> Vec<f64> {
     }
 }
 
-/// File-name-safe id part (as the report names figures).
-pub fn clean(s: &str) -> String {
-    s.chars()
-        .map(|c| {
-            if c.is_ascii_alphanumeric() || c == '-' {
-                c
-            } else {
-                '_'
-            }
-        })
-        .collect()
-}
-
 mod plugin;
 pub use plugin::rule_sets;
 

@@ -8,7 +8,7 @@ use rfsite_plugin::*;
 
 use crate::rules::{self, builtin_rules, Rule};
 use crate::{
-    clean, findings, grade_one_floor, required_level, rule_for, FloorInput, FloorOutcome, Grading,
+    findings, grade_one_floor, required_level, rule_for, FloorInput, FloorOutcome, Grading,
 };
 
 /// The rule sets in force: built in, then the site's `[plugins.grading.rule_sets.<id>]`.
@@ -382,7 +382,7 @@ impl ServiceGrading<'_, '_> {
         outcomes
             .iter()
             .map(|o| Figure {
-                id: format!("grading-{}-{}", clean(&o.grade.floor), clean(&self.svc.id)),
+                id: rfsite_model::names::figure_stem("grading", &[&o.grade.floor, &self.svc.id]),
                 title: format!("Test cells, {} on {}: pass/fail per cell ({}, predicted cells at {:.1} dBm, measured cells at {:.1} dBm); failed cells hatched and marked F, m = judged on measurements", self.svc.name, self.fname(&o.grade.floor), self.rule.id, self.req.predicted_dbm, self.req.measured_dbm),
                 kind: "grading-map".into(),
                 x_label: String::new(),

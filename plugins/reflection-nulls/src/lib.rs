@@ -20,6 +20,7 @@
 use std::collections::{BTreeMap, BTreeSet};
 
 use rfsite_geometry::{distance_point_segment, Point2};
+use rfsite_model::names::figure_stem;
 use rfsite_model::{Material, MaterialModel, Site, WallPart};
 use rfsite_physics::fspl::wavelength_m;
 use rfsite_physics::p2040::Polarization;
@@ -378,11 +379,17 @@ impl Reflectors {
         for ((si, m, t), r) in map.iter_mut() {
             if let Some(r) = r {
                 r.walls.sort();
-                let base = format!("nulls-{}-{}", r.service, m);
-                r.figure = if count[&(*si, m.clone())] > 1 {
-                    format!("{base}-{}mm", (*t as f64 / 1000.0).round() as i64)
+                // One name per key (`rfsite_model::names`): the thickness in whole
+                // millimetres when it is one, else in micrometres.
+                let thick = if t % 1000 == 0 {
+                    format!("{}mm", t / 1000)
                 } else {
-                    base
+                    format!("{t}um")
+                };
+                r.figure = if count[&(*si, m.clone())] > 1 {
+                    figure_stem("nulls", &[&r.service, m, &thick])
+                } else {
+                    figure_stem("nulls", &[&r.service, m])
                 };
             }
         }

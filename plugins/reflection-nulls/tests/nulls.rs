@@ -222,7 +222,7 @@ fn figure_and_summary_table() {
     let out = run(&s);
     assert_eq!(out.figures.len(), 1);
     let fig = &out.figures[0];
-    assert_eq!(fig.id, "nulls-svc-metal-cladding");
+    assert_eq!(fig.id, "nulls-svc.metal-cladding");
     assert_eq!(fig.kind, "line");
     let pts = &fig.series[0].points;
     assert_eq!(pts[0][0], 0.0);
