@@ -122,11 +122,14 @@ fn run_target(target: &str, o: &Opts) -> Tally {
             ],
         ),
         _ => {
-            let f = dir.path().join("survey/L1-ps700.csv");
-            (
-                f.clone(),
-                vec![std::fs::read_to_string(&f).unwrap_or_default()],
-            )
+            // The starter site with one survey: the survey reader is the work of each case.
+            let starter = include_str!("../../../templates/starter/site.toml");
+            let _ = std::fs::write(
+                dir.path().join("site.toml"),
+                format!("{starter}\n[[surveys]]\nfile = \"walk.csv\"\n"),
+            );
+            let f = dir.path().join("walk.csv");
+            (f, vec![survey_seed()])
         }
     };
     println!(
@@ -173,6 +176,24 @@ fn run_target(target: &str, o: &Opts) -> Tally {
         }
     }
     tally
+}
+
+/// A walk over the starter site's floor in the demo's survey format (invented, as all
+/// demo data).
+fn survey_seed() -> String {
+    let mut s = String::from(
+        "# invented walk for the fuzz harness\ntimestamp,x,y,floor,service,level_dbm,channel\n",
+    );
+    for i in 0..120 {
+        let (x, y) = (1.0 + (i % 28) as f64, 1.0 + (i / 28) as f64 * 3.5);
+        s.push_str(&format!(
+            "2026-11-20T10:{:02}:{:02},{x:.2},{y:.2},L1,lte1800,{:.1},1300\n",
+            i / 60,
+            i % 60,
+            -60.0 - (i % 40) as f64
+        ));
+    }
+    s
 }
 
 enum Outcome {
