@@ -370,7 +370,7 @@ fn a_hanging_site_is_stopped_at_the_site_time_limit() {
     let (code, so, se) = portfolio(
         &dir,
         &out,
-        &["--site-timeout-s", "3", "--allow-site-commands"],
+        &["--site-timeout-s", "20", "--allow-site-commands"],
     );
     assert_eq!(code, 1, "{so}{se}");
     // The hang would otherwise last the plugin's 60 s sleep.
@@ -383,7 +383,7 @@ fn a_hanging_site_is_stopped_at_the_site_time_limit() {
         b["problems"][0]
             .as_str()
             .unwrap()
-            .contains("per-site time limit of 3 s"),
+            .contains("per-site time limit of 20 s"),
         "{b}"
     );
     assert!(out.join("harrow-lane-office/report.pdf").is_file());
