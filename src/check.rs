@@ -200,22 +200,6 @@ fn print_summary(world: &World, l: &LoadedSite, warnings: usize) {
 
 /// The shadowing standard deviation in force and where it comes from.
 fn sigma_line(s: &rfsite_model::Site) -> String {
-    let from_grading = s
-        .plugin_options
-        .get("grading")
-        .and_then(|t| t.get("shadowing_sigma_db"))
-        .and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64)));
-    match (from_grading, s.prediction.shadowing_sigma_given) {
-        (Some(x), _) => format!(
-            "shadowing sigma in force: {x:.1} dB (from `[plugins.grading] shadowing_sigma_db`)"
-        ),
-        (None, true) => format!(
-            "shadowing sigma in force: {:.1} dB (from `[prediction] shadowing_sigma_db`)",
-            s.prediction.shadowing_sigma_db
-        ),
-        (None, false) => format!(
-            "shadowing sigma in force: {:.1} dB (default; set `[prediction] shadowing_sigma_db` to change it)",
-            s.prediction.shadowing_sigma_db
-        ),
-    }
+    let (sigma, from) = s.shadowing_sigma();
+    format!("shadowing sigma in force: {sigma:.1} dB ({})", from.key())
 }

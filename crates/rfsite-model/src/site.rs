@@ -439,6 +439,20 @@ impl Site {
     pub fn service(&self, id: &str) -> Option<&Service> {
         self.services.iter().find(|s| s.id == id)
     }
+    /// The shadowing standard deviation in force and where it comes from: the grading's
+    /// own option, else `[prediction]`, else the default.
+    pub fn shadowing_sigma(&self) -> (f64, SigmaSource) {
+        let graded = self
+            .plugin_options
+            .get("grading")
+            .and_then(|t| t.get("shadowing_sigma_db"))
+            .and_then(|v| v.as_float().or(v.as_integer().map(|i| i as f64)));
+        match (graded, self.prediction.shadowing_sigma_given) {
+            (Some(x), _) => (x, SigmaSource::Grading),
+            (None, true) => (self.prediction.shadowing_sigma_db, SigmaSource::Prediction),
+            (None, false) => (self.prediction.shadowing_sigma_db, SigmaSource::Default),
+        }
+    }
     /// The prediction grid of floor `index`: the outline's bounding box at the grid step.
     /// The load checked its size against [`crate::limits`] with the same function.
     pub fn floor_grid(&self, index: usize) -> rfsite_geometry::Grid {
@@ -447,5 +461,35 @@ impl Site {
     /// Index of a floor by id.
     pub fn floor_index(&self, id: &str) -> Option<usize> {
         self.floors.iter().position(|f| f.id == id)
+    }
+}
+
+/// Where the shadowing standard deviation in force comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SigmaSource {
+    /// `[plugins.grading] shadowing_sigma_db`.
+    Grading,
+    /// `[prediction] shadowing_sigma_db`.
+    Prediction,
+    /// Not set: rfsite's default.
+    Default,
+}
+
+impl SigmaSource {
+    /// In words, for the method section.
+    pub fn words(self) -> &'static str {
+        match self {
+            SigmaSource::Grading => "set for the grading in site.toml",
+            SigmaSource::Prediction => "given in site.toml",
+            SigmaSource::Default => "rfsite's default, as site.toml does not set it",
+        }
+    }
+    /// The key it comes from, for `check`.
+    pub fn key(self) -> &'static str {
+        match self {
+            SigmaSource::Grading => "from `[plugins.grading] shadowing_sigma_db`",
+            SigmaSource::Prediction => "from `[prediction] shadowing_sigma_db`",
+            SigmaSource::Default => "default; set `[prediction] shadowing_sigma_db` to change it",
+        }
     }
 }

@@ -450,7 +450,7 @@ pub fn view_model(
         &hb,
         "method",
         &json!({"model": site.prediction.model, "step": f1(u.from_m(site.prediction.grid_step_m)), "units": ul,
-        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "sigma": f1(a.services.first().map(|s| s.required.shadowing_sigma_db).unwrap_or(site.prediction.shadowing_sigma_db)), "sigma_source": sigma_source(site), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
+        "rx_height": f1(u.from_m(site.prediction.receiver_height_m)), "sigma": f1(a.services.first().map(|s| s.required.shadowing_sigma_db).unwrap_or(site.prediction.shadowing_sigma_db)), "sigma_source": site.shadowing_sigma().1.words(), "combine": match site.prediction.combine { rfsite_model::Combine::Strongest => "the strongest server", rfsite_model::Combine::PowerSum => "the power sum" }}),
     )?;
     let tables: Vec<Value> = a
         .tables
@@ -590,21 +590,6 @@ fn parse_date(s: &str) -> (i32, u8, u8) {
     let m = s.get(5..7).and_then(|x| x.parse().ok()).unwrap_or(1);
     let d = s.get(8..10).and_then(|x| x.parse().ok()).unwrap_or(1);
     (y, m, d)
-}
-
-/// Where the shadowing spread in force comes from, in words for the method section.
-fn sigma_source(site: &Site) -> &'static str {
-    let graded = site
-        .plugin_options
-        .get("grading")
-        .is_some_and(|t| t.contains_key("shadowing_sigma_db"));
-    if graded {
-        "set for the grading in site.toml"
-    } else if site.prediction.shadowing_sigma_given {
-        "given in site.toml"
-    } else {
-        "rfsite's default, as site.toml does not set it"
-    }
 }
 
 /// One material loss as the table prints it: the value charged, "> cap" for a material
