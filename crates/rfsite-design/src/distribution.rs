@@ -1,0 +1,1 @@
+//! Passive distribution budget (to be written).

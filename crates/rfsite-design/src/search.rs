@@ -1,0 +1,1 @@
+//! Antenna choice from candidate coverage (to be written).
