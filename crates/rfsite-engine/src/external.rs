@@ -701,6 +701,7 @@ mod tests {
             options: &empty,
             earlier: &[],
             surveys: &surveys,
+            base: None,
         };
         let p = ExternalPlugin::new(s.clone()).check(&ctx);
         assert_eq!(p.len(), 1);

@@ -16,6 +16,7 @@ use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
 
 pub mod external;
+pub mod options;
 pub mod outputs;
 mod precheck;
 pub use precheck::check_plugins;
@@ -301,6 +302,7 @@ pub fn run(
             options: site.plugin_options.get(p.id()).unwrap_or(&empty),
             earlier: &outputs,
             surveys: &loaded.surveys,
+            base: None,
         };
         let out = p.run(&ctx).map_err(|error| EngineError::Plugin {
             id: p.id().into(),
@@ -314,7 +316,27 @@ pub fn run(
         });
         outputs.push((p.id().to_string(), out));
     }
-    Ok(collect(site, loaded, runs, outputs, inputs))
+    let options = prove_options(site, registry, &mut outputs);
+    Ok(collect(site, loaded, runs, outputs, inputs, options))
+}
+
+/// Every option of the run (the plugins' and the site's `[[what_if]]`), those that change
+/// the site predicted and graded on the changed copy; the recommended ones marked.
+fn prove_options(
+    site: &Site,
+    registry: &Registry,
+    outputs: &mut [(String, PluginOutput)],
+) -> Vec<Remediation> {
+    let mut all: Vec<Remediation> = outputs
+        .iter_mut()
+        .flat_map(|(_, o)| std::mem::take(&mut o.remediation))
+        .collect();
+    all.extend(options::user_options(site));
+    for r in all.iter_mut().filter(|r| options::changes_site(r)) {
+        options::prove(site, registry, outputs, r);
+    }
+    options::recommend(&mut all);
+    all
 }
 
 fn collect(
@@ -323,6 +345,7 @@ fn collect(
     plugins: Vec<PluginRun>,
     outputs: Vec<(String, PluginOutput)>,
     mut inputs: Vec<InputFile>,
+    options: Vec<Remediation>,
 ) -> Assessment {
     let mut a = Assessment {
         tool: Tool {
@@ -356,7 +379,6 @@ fn collect(
             a.services.retain(|x| x.id != s.id);
             a.services.push(s);
         }
-        a.remediation.extend(o.remediation);
         a.cautions.extend(o.cautions);
         a.warnings.extend(o.warnings);
         a.tables.extend(o.tables);
@@ -403,6 +425,8 @@ fn collect(
         rows_per_file: s.rows_per_file.clone(),
         rejected_rows: s.rejected.iter().take(50).cloned().collect(),
     };
+    a.remediation = options;
+    options::fill_remedies(&mut a.findings, &a.remediation);
     // Life safety first everywhere: services, findings, remediation.
     let life_id = |sid: Option<&String>| {
         sid.and_then(|s| site.service(s))

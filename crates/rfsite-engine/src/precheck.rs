@@ -46,6 +46,7 @@ pub fn check_plugins(loaded: &LoadedSite, registry: &Registry) -> Diagnostics {
             options,
             earlier: &[],
             surveys: &loaded.surveys,
+            base: None,
         };
         for problem in p.check(&ctx) {
             out.push(located(file, p.id(), problem));

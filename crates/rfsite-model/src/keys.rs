@@ -49,6 +49,12 @@ pub fn known_keys(parent: &[&str]) -> Option<&'static [&'static str]> {
         ["site"] => fields_of::<RawSiteMeta>(),
         ["prediction"] => fields_of::<RawPrediction>(),
         ["materials", i, "layers", j] if is_index(i) && is_index(j) => fields_of::<RawLayer>(),
+        ["what_if", i, sub, j] if is_index(i) && is_index(j) => match *sub {
+            "set_material" => fields_of::<RawSetMaterial>(),
+            "set_power" => fields_of::<RawSetPower>(),
+            "add_transmitters" => fields_of::<RawTransmitter>(),
+            _ => return None,
+        },
         [table, i] if is_index(i) => match *table {
             "revisions" => fields_of::<RawRevision>(),
             "materials" => fields_of::<RawMaterial>(),
@@ -61,6 +67,7 @@ pub fn known_keys(parent: &[&str]) -> Option<&'static [&'static str]> {
             "donors" => fields_of::<RawDonor>(),
             "surveys" => fields_of::<RawSurvey>(),
             "probes" => fields_of::<RawProbe>(),
+            "what_if" => fields_of::<RawWhatIf>(),
             _ => return None,
         },
         _ => return None,

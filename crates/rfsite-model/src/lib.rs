@@ -39,6 +39,7 @@ pub mod names;
 pub mod raw;
 pub mod site;
 pub mod validate;
+pub mod whatif;
 
 pub use diag::{Diagnostic, Diagnostics, Severity, SourceFile};
 pub use material::{
@@ -46,3 +47,4 @@ pub use material::{
 };
 pub use site::*;
 pub use validate::{load, Loaded};
+pub use whatif::{SiteChange, WhatIf};

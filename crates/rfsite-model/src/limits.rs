@@ -66,6 +66,10 @@ pub const MAX_SURVEYS: usize = 10_000;
 pub const MAX_PROBES: usize = 10_000;
 /// Most `[[revisions]]`: 1 000.
 pub const MAX_REVISIONS: usize = 1_000;
+/// `[[what_if]]` options: each re-runs the prediction and the grading.
+pub const MAX_WHAT_IFS: usize = 20;
+/// Transmitters one what-if may add.
+pub const MAX_WHAT_IF_TRANSMITTERS: usize = 200;
 /// Most points in one outline, wall polyline or zone polygon: 10 000.
 pub const MAX_POLYLINE_POINTS: usize = 10_000;
 

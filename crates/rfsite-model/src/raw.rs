@@ -51,6 +51,9 @@ pub struct RawProject {
     /// `[[probes]]`
     #[serde(default)]
     pub probes: Vec<S<RawProbe>>,
+    /// `[[what_if]]`: remediation options the user declares as changes to the site.
+    #[serde(default)]
+    pub what_if: Vec<S<RawWhatIf>>,
     /// `[plugins.<id>]`: each plugin's own table, uninterpreted here.
     #[serde(default)]
     pub plugins: Option<S<toml::Table>>,
@@ -236,4 +239,36 @@ pub struct RawProbe {
     pub distance: Option<S<f64>>,
     pub angle_deg: Option<S<f64>>,
     pub note: Option<S<String>>,
+}
+
+/// `[[what_if]]`: one option, a set of changes to the site.
+#[derive(Debug, Deserialize, Default)]
+pub struct RawWhatIf {
+    pub id: Option<S<String>>,
+    pub title: Option<S<String>>,
+    pub note: Option<S<String>>,
+    /// Services it is meant for (all when absent).
+    pub services: Option<S<Vec<S<String>>>>,
+    #[serde(default)]
+    pub set_material: Vec<S<RawSetMaterial>>,
+    pub remove_walls: Option<S<Vec<S<String>>>>,
+    #[serde(default)]
+    pub set_power: Vec<S<RawSetPower>>,
+    #[serde(default)]
+    pub add_transmitters: Vec<S<RawTransmitter>>,
+}
+
+/// `set_material = [{ walls = [...], material = "...", thickness = ... }]`
+#[derive(Debug, Deserialize, Default)]
+pub struct RawSetMaterial {
+    pub walls: Option<S<Vec<S<String>>>>,
+    pub material: Option<S<String>>,
+    pub thickness: Option<S<f64>>,
+}
+
+/// `set_power = [{ transmitter = "...", power_dbm = ... }]`
+#[derive(Debug, Deserialize, Default)]
+pub struct RawSetPower {
+    pub transmitter: Option<S<String>>,
+    pub power_dbm: Option<S<f64>>,
 }

@@ -309,7 +309,7 @@ pub enum Pattern {
 }
 
 /// A transmitter (antenna) inside the building.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Transmitter {
     /// Id.
     pub id: String,
@@ -428,6 +428,8 @@ pub struct Site {
     pub plugin_options: std::collections::BTreeMap<String, toml::Table>,
     /// Warnings found while validating (as text), for the report.
     pub load_warnings: Vec<String>,
+    /// `[[what_if]]` options, in file order.
+    pub what_ifs: Vec<crate::whatif::WhatIf>,
 }
 
 impl Site {

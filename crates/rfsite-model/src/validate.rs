@@ -11,6 +11,10 @@ use crate::material::{Material, MaterialClass, MaterialLibrary, MaterialModel};
 use crate::raw::*;
 use crate::site::*;
 
+mod refs;
+mod whatif;
+use refs::{floor_ref, service_ref, transmitter, Names};
+
 /// Result of loading: the site when there were no errors, and every diagnostic.
 #[derive(Debug)]
 pub struct Loaded {
@@ -1490,38 +1494,9 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     }
     storey_warnings(v, &raw.floors, &floors);
     let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();
-    let floor_of =
-        |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| -> Option<usize> {
-            match fid {
-                Some(f) => match floor_names.iter().position(|x| x == f.get_ref()) {
-                    Some(i) => Some(i),
-                    None => {
-                        let hint = unknown_name_hint(
-                            "floor",
-                            f.get_ref(),
-                            floor_names.iter().map(String::as_str),
-                        );
-                        v.error(
-                            f.span(),
-                            format!("{what} is on floor `{}`, which does not exist", f.get_ref()),
-                            Some(hint),
-                        );
-                        None
-                    }
-                },
-                None => {
-                    v.error(
-                        span,
-                        format!("{what} is missing `floor`"),
-                        Some(format!(
-                            "add `floor = \"{}\"`",
-                            floor_names.first().map(String::as_str).unwrap_or("L1")
-                        )),
-                    );
-                    None
-                }
-            }
-        };
+    let floor_of = |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| {
+        floor_ref(v, &floor_names, fid, span, what)
+    };
 
     // ---- openings grouped by wall id (opening and donor ids are optional)
     let mut seen = BTreeSet::new();
@@ -1932,140 +1907,22 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         });
     }
     let svc_names: Vec<String> = services.iter().map(|s| s.id.clone()).collect();
-    let service_of = |v: &mut V<'_>,
-                      sid: &Option<S<String>>,
-                      span: Range<usize>,
-                      what: &str|
-     -> Option<String> {
-        match sid {
-            Some(s) if svc_names.contains(s.get_ref()) => Some(s.get_ref().clone()),
-            Some(s) => {
-                let hint =
-                    unknown_name_hint("service", s.get_ref(), svc_names.iter().map(String::as_str));
-                v.error(
-                    s.span(),
-                    format!(
-                        "{what} names service `{}`, which does not exist",
-                        s.get_ref()
-                    ),
-                    Some(hint),
-                );
-                None
-            }
-            None => {
-                v.error(span, format!("{what} is missing `service`"), None);
-                None
-            }
-        }
+    let service_of = |v: &mut V<'_>, sid: &Option<S<String>>, span: Range<usize>, what: &str| {
+        service_ref(v, &svc_names, sid, span, what)
     };
 
     // ---- transmitters
     let mut transmitters = Vec::new();
     let mut tx_ids = BTreeSet::new();
     for rt in &raw.transmitters {
-        let span = rt.span();
-        let t = rt.get_ref();
-        let Some(idv) = &t.id else {
-            v.error(span, "`[[transmitters]]` entry is missing `id`", None);
-            continue;
-        };
-        v.unique(&mut tx_ids, idv, "transmitter");
-        let what = format!("transmitter `{}`", idv.get_ref());
-        let svc = service_of(v, &t.service, span.clone(), &what);
-        let fi = floor_of(v, &t.floor, span.clone(), &what);
-        let pos = match &t.position {
-            Some(p) => v.point(p),
-            None => {
-                v.error(
-                    span.clone(),
-                    format!("{what} is missing `position`"),
-                    Some("add `position = [x, y]` in site units".into()),
-                );
-                None
-            }
-        };
-        let height_m = match &t.height {
-            Some(h) => v.length(h, "height", true),
-            None => Some(2.7),
-        };
-        let power = v
-            .req(
-                &t.power_dbm,
-                span.clone(),
-                &what,
-                "power_dbm",
-                "add the conducted power, e.g. `power_dbm = 15.0`",
-            )
-            .copied();
-        let mut loss = |x: &Option<S<f64>>, name: &str| -> f64 {
-            match x {
-                Some(l) if *l.get_ref() < 0.0 => {
-                    v.error(
-                        l.span(),
-                        format!("`{name}` is a loss and cannot be negative"),
-                        Some("write the loss as a positive number of dB".into()),
-                    );
-                    0.0
-                }
-                Some(l) => *l.get_ref(),
-                None => 0.0,
-            }
-        };
-        let cable = loss(&t.cable_loss_db, "cable_loss_db");
-        let conn = loss(&t.connector_loss_db, "connector_loss_db");
-        let gain = t
-            .antenna_gain_dbi
-            .as_ref()
-            .map(|g| *g.get_ref())
-            .unwrap_or(0.0);
-        let pattern = match t.pattern.as_ref().map(|p| (p.get_ref().as_str(), p.span())) {
-            None | Some(("omni-ceiling", _)) => Pattern::OmniCeiling,
-            Some(("isotropic", _)) => Pattern::Isotropic,
-            Some(("sector", _)) => Pattern::Sector {
-                azimuth_deg: t.azimuth_deg.as_ref().map(|a| *a.get_ref()).unwrap_or(0.0),
-                downtilt_deg: t.downtilt_deg.as_ref().map(|a| *a.get_ref()).unwrap_or(0.0),
-            },
-            Some((other, sp)) => {
-                v.error(
-                    sp,
-                    format!("unknown antenna pattern `{other}`"),
-                    Some("write `omni-ceiling`, `sector` or `isotropic`".into()),
-                );
-                Pattern::Isotropic
-            }
-        };
-        if let (Some(fi), Some(p)) = (fi, pos) {
-            if !floors[fi].outline.is_empty()
-                && !rfsite_geometry::point_in_polygon(p, &floors[fi].outline)
-            {
-                if let Some(ps) = &t.position {
-                    v.warn(
-                        ps.span(),
-                        format!(
-                            "{what} lies outside the outline of floor `{}`",
-                            floors[fi].id
-                        ),
-                        Some("check the coordinates and the floor".into()),
-                    );
-                }
-            }
+        if let Some(idv) = &rt.get_ref().id {
+            v.unique(&mut tx_ids, idv, "transmitter");
         }
-        if let (Some(svc), Some(fi), Some(position), Some(height_m), Some(power_dbm)) =
-            (svc, fi, pos, height_m, power)
-        {
-            transmitters.push(Transmitter {
-                id: idv.get_ref().clone(),
-                service: svc,
-                floor: floors[fi].id.clone(),
-                position,
-                height_m,
-                power_dbm,
-                cable_loss_db: cable,
-                connector_loss_db: conn,
-                antenna_gain_dbi: gain,
-                pattern,
-            });
-        }
+        let names = Names {
+            floors: &floor_names,
+            services: &svc_names,
+        };
+        transmitters.extend(transmitter(v, rt, &floors, &names));
     }
 
     // ---- donors
@@ -2273,6 +2130,18 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         }
     }
 
+    // ---- what-if options
+    let known = whatif::Known {
+        names: Names {
+            floors: &floor_names,
+            services: &svc_names,
+        },
+        floors: &floors,
+        transmitters: &transmitters,
+        library: &lib,
+    };
+    let what_ifs = whatif::what_ifs(v, &raw.what_if, &known);
+
     // ---- plugin tables
     let mut plugin_options = BTreeMap::new();
     if let Some(p) = &raw.plugins {
@@ -2318,6 +2187,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         materials_used: used_materials.into_iter().collect(),
         plugin_options,
         load_warnings,
+        what_ifs,
     })
 }
 

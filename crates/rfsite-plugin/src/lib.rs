@@ -255,7 +255,7 @@ pub struct ServiceResult {
 }
 
 /// One remediation option.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq)]
 pub struct Remediation {
     /// Id, e.g. `indoor-antennas-L2-ps700`.
     pub id: String,
@@ -275,6 +275,183 @@ pub struct Remediation {
     pub caveats: Vec<String>,
     /// Plugin that proposed it.
     pub plugin: String,
+    /// Changes to walls and transmitters the option makes (besides `antennas`).
+    #[serde(default)]
+    pub changes: Vec<Change>,
+    /// Antennas the option adds, with the keys of `[[transmitters]]` (site units), so that
+    /// pasting them into the site reproduces the option.
+    #[serde(default)]
+    pub antennas: Vec<DesignedAntenna>,
+    /// How each added antenna is fed, and the head end's power.
+    #[serde(default)]
+    pub distribution: Option<Distribution>,
+    /// Bill of quantities.
+    #[serde(default)]
+    pub quantities: Vec<Quantity>,
+    /// The option predicted and graded: filled by the engine for every option with changes.
+    #[serde(default)]
+    pub after: Option<After>,
+    /// The option rfsite recommends for its service.
+    #[serde(default)]
+    pub recommended: bool,
+    /// The graded layers of the changed site (for the report's maps; not in findings.json).
+    #[serde(skip)]
+    pub after_layers: Vec<CoverageLayer>,
+}
+
+/// A change to the site, in the wire's units (metres, dBm).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[serde(tag = "kind", rename_all = "kebab-case")]
+pub enum Change {
+    /// Wall parts (walls or openings) get another material.
+    SetMaterial {
+        /// Wall or opening ids.
+        walls: Vec<String>,
+        /// Material id.
+        material: String,
+        /// New thickness, m.
+        #[serde(default)]
+        thickness_m: Option<f64>,
+    },
+    /// Wall parts are taken out.
+    RemoveWalls {
+        /// Wall or opening ids.
+        walls: Vec<String>,
+    },
+    /// A transmitter's conducted power changes.
+    SetPower {
+        /// Transmitter id.
+        transmitter: String,
+        /// Conducted power, dBm.
+        power_dbm: f64,
+    },
+}
+
+/// An antenna an option adds: the keys of `[[transmitters]]`, lengths in site units.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct DesignedAntenna {
+    /// Id.
+    pub id: String,
+    /// Service id.
+    pub service: String,
+    /// Floor id.
+    pub floor: String,
+    /// Plan position, site units.
+    pub position: [f64; 2],
+    /// Height above the floor, site units.
+    pub height: f64,
+    /// Conducted power at the source, dBm.
+    pub power_dbm: f64,
+    /// Cable loss, dB.
+    pub cable_loss_db: f64,
+    /// Connector loss, dB.
+    pub connector_loss_db: f64,
+    /// Antenna gain, dBi.
+    pub antenna_gain_dbi: f64,
+    /// `omni-ceiling`, `sector` or `isotropic`.
+    pub pattern: String,
+    /// Sector azimuth, degrees.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub azimuth_deg: Option<f64>,
+    /// Sector downtilt, degrees.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub downtilt_deg: Option<f64>,
+}
+
+/// One antenna's feed from the head end.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FeedLine {
+    /// Antenna id.
+    pub antenna: String,
+    /// Floor id.
+    pub floor: String,
+    /// Cable on the floor, m (rectilinear route plus slack).
+    pub horizontal_m: f64,
+    /// Riser cable, m.
+    pub riser_m: f64,
+    /// Cable loss, dB.
+    pub cable_db: f64,
+    /// Splitter losses on the way, dB.
+    pub splitter_db: f64,
+    /// Connector losses, dB.
+    pub connector_db: f64,
+    /// Head-end port to antenna port, dB.
+    pub total_db: f64,
+    /// Power per channel at the antenna port, dBm.
+    pub port_dbm: f64,
+    /// EIRP per channel, dBm.
+    pub eirp_dbm: f64,
+    /// How to mount it (offset from a reflecting surface), if it matters.
+    #[serde(default)]
+    pub mounting: String,
+}
+
+/// The head end's power for one option.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Distribution {
+    /// Head-end floor and position (site units).
+    pub head_end_floor: String,
+    /// Head-end position, site units.
+    pub head_end_position: [f64; 2],
+    /// Feeder cable id and name.
+    pub cable: String,
+    /// Frequency the losses are taken at, MHz.
+    pub freq_mhz: f64,
+    /// Channels carried.
+    pub channels: u32,
+    /// Output per channel the head end must deliver, dBm.
+    pub per_channel_dbm: f64,
+    /// Composite output, dBm (per channel + 10 log10 channels).
+    pub composite_dbm: f64,
+    /// Back-off from the rated composite, dB.
+    pub back_off_db: f64,
+    /// Rated composite output of the head end, dBm.
+    pub max_composite_dbm: f64,
+    /// Rated composite − back-off − composite, dB (negative: the limit is exceeded).
+    pub margin_db: f64,
+    /// The equipment limit is exceeded.
+    pub exceeded: bool,
+    /// Per antenna.
+    pub feeds: Vec<FeedLine>,
+}
+
+/// One line of a bill of quantities.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Quantity {
+    /// Item.
+    pub item: String,
+    /// Unit.
+    pub unit: String,
+    /// Quantity.
+    pub quantity: f64,
+    /// Note.
+    pub note: String,
+}
+
+/// An option predicted and graded like the site itself.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct After {
+    /// Per service, shaped like the top-level `services`.
+    pub services: Vec<ServiceResult>,
+    /// Every graded floor of the services the option is for passes.
+    pub passes: bool,
+    /// What happens to each finding of the graded services.
+    #[serde(default)]
+    pub findings: Vec<FindingChange>,
+}
+
+/// A finding before and after an option.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FindingChange {
+    /// Finding id.
+    pub id: String,
+    /// Severity today (`None`: new with the option).
+    pub before: Option<Severity>,
+    /// Severity with the option (`None`: resolved).
+    pub after: Option<Severity>,
+    /// Why, in words.
+    #[serde(default)]
+    pub note: String,
 }
 
 /// A safety or compliance caution.
@@ -477,6 +654,9 @@ pub struct Context<'a> {
     pub earlier: &'a [(String, PluginOutput)],
     /// Survey measurements.
     pub surveys: &'a SurveyData,
+    /// In an option's re-run: the outputs of the run on the site as it is (a calibration,
+    /// say, keeps the values fitted there). `None` in the site's own run.
+    pub base: Option<&'a [(String, PluginOutput)]>,
 }
 
 impl<'a> Context<'a> {
@@ -557,6 +737,11 @@ pub trait Plugin: Send + Sync {
     /// has no earlier outputs). Must reject everything `run` would reject as bad input.
     fn check(&self, _ctx: &Context<'_>) -> Vec<InputProblem> {
         Vec::new()
+    }
+    /// Whether it runs again on each option's changed site (the prediction and grading
+    /// chain); the rest run once, on the site as it is.
+    fn reruns_for_options(&self) -> bool {
+        false
     }
     /// Runs it.
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError>;

@@ -74,6 +74,7 @@ fn run_with(site: &Site, options: &toml::Table) -> Result<PluginOutput, PluginEr
         options,
         earlier: &[],
         surveys: &surveys,
+        base: None,
     })
 }
 

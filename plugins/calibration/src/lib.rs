@@ -367,6 +367,9 @@ fn fit_service(
 }
 
 impl Plugin for Calibration {
+    fn reruns_for_options(&self) -> bool {
+        true
+    }
     fn id(&self) -> &str {
         "calibration"
     }
@@ -402,6 +405,9 @@ impl Plugin for Calibration {
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
+        if let Some(base) = ctx.base {
+            return Ok(frozen(site, base));
+        }
         let mut out = PluginOutput::default();
         let options::CalOptions {
             terms,
@@ -464,15 +470,45 @@ impl Plugin for Calibration {
     }
 }
 
-/// Re-predicts every layer with the fitted values, as model `calibrated`.
-fn apply_fits(site: &Site, fits: &[ServiceFit]) -> Vec<CoverageLayer> {
+/// The fitted values per service: (service id, [(term, value)]).
+pub type Fitted = Vec<(String, Vec<(Term, f64)>)>;
+
+/// The values a calibration run fitted, read back from its output (`extra.services`);
+/// empty when it did not apply them.
+pub fn fitted_values(out: &PluginOutput) -> Fitted {
+    if out.extra.get("applied") != Some(&serde_json::Value::Bool(true)) {
+        return Vec::new();
+    }
+    let Some(services) = out.extra.get("services").and_then(|v| v.as_array()) else {
+        return Vec::new();
+    };
+    services.iter().filter_map(service_values).collect()
+}
+
+fn service_values(v: &serde_json::Value) -> Option<(String, Vec<(Term, f64)>)> {
+    let service = v.get("service")?.as_str()?.to_string();
+    let terms = v
+        .get("parameters")?
+        .as_array()?
+        .iter()
+        .filter_map(|p| {
+            let t = Term::parse(p.get("name")?.as_str()?)?;
+            Some((t, p.get("value")?.as_f64()?))
+        })
+        .collect();
+    Some((service, terms))
+}
+
+/// The calibrated model: the multi-wall scene with the fitted material changes, and per
+/// service index the fitted (offset, distance-exponent change).
+pub fn calibrated_model(site: &Site, fitted: &Fitted) -> (Scene, Vec<(f64, f64)>) {
     let mut scene = scene_for(site);
     let mut st = vec![(0.0, 0.0); site.services.len()];
-    for f in fits {
-        let Some(si) = site.services.iter().position(|s| s.id == f.service) else {
+    for (service, terms) in fitted {
+        let Some(si) = site.services.iter().position(|s| &s.id == service) else {
             continue;
         };
-        for (t, v) in f.terms.iter().zip(&f.values) {
+        for (t, v) in terms {
             match t {
                 Term::Offset => st[si].0 = *v,
                 Term::DistanceExponent => st[si].1 = *v,
@@ -480,8 +516,52 @@ fn apply_fits(site: &Site, fits: &[ServiceFit]) -> Vec<CoverageLayer> {
             }
         }
     }
+    (scene, st)
+}
+
+/// The extra loss of the calibrated model on a path of service `si` and length `d` m.
+pub fn calibrated_adjust(st: &[(f64, f64)], si: usize, d: f64) -> f64 {
+    let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
+    -o + dn * 10.0 * d.log10()
+}
+
+/// Re-predicts every layer with fitted values, as model `calibrated`.
+fn apply_values(site: &Site, fitted: &Fitted) -> Vec<CoverageLayer> {
+    let (scene, st) = calibrated_model(site, fitted);
     rfsite_plugin_multi_wall::predict_grid_adjusted(site, "calibrated", &scene, &|si, d| {
-        let (o, dn) = st.get(si).copied().unwrap_or((0.0, 0.0));
-        -o + dn * 10.0 * d.log10()
+        calibrated_adjust(&st, si, d)
     })
+}
+
+/// In an option's re-run: the values fitted on the site as it is, applied to the changed
+/// site (nothing when the site's own run did not apply a calibration).
+fn frozen(site: &Site, base: &[(String, PluginOutput)]) -> PluginOutput {
+    let fitted = base
+        .iter()
+        .find(|(id, _)| id == "calibration")
+        .map(|(_, o)| fitted_values(o))
+        .unwrap_or_default();
+    let mut out = PluginOutput::default();
+    if !fitted.is_empty() {
+        out.layers = apply_values(site, &fitted);
+    }
+    out
+}
+
+/// Re-predicts every layer with the fitted values, as model `calibrated`.
+fn apply_fits(site: &Site, fits: &[ServiceFit]) -> Vec<CoverageLayer> {
+    let fitted: Fitted = fits
+        .iter()
+        .map(|f| {
+            (
+                f.service.clone(),
+                f.terms
+                    .iter()
+                    .cloned()
+                    .zip(f.values.iter().copied())
+                    .collect(),
+            )
+        })
+        .collect();
+    apply_values(site, &fitted)
 }

@@ -75,6 +75,7 @@ fn run(surveys: &SurveyData) -> PluginOutput {
         options: &site.plugin_options["calibration"],
         earlier: &earlier,
         surveys,
+        base: None,
     };
     Calibration.run(&ctx).expect("runs")
 }

@@ -177,6 +177,9 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
 pub struct FreeSpace;
 
 impl Plugin for FreeSpace {
+    fn reruns_for_options(&self) -> bool {
+        true
+    }
     fn id(&self) -> &str {
         "free-space"
     }

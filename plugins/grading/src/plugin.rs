@@ -195,6 +195,9 @@ fn yes_no(x: Option<bool>) -> String {
 }
 
 impl Plugin for Grading {
+    fn reruns_for_options(&self) -> bool {
+        true
+    }
     fn id(&self) -> &str {
         "grading"
     }

@@ -107,9 +107,10 @@ impl Plugin for LinkBudgetPlugin {
                     out.findings.push(e.passing());
                     continue;
                 }
-                let rid = format!("indoor-antennas-{}-{}", svc.id, floor.id);
-                out.findings.push(e.failing(&worst, &rid));
-                out.remediation.push(e.remediation(rid));
+                // The engine lists, per finding, the options whose prediction resolves it.
+                out.findings.push(e.failing(&worst));
+                out.remediation
+                    .extend(e.remediation(format!("raise-power-{}-{}", svc.id, floor.id)));
             }
             if let Some(rep) = repeater_option(site, svc, r) {
                 out.remediation.push(rep);
@@ -221,7 +222,7 @@ impl Explain<'_> {
             .any(|r| r.criterion.starts_with("critical") || r.criterion == "measured-critical")
     }
 
-    fn failing(&self, worst: &[WorstPoint], rid: &str) -> Finding {
+    fn failing(&self, worst: &[WorstPoint]) -> Finding {
         let fr = self.fr;
         let severity = if self.svc.life_safety || self.critical_fails() {
             Severity::Critical
@@ -278,58 +279,45 @@ impl Explain<'_> {
             shortfall_db: short.is_finite().then_some(short),
             location_m: wp.map(|w| w.point_m),
             causes,
-            remedies: vec![rid.to_string()],
+            remedies: Vec::new(),
         }
     }
 
-    fn remediation(&self, rid: String) -> Remediation {
+    /// Where a small shortfall meets antennas already on the floor: their power raised by
+    /// the margin the floor needs (rounded up to 0.5 dB, plus 0.5 dB), as an option the
+    /// engine predicts and grades like any other. `None` otherwise: the antenna designer
+    /// and the user's what-if options cover the rest.
+    fn remediation(&self, rid: String) -> Option<Remediation> {
         let (site, svc, fr) = (self.site, self.svc, self.fr);
-        let thr = self.r.required.predicted_dbm;
-        let floor = site.floor(&fr.id);
-        let on_floor = site
+        let on_floor: Vec<&rfsite_model::Transmitter> = site
             .transmitters
             .iter()
             .filter(|t| t.service == svc.id && t.floor == fr.id)
-            .count();
-        let area = floor.map(|f| f.area_m2()).unwrap_or(0.0);
-        // Coverage radius of a typical indoor antenna (15 dBm EIRP) with 15 dB of clutter
-        // loss beyond free space (common practice planning figure).
-        let allowed = 15.0 - thr - 15.0;
-        let r = 10f64
-            .powf((allowed - fspl::fspl_db(svc.freq_mhz, 1.0)) / 20.0)
-            .clamp(3.0, 60.0);
-        let failing = (1.0 - fr.predicted_area_fraction).max(0.0) * area;
-        let n_new = ((failing / (std::f64::consts::PI * r * r * 0.6)).ceil() as usize).max(1);
-        let needed = if fr.margin_needed_db < 999.0 {
-            format!("{} dB", fmt1(fr.margin_needed_db))
-        } else {
-            "a new signal source".into()
-        };
-        let (title, detail) = if fr.margin_needed_db <= 6.0 && on_floor > 0 {
-            (
-                format!("Raise the EIRP or add one antenna on {} for {}", self.floor_name, svc.name),
-                format!("The floor needs about {needed} more at the required level. Raising the feed power of the {on_floor} antenna(s) on this floor by that much, or adding one antenna near the weakest area, is expected to close the gap."),
-            )
-        } else {
-            (
-                format!("Add about {n_new} indoor antenna(s) on {} for {}", self.floor_name, svc.name),
-                format!(
-                    "About {failing:.0} m² of the floor is below the required level, by up to {needed}. With a typical 15 dBm EIRP ceiling antenna reaching about {r:.0} m through partitions at {} MHz, roughly {n_new} more antenna(s) on a distributed antenna system, placed in the failing areas and on the far side of cores and coated glazing, are needed.",
-                    fmt1(svc.freq_mhz)
-                ),
-            )
-        };
-        Remediation {
+            .collect();
+        if fr.margin_needed_db > 6.0 || on_floor.is_empty() {
+            return None;
+        }
+        let raise = (fr.margin_needed_db * 2.0).ceil() / 2.0 + 0.5;
+        let changes = on_floor
+            .iter()
+            .map(|t| Change::SetPower {
+                transmitter: t.id.clone(),
+                power_dbm: t.power_dbm + raise,
+            })
+            .collect();
+        Some(Remediation {
             id: rid,
-            title,
+            title: format!("Raise the power of the {} antenna(s) on {} for {} by {} dB", on_floor.len(), self.floor_name, svc.name, fmt1(raise)),
             service: Some(svc.id.clone()),
             floors: vec![fr.id.clone()],
-            detail,
+            detail: format!("The floor needs about {} dB more at the required level; the antennas already on it are raised by {} dB.", fmt1(fr.margin_needed_db), fmt1(raise)),
             margin_needed_db: fr.margin_needed_db,
-            expected: format!("general and critical areas, and every critical zone, to their targets ({:.0} % / {:.0} %) at the required {:.1} dBm", 100.0 * self.r.target_general, 100.0 * self.r.target_critical, thr),
-            caveats: vec!["rule-based estimate: confirm with a revised prediction and an acceptance survey".into()],
+            expected: String::new(),
+            caveats: vec!["the raised power must stay within the head end's rating and the licence; check the uplink balance as well".into()],
             plugin: "link-budget".into(),
-        }
+            changes,
+            ..Default::default()
+        })
     }
 }
 
@@ -414,6 +402,7 @@ fn repeater_option(site: &Site, svc: &Service, r: &ServiceResult) -> Option<Reme
             "retransmitting a licensee's signal needs the licensee's consent and the regulator's rules for signal boosters".into(),
         ],
         plugin: "link-budget".into(),
+        ..Default::default()
     })
 }
 

@@ -574,6 +574,9 @@ fn options(ctx: &Context<'_>) -> Result<Options, PluginError> {
 }
 
 impl Plugin for MultiWall {
+    fn reruns_for_options(&self) -> bool {
+        true
+    }
     fn id(&self) -> &str {
         "multi-wall"
     }

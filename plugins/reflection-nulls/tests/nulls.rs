@@ -64,6 +64,7 @@ fn run_with(
         options,
         earlier: &[],
         surveys,
+        base: None,
     };
     ReflectionNulls.run(&ctx)
 }
