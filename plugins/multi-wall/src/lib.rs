@@ -12,9 +12,9 @@
 
 use rayon::prelude::*;
 use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
-use rfsite_geometry::{Crossing, Point2, Scratch, Segment, WallIndex};
+use rfsite_geometry::{Crossing, Grid, Point2, Scratch, Segment, WallIndex};
 use rfsite_model::{Combine, CrossingLossFn};
-use rfsite_model::{MaterialClass, Site, ZoneKind};
+use rfsite_model::{MaterialClass, Site, Transmitter, ZoneKind};
 use rfsite_physics::cost231;
 use rfsite_physics::fspl;
 use rfsite_physics::p2040::Polarization;
@@ -697,188 +697,389 @@ pub fn predict_grid_adjusted(
 ) -> Vec<CoverageLayer> {
     let mut layers = Vec::new();
     for (si, svc) in site.services.iter().enumerate() {
-        let txs: Vec<(&rfsite_model::Transmitter, usize, P3)> = site
+        // The service's transmitters on a known floor, in site order: the server order.
+        let txs: Vec<&Transmitter> = site
             .transmitters
             .iter()
-            .filter(|t| t.service == svc.id)
-            .filter_map(|t| {
-                let fi = site.floor_index(&t.floor)?;
-                Some((
-                    t,
-                    fi,
-                    P3 {
-                        p: t.position,
-                        z: site.floors[fi].elevation_m + t.height_m,
-                    },
-                ))
-            })
-            .collect();
-        // Per floor: constant losses and the angle-dependent mask for this service.
-        let losses = &scene.losses[si];
-        let consts: Vec<Vec<f32>> = losses
-            .parts
-            .iter()
-            .map(|ks| {
-                ks.iter()
-                    .map(|&k| losses.kinds[k].constant_db().unwrap_or(0.0) as f32)
-                    .collect()
-            })
-            .collect();
-        let masks: Vec<Vec<bool>> = losses
-            .parts
-            .iter()
-            .map(|ks| {
-                ks.iter()
-                    .map(|&k| losses.kinds[k].constant_db().is_none())
-                    .collect()
-            })
+            .filter(|t| t.service == svc.id && site.floor_index(&t.floor).is_some())
             .collect();
         for (fi, floor) in site.floors.iter().enumerate() {
-            let grid = floor_grid(site, fi);
-            let n = grid.len();
-            let rz = floor.elevation_m + site.prediction.receiver_height_m;
-            let inside: Vec<bool> = (0..n)
-                .into_par_iter()
-                .map(|i| rfsite_geometry::point_in_polygon(grid.point(i), &floor.outline))
-                .collect();
-            // Free-space level and floor loss of a path (walls only take away).
-            let base =
-                |t: &rfsite_model::Transmitter, tfi: usize, t3: P3, i: usize| -> (f64, f64) {
-                    let p = grid.point(i);
-                    let rx = P3 { p, z: rz };
-                    let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2))
-                        .sqrt()
-                        .max(MIN_DISTANCE_M);
-                    let free = t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
-                        - fspl::fspl_db(svc.freq_mhz, d)
-                        - adjust(si, d);
-                    (free, scene.floor_db(si, t3, tfi, rx, fi).1)
-                };
-            // The level given the path's wall loss: its walls and floors at most the cap.
-            let level = |(free, floor): (f64, f64), walls: f64| -> f64 {
-                free - scene.capped_excess_db(floor + walls)
-            };
-            // Same-floor transmitters: whole-grid shadows (exact, rfsite-geometry tests).
-            let same: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 == fi).collect();
-            let mut per_tx: Vec<Vec<f32>> = vec![Vec::new(); txs.len()];
-            let same_levels: Vec<(usize, Vec<f32>)> = same
-                .par_iter()
-                .map_init(
-                    || (ShadowScratch::default(), vec![0f32; n]),
-                    |(sc, loss), &k| {
-                        let (t, tfi, t3) = txs[k];
-                        loss.iter_mut().for_each(|x| *x = 0.0);
-                        let f = |w: usize, c: f64| losses.part(fi, w).eval(c) as f32;
-                        let wl = WallLosses {
-                            constant_db: &consts[fi],
-                            by_angle: if masks[fi].iter().any(|m| *m) {
-                                Some((&masks[fi][..], &f))
-                            } else {
-                                None
-                            },
-                        };
-                        accumulate_path_part(
-                            t3.p,
-                            &grid,
-                            scene.floors[fi].index.walls(),
-                            &wl,
-                            (0.0, 1.0),
-                            loss,
-                            sc,
-                        );
-                        let lv = (0..n)
-                            .map(|i| {
-                                if inside[i] {
-                                    level(base(t, tfi, t3, i), loss[i] as f64) as f32
-                                } else {
-                                    f32::NAN
-                                }
-                            })
-                            .collect();
-                        (k, lv)
-                    },
-                )
-                .collect();
-            let mut best_so_far = vec![f32::NEG_INFINITY; n];
-            for (k, lv) in same_levels {
-                for i in 0..n {
-                    if lv[i] > best_so_far[i] {
-                        best_so_far[i] = lv[i];
-                    }
-                }
-                per_tx[k] = lv;
-            }
-            // Other floors: per ray. With the strongest-server rule a transmitter whose
-            // wall-free bound cannot beat the same-floor best at a point cannot serve it,
-            // so its walls are not traced there (exact for the output).
-            let strongest = site.prediction.combine == Combine::Strongest;
-            let other: Vec<usize> = (0..txs.len()).filter(|k| txs[*k].1 != fi).collect();
-            let other_levels: Vec<(usize, Vec<f32>)> = other
-                .par_iter()
-                .map_init(
-                    || scene.scratch(),
-                    |sc, &k| {
-                        let (t, tfi, t3) = txs[k];
-                        let lv = (0..n)
-                            .map(|i| {
-                                if !inside[i] {
-                                    return f32::NAN;
-                                }
-                                let b = base(t, tfi, t3, i);
-                                let ub = level(b, 0.0);
-                                if strongest && (ub as f32) <= best_so_far[i] {
-                                    return f32::NEG_INFINITY;
-                                }
-                                let rx = P3 {
-                                    p: grid.point(i),
-                                    z: rz,
-                                };
-                                let walls = scene.walls_db(sc, si, t3, tfi, rx, fi);
-                                level(b, walls) as f32
-                            })
-                            .collect();
-                        (k, lv)
-                    },
-                )
-                .collect();
-            for (k, lv) in other_levels {
-                per_tx[k] = lv;
-            }
-            let mut level_dbm = vec![f32::NAN; n];
-            let mut best_server = vec![u16::MAX; n];
-            if !txs.is_empty() {
-                for i in 0..n {
-                    if !inside[i] {
-                        continue;
-                    }
-                    let mut best = f64::NEG_INFINITY;
-                    let mut bi = u16::MAX;
-                    let mut sum_mw = 0.0;
-                    for (k, lv) in per_tx.iter().enumerate() {
-                        let l = lv[i] as f64;
-                        if l > best {
-                            best = l;
-                            bi = k as u16;
-                        }
-                        sum_mw += 10f64.powf(l / 10.0);
-                    }
-                    level_dbm[i] = match site.prediction.combine {
-                        Combine::Strongest => best as f32,
-                        Combine::PowerSum => (10.0 * sum_mw.log10()) as f32,
-                    };
-                    best_server[i] = bi;
-                }
-            }
+            let fp = FloorPredictor::new(site, scene, si, fi, adjust);
+            let (level_dbm, best_server) = floor_levels(&fp, &txs);
             layers.push(CoverageLayer {
                 floor: floor.id.clone(),
                 service: svc.id.clone(),
                 model: model.to_string(),
-                grid: GridSpec::from_grid(&grid),
+                grid: GridSpec::from_grid(fp.grid()),
                 level_dbm,
                 best_server,
-                servers: txs.iter().map(|(t, _, _)| t.id.clone()).collect(),
+                servers: txs.iter().map(|t| t.id.clone()).collect(),
             });
         }
     }
     layers
+}
+
+/// Combined level and best server (index into `txs`) at every point of the predictor's
+/// floor; NaN and no server outside the outline and where there is no transmitter.
+fn floor_levels(fp: &FloorPredictor<'_>, txs: &[&Transmitter]) -> (Vec<f32>, Vec<u16>) {
+    let n = fp.grid().len();
+    if txs.is_empty() {
+        return (vec![f32::NAN; n], vec![u16::MAX; n]);
+    }
+    let combine = fp.site.prediction.combine;
+    let per_tx = levels_of_all(fp, txs, combine == Combine::Strongest);
+    let mut level_dbm = vec![f32::NAN; n];
+    let mut best_server = vec![u16::MAX; n];
+    let points = level_dbm.iter_mut().zip(best_server.iter_mut());
+    for (i, (level, server)) in points.enumerate() {
+        if fp.inside().get(i) == Some(&true) {
+            (*level, *server) = combine_at(combine, &per_tx, i);
+        }
+    }
+    (level_dbm, best_server)
+}
+
+/// The level of point `i` from the levels of each transmitter: the strongest server's, or
+/// the non-coherent power sum of all (10 log10 of the sum of the levels in mW); and the
+/// strongest server (the first of equals).
+fn combine_at(combine: Combine, per_tx: &[Vec<f32>], i: usize) -> (f32, u16) {
+    let mut best = f64::NEG_INFINITY;
+    let mut bi = u16::MAX;
+    let mut sum_mw = 0.0;
+    for (k, lv) in per_tx.iter().enumerate() {
+        let l = lv.get(i).map_or(f64::NEG_INFINITY, |&x| x as f64);
+        if l > best {
+            best = l;
+            bi = k as u16;
+        }
+        sum_mw += 10f64.powf(l / 10.0);
+    }
+    let level = match combine {
+        Combine::Strongest => best as f32,
+        Combine::PowerSum => (10.0 * sum_mw.log10()) as f32,
+    };
+    (level, bi)
+}
+
+/// The levels of every transmitter of `txs` on the predictor's floor, in the order of
+/// `txs`: the same-floor ones first, then the others, with the strongest-server rule
+/// (`strongest`) bounded by the best same-floor level, which is exact for the combined
+/// level and server. Each transmitter's levels depend on it and on the bound only, so the
+/// result does not depend on how the threads are scheduled.
+fn levels_of_all(fp: &FloorPredictor<'_>, txs: &[&Transmitter], strongest: bool) -> Vec<Vec<f32>> {
+    let (same, other): (Vec<usize>, Vec<usize>) = (0..txs.len())
+        .partition(|&k| txs.get(k).and_then(|t| fp.site.floor_index(&t.floor)) == Some(fp.floor));
+    let mut per_tx = vec![Vec::new(); txs.len()];
+    let mut best = vec![f32::NEG_INFINITY; fp.grid().len()];
+    for (&k, lv) in same.iter().zip(par_levels(fp, txs, &same, None)) {
+        for (b, l) in best.iter_mut().zip(&lv) {
+            if *l > *b {
+                *b = *l;
+            }
+        }
+        per_tx[k] = lv;
+    }
+    let bound = strongest.then_some(&best[..]);
+    for (&k, lv) in other.iter().zip(par_levels(fp, txs, &other, bound)) {
+        per_tx[k] = lv;
+    }
+    per_tx
+}
+
+/// The levels of the transmitters `txs[k]` for each `k` of `ks`, in the order of `ks`,
+/// computed in parallel.
+fn par_levels(
+    fp: &FloorPredictor<'_>,
+    txs: &[&Transmitter],
+    ks: &[usize],
+    bound: Option<&[f32]>,
+) -> Vec<Vec<f32>> {
+    ks.par_iter()
+        .map_init(FloorScratch::new, |sc, &k| match txs.get(k) {
+            Some(t) => fp.levels_with(t, bound, sc),
+            None => Vec::new(),
+        })
+        .collect()
+}
+
+/// Reusable buffers for [`FloorPredictor::levels_with`]. Their contents never change the
+/// levels.
+pub struct FloorScratch {
+    shadow: ShadowScratch,
+    loss: Vec<f32>,
+    rays: (Scratch, Vec<Crossing>),
+}
+
+impl FloorScratch {
+    /// Empty buffers; they grow on first use.
+    pub fn new() -> FloorScratch {
+        FloorScratch {
+            shadow: ShadowScratch::default(),
+            loss: Vec::new(),
+            rays: (Scratch::new(), Vec::new()),
+        }
+    }
+}
+
+impl Default for FloorScratch {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+/// What a [`FloorPredictor`] needs of a known service and floor.
+struct FloorLosses<'a> {
+    /// The crossing kind of each wall part of the floor, for the service.
+    parts: Vec<&'a CrossingKind>,
+    /// The floor's wall parts, as indexed in the scene.
+    walls: &'a [Segment],
+    /// The service's frequency, MHz.
+    freq_mhz: f64,
+}
+
+impl<'a> FloorLosses<'a> {
+    /// The losses of `service` on `floor`; None if either is unknown or the scene was not
+    /// built from this site (one crossing kind per wall part).
+    fn of(site: &Site, scene: &'a Scene, service: usize, floor: usize) -> Option<Self> {
+        let losses = scene.losses.get(service)?;
+        let parts: Vec<&CrossingKind> = losses
+            .parts
+            .get(floor)?
+            .iter()
+            .map(|&k| losses.kinds.get(k))
+            .collect::<Option<_>>()?;
+        let walls = scene.floors.get(floor)?.index.walls();
+        let freq_mhz = site.services.get(service)?.freq_mhz;
+        (parts.len() == walls.len()).then_some(FloorLosses {
+            parts,
+            walls,
+            freq_mhz,
+        })
+    }
+}
+
+/// A transmitter placed in the building: its floor index and antenna position.
+#[derive(Clone, Copy)]
+struct Source<'t> {
+    t: &'t Transmitter,
+    floor: usize,
+    p3: P3,
+}
+
+/// Everything constant for one service on one floor: grid, inside mask, constant wall
+/// losses, angle masks, receiver height. Gives the level any transmitter produces over the
+/// floor's grid with exactly the numbers of [`predict_grid_adjusted`].
+pub struct FloorPredictor<'a> {
+    site: &'a Site,
+    scene: &'a Scene,
+    service: usize,
+    floor: usize,
+    adjust: &'a (dyn Fn(usize, f64) -> f64 + Sync),
+    /// None if the service or the floor is unknown.
+    losses: Option<FloorLosses<'a>>,
+    grid: Grid,
+    inside: Vec<bool>,
+    /// Loss of each wall that costs the same at every angle (0 for the others), dB.
+    constant_db: Vec<f32>,
+    /// Which walls' loss depends on the angle.
+    by_angle: Vec<bool>,
+    /// Receiver height above the datum, m.
+    rz: f64,
+}
+
+impl<'a> FloorPredictor<'a> {
+    /// The predictor of service index `service` on floor index `floor` of `site`, with the
+    /// extra loss `adjust(service, distance_m)` in dB on every path (`&|_, _| 0.0` for
+    /// none). `scene` must be built from `site`. An unknown floor gives an empty grid; an
+    /// unknown service, no signal anywhere.
+    pub fn new(
+        site: &'a Site,
+        scene: &'a Scene,
+        service: usize,
+        floor: usize,
+        adjust: &'a (dyn Fn(usize, f64) -> f64 + Sync),
+    ) -> FloorPredictor<'a> {
+        let losses = FloorLosses::of(site, scene, service, floor);
+        let (grid, inside, rz) = floor_points(site, floor);
+        let kinds = losses.as_ref().map_or(&[][..], |l| &l.parts[..]);
+        FloorPredictor {
+            site,
+            scene,
+            service,
+            floor,
+            adjust,
+            constant_db: kinds
+                .iter()
+                .map(|k| k.constant_db().unwrap_or(0.0) as f32)
+                .collect(),
+            by_angle: kinds.iter().map(|k| k.constant_db().is_none()).collect(),
+            losses,
+            grid,
+            inside,
+            rz,
+        }
+    }
+
+    /// The floor's prediction grid.
+    pub fn grid(&self) -> &Grid {
+        &self.grid
+    }
+
+    /// Whether each grid point lies inside the floor's outline.
+    pub fn inside(&self) -> &[bool] {
+        &self.inside
+    }
+
+    /// Level in dBm of transmitter `t` at every grid point of the floor (NaN outside the
+    /// outline), for this predictor's service whatever `t.service` says. `bound`: with the
+    /// strongest-server rule, points where the wall-free level cannot beat `bound[i]` may
+    /// return -inf without tracing (pass None for exact levels everywhere). A transmitter
+    /// on an unknown floor gives -inf inside the outline.
+    pub fn levels(&self, t: &Transmitter, bound: Option<&[f32]>) -> Vec<f32> {
+        self.levels_with(t, bound, &mut FloorScratch::new())
+    }
+
+    /// As [`FloorPredictor::levels`], reusing the buffers of `scratch`.
+    pub fn levels_with(
+        &self,
+        t: &Transmitter,
+        bound: Option<&[f32]>,
+        scratch: &mut FloorScratch,
+    ) -> Vec<f32> {
+        let (Some(losses), Some(src)) = (&self.losses, self.source(t)) else {
+            let none = |&inside: &bool| if inside { f32::NEG_INFINITY } else { f32::NAN };
+            return self.inside.iter().map(none).collect();
+        };
+        if src.floor == self.floor {
+            self.same_floor_levels(losses, src, scratch)
+        } else {
+            self.other_floor_levels(losses, src, bound, &mut scratch.rays)
+        }
+    }
+
+    /// `t` with its floor index and antenna position; None on an unknown floor.
+    fn source<'t>(&self, t: &'t Transmitter) -> Option<Source<'t>> {
+        let floor = self.site.floor_index(&t.floor)?;
+        let z = self.site.floors.get(floor)?.elevation_m + t.height_m;
+        Some(Source {
+            t,
+            floor,
+            p3: P3 { p: t.position, z },
+        })
+    }
+
+    /// Same-floor transmitter: every wall's shadow over the whole grid (exact,
+    /// rfsite-geometry tests).
+    fn same_floor_levels(
+        &self,
+        losses: &FloorLosses<'_>,
+        src: Source<'_>,
+        sc: &mut FloorScratch,
+    ) -> Vec<f32> {
+        sc.loss.clear();
+        sc.loss.resize(self.grid.len(), 0.0);
+        let f = |w: usize, c: f64| losses.parts.get(w).map_or(0.0, |k| k.eval(c) as f32);
+        let wl = WallLosses {
+            constant_db: &self.constant_db,
+            by_angle: if self.by_angle.iter().any(|m| *m) {
+                Some((&self.by_angle[..], &f))
+            } else {
+                None
+            },
+        };
+        let part = (0.0, 1.0);
+        let (grid, walls) = (&self.grid, losses.walls);
+        accumulate_path_part(
+            src.p3.p,
+            grid,
+            walls,
+            &wl,
+            part,
+            &mut sc.loss,
+            &mut sc.shadow,
+        );
+        let points = self.inside.iter().zip(&sc.loss).enumerate();
+        points
+            .map(|(i, (&inside, &loss))| match inside {
+                true => self.level(self.base(losses, src, i), loss as f64) as f32,
+                false => f32::NAN,
+            })
+            .collect()
+    }
+
+    /// Transmitter on another floor: per ray. With a `bound`, a point where the wall-free
+    /// level cannot beat it gets -inf, its walls not traced (exact for the strongest server).
+    fn other_floor_levels(
+        &self,
+        losses: &FloorLosses<'_>,
+        src: Source<'_>,
+        bound: Option<&[f32]>,
+        sc: &mut (Scratch, Vec<Crossing>),
+    ) -> Vec<f32> {
+        let ray_level = |i: usize, sc: &mut (Scratch, Vec<Crossing>)| -> f32 {
+            if !self.inside.get(i).copied().unwrap_or(false) {
+                return f32::NAN;
+            }
+            let b = self.base(losses, src, i);
+            if let Some(&best) = bound.and_then(|bd| bd.get(i)) {
+                if (self.level(b, 0.0) as f32) <= best {
+                    return f32::NEG_INFINITY;
+                }
+            }
+            let rx = P3 {
+                p: self.grid.point(i),
+                z: self.rz,
+            };
+            let walls = (self.scene).walls_db(sc, self.service, src.p3, src.floor, rx, self.floor);
+            self.level(b, walls) as f32
+        };
+        (0..self.grid.len()).map(|i| ray_level(i, sc)).collect()
+    }
+
+    /// Free-space level (with the antenna gain and the adjustment) and floor loss of the
+    /// path from `src` to point `i`, dBm and dB: walls only take away.
+    fn base(&self, losses: &FloorLosses<'_>, src: Source<'_>, i: usize) -> (f64, f64) {
+        let (t, t3) = (src.t, src.p3);
+        let p = self.grid.point(i);
+        let rx = P3 { p, z: self.rz };
+        let d = (p.distance(t3.p).powi(2) + (self.rz - t3.z).powi(2))
+            .sqrt()
+            .max(MIN_DISTANCE_M);
+        let free = t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
+            - fspl::fspl_db(losses.freq_mhz, d)
+            - (self.adjust)(self.service, d);
+        let floor_db = self
+            .scene
+            .floor_db(self.service, t3, src.floor, rx, self.floor);
+        (free, floor_db.1)
+    }
+
+    /// The level given the path's free-space level, floor and wall losses: its walls and
+    /// floors at most the excess-loss cap.
+    fn level(&self, (free, floor): (f64, f64), walls: f64) -> f64 {
+        free - self.scene.capped_excess_db(floor + walls)
+    }
+}
+
+/// The grid of floor index `floor`, which of its points lie inside the outline, and the
+/// receiver height above the datum (m); an empty grid for an unknown floor.
+fn floor_points(site: &Site, floor: usize) -> (Grid, Vec<bool>, f64) {
+    let Some(f) = site.floors.get(floor) else {
+        let origin = Point2::new(0.0, 0.0);
+        let empty = Grid {
+            origin,
+            step_m: site.prediction.grid_step_m,
+            nx: 0,
+            ny: 0,
+        };
+        return (empty, Vec::new(), site.prediction.receiver_height_m);
+    };
+    let grid = floor_grid(site, floor);
+    let inside = (0..grid.len())
+        .into_par_iter()
+        .map(|i| rfsite_geometry::point_in_polygon(grid.point(i), &f.outline))
+        .collect();
+    let rz = f.elevation_m + site.prediction.receiver_height_m;
+    (grid, inside, rz)
 }
