@@ -189,6 +189,10 @@ impl Registry {
                     "built-in".into(),
                 ),
                 (Box::new(rfsite_plugin_grading::Grading), "built-in".into()),
+                (
+                    Box::new(rfsite_plugin_antenna_design::AntennaDesign),
+                    "built-in".into(),
+                ),
             ],
         }
     }
@@ -304,10 +308,12 @@ pub fn run(
             surveys: &loaded.surveys,
             base: None,
         };
+        let started = std::time::Instant::now();
         let out = p.run(&ctx).map_err(|error| EngineError::Plugin {
             id: p.id().into(),
             error,
         })?;
+        timing(p.id(), started);
         runs.push(PluginRun {
             id: p.id().into(),
             version: p.version().into(),
@@ -316,27 +322,37 @@ pub fn run(
         });
         outputs.push((p.id().to_string(), out));
     }
-    let options = prove_options(site, registry, &mut outputs);
+    let options = prove_options(loaded, registry, &mut outputs);
     Ok(collect(site, loaded, runs, outputs, inputs, options))
 }
 
 /// Every option of the run (the plugins' and the site's `[[what_if]]`), those that change
 /// the site predicted and graded on the changed copy; the recommended ones marked.
 fn prove_options(
-    site: &Site,
+    loaded: &LoadedSite,
     registry: &Registry,
     outputs: &mut [(String, PluginOutput)],
 ) -> Vec<Remediation> {
+    let site = &loaded.site;
     let mut all: Vec<Remediation> = outputs
         .iter_mut()
         .flat_map(|(_, o)| std::mem::take(&mut o.remediation))
         .collect();
     all.extend(options::user_options(site));
     for r in all.iter_mut().filter(|r| options::changes_site(r)) {
-        options::prove(site, registry, outputs, r);
+        let started = std::time::Instant::now();
+        options::prove(site, registry, outputs, &loaded.surveys, r);
+        timing(&format!("option {}", r.id), started);
     }
     options::recommend(&mut all);
     all
+}
+
+/// With `RFSITE_TIMING` set, prints how long a step took to stderr (never into an output).
+fn timing(what: &str, started: std::time::Instant) {
+    if std::env::var_os("RFSITE_TIMING").is_some() {
+        eprintln!("timing: {what}: {:.3} s", started.elapsed().as_secs_f64());
+    }
 }
 
 fn collect(

@@ -2,10 +2,12 @@
 //! plugins that predict and grade re-run on the copy exactly as on the site, and the
 //! option keeps the copy's verdicts (`after`) and graded maps.
 //!
-//! The copy has no survey data: the measurements describe the building as it is. A
-//! calibration keeps the values it fitted on the site as it is (re-fitting would fit the
-//! old measurements to the new building), so pasting an option's antennas into a site
-//! without survey files reproduces its verdicts exactly.
+//! The measurements describe the building as it is: each survey point is carried over as
+//! its measured level plus what the option is predicted to add there
+//! ([`rfsite_plugin::shift`]), so a weak measured point the option does not reach still
+//! fails. A calibration keeps the values it fitted on the site as it is (re-fitting would
+//! fit the old measurements to the new building), so pasting an option's antennas into a
+//! site without survey files reproduces its verdicts exactly.
 
 use std::collections::BTreeSet;
 
@@ -190,15 +192,16 @@ pub fn rerun(
     site: &Site,
     registry: &Registry,
     base: &[(String, PluginOutput)],
+    measured: &SurveyData,
 ) -> Result<Vec<(String, PluginOutput)>, String> {
     let empty = toml::Table::new();
-    let surveys = SurveyData::default();
     let mut outs: Vec<(String, PluginOutput)> = Vec::new();
     let plugins = registry.ordered().map_err(|e| e.to_string())?;
     for p in plugins.into_iter().filter(|p| p.reruns_for_options()) {
         if !enabled(site, p.id()) || !p.applies(site) {
             continue;
         }
+        let surveys = carried_over(site, base, &outs, measured);
         let ctx = Context {
             site,
             options: site.plugin_options.get(p.id()).unwrap_or(&empty),
@@ -212,16 +215,33 @@ pub fn rerun(
     Ok(outs)
 }
 
+/// The survey points as the changed site would see them: shifted by the change of the
+/// graded model between the site's run and the re-run so far.
+fn carried_over(
+    site: &Site,
+    base: &[(String, PluginOutput)],
+    outs: &[(String, PluginOutput)],
+    measured: &SurveyData,
+) -> SurveyData {
+    let graded = graded_services(base);
+    let pick = |o: &[(String, PluginOutput)]| -> Vec<CoverageLayer> { graded_layers(o, &graded) };
+    let (before, after) = (pick(base), pick(outs));
+    let before: Vec<&CoverageLayer> = before.iter().collect();
+    let after: Vec<&CoverageLayer> = after.iter().collect();
+    rfsite_plugin::shift::shift_surveys(measured, &before, &after, site.prediction.combine)
+}
+
 /// Predicts and grades one option, filling `after` and `after_layers` (or a caveat saying
 /// why it could not be predicted).
 pub(crate) fn prove(
     site: &Site,
     registry: &Registry,
     base: &[(String, PluginOutput)],
+    measured: &SurveyData,
     r: &mut Remediation,
 ) {
     let changed = site.with_changes(&site_changes(site, r));
-    let outs = match rerun(&changed, registry, base) {
+    let outs = match rerun(&changed, registry, base, measured) {
         Ok(o) => o,
         Err(why) => {
             r.caveats.push(format!("could not be predicted: {why}"));
@@ -318,6 +338,7 @@ fn finding_change(f: &Finding, after: &[&Finding], services: &[ServiceResult]) -
     } else {
         match after.iter().find(|a| a.id == f.id) {
             Some(a) => (Some(a.severity), "still raised with the option"),
+            None if f.id.starts_with("measured-") => (None, "the measured points, shifted by the predicted gain, meet the required level: confirm with an acceptance survey after the works"),
             None => (None, "not raised with the option (predicted)"),
         }
     };
@@ -344,8 +365,14 @@ pub(crate) fn fill_remedies(findings: &mut [Finding], options: &[Remediation]) {
     }
 }
 
+/// The order of preference among passing options (smallest first).
+fn rank(r: &Remediation) -> (usize, bool, usize, String) {
+    (r.antennas.len(), r.distribution.is_none(), r.changes.len(), r.id.clone())
+}
+
 /// Marks, per service, the option rfsite recommends: one whose prediction passes every
-/// floor of the service, with the fewest added antennas, then the fewest changes, then id.
+/// floor of the service, with the fewest added antennas, then one whose feed network is
+/// worked out (it can be priced and built), then the fewest other changes, then by id.
 pub(crate) fn recommend(options: &mut [Remediation]) {
     let services: BTreeSet<String> = options.iter().filter_map(|r| r.service.clone()).collect();
     for s in services {
@@ -354,13 +381,7 @@ pub(crate) fn recommend(options: &mut [Remediation]) {
             .enumerate()
             .filter(|(_, r)| r.service.as_ref() == Some(&s))
             .filter(|(_, r)| r.after.as_ref().is_some_and(|a| a.passes))
-            .min_by(|(_, a), (_, b)| {
-                (a.antennas.len(), a.changes.len(), &a.id).cmp(&(
-                    b.antennas.len(),
-                    b.changes.len(),
-                    &b.id,
-                ))
-            })
+            .min_by_key(|(_, r)| rank(r))
             .map(|(i, _)| i);
         if let Some(i) = best {
             options[i].recommended = true;

@@ -19,6 +19,7 @@ use serde::{Deserialize, Serialize};
 
 pub mod assessment;
 pub mod check;
+pub mod shift;
 pub mod verdict;
 pub mod wire;
 pub use assessment::*;

@@ -1,0 +1,226 @@
+//! One service's design turned into a remediation option.
+
+use rfsite_model::{Service, Site};
+use rfsite_plugin::*;
+use rfsite_plugin_calibration::{calibrated_adjust, calibrated_model, fitted_values, scene_for};
+use rfsite_plugin_grading::{rule_for, rule_sets};
+use rfsite_plugin_multi_wall::{FloorPredictor, Scene};
+
+use crate::candidates::standing_waves;
+use crate::feed::{network, Network};
+use crate::floors::{Designer, FloorDesign, Grade, Model, ServiceDesign};
+use crate::options::DesignOptions;
+
+/// The scene and per-service (offset, exponent change) of the graded model.
+fn model_for(ctx: &Context<'_>, model: &str) -> Result<(Scene, Vec<(f64, f64)>), String> {
+    let site = ctx.site;
+    match model {
+        "multi-wall" => Ok((scene_for(site), vec![(0.0, 0.0); site.services.len()])),
+        "calibrated" => {
+            let fitted = ctx.output_of("calibration").map(fitted_values).unwrap_or_default();
+            Ok(calibrated_model(site, &fitted))
+        }
+        other => Err(format!("the grading used the `{other}` model; the designer predicts with `multi-wall` or `calibrated`")),
+    }
+}
+
+/// The graded levels per floor (no layer: −inf inside the outline, NaN outside).
+fn graded_levels(ctx: &Context<'_>, d: &Designer<'_>, model: &str, svc: &str) -> Vec<Vec<f32>> {
+    let layers = ctx.layers_of(model);
+    (0..ctx.site.floors.len())
+        .map(|fi| {
+            let floor = &ctx.site.floors[fi].id;
+            match layers
+                .iter()
+                .find(|l| &l.floor == floor && l.service == svc)
+            {
+                Some(l) => l.level_dbm.clone(),
+                None => no_signal(d, fi),
+            }
+        })
+        .collect()
+}
+
+fn no_signal(d: &Designer<'_>, fi: usize) -> Vec<f32> {
+    let p = FloorPredictor::new(d.site, d.model.scene, d.si, fi, d.model.adjust);
+    p.inside()
+        .iter()
+        .map(|i| if *i { f32::NEG_INFINITY } else { f32::NAN })
+        .collect()
+}
+
+/// Designs `svc` and returns the option.
+pub(crate) fn design_service(
+    ctx: &Context<'_>,
+    o: &DesignOptions,
+    svc: &Service,
+    r: &ServiceResult,
+) -> Result<Remediation, String> {
+    let site = ctx.site;
+    let (scene, st) = model_for(ctx, &r.model)?;
+    let adjust = move |s: usize, d: f64| calibrated_adjust(&st, s, d);
+    let empty = toml::Table::new();
+    let mut notes = Vec::new();
+    let rules = rule_sets(
+        site.plugin_options.get("grading").unwrap_or(&empty),
+        &mut notes,
+    )
+    .map_err(|e| e.to_string())?;
+    let rule = rule_for(svc, &rules)?;
+    let reflectors = ctx
+        .output_of("reflection-nulls")
+        .and_then(|x| x.extra.get("reflectors"));
+    let waves = standing_waves(reflectors, &svc.id);
+    let measured: Vec<&Measurement> = ctx
+        .surveys
+        .points
+        .iter()
+        .filter(|m| m.service == svc.id)
+        .collect();
+    let mut designer = Designer {
+        site,
+        si: crate::service_index(site, svc),
+        model: Model {
+            scene: &scene,
+            adjust: &adjust,
+            model: &r.model,
+        },
+        grade: Grade {
+            svc,
+            rule: &rule,
+            req: &r.required,
+        },
+        options: o,
+        waves: &waves,
+        base: &[],
+        measured: &measured,
+    };
+    let base = graded_levels(ctx, &designer, &r.model, &svc.id);
+    designer.base = &base;
+    let mut current = base.clone();
+    let d = designer.design(&mut current);
+    if d.placed.is_empty() {
+        return Err("no candidate position improves the failing floors".into());
+    }
+    let net = network(site, svc, o, &d.placed).map_err(|e| e.to_string())?;
+    Ok(remediation(site, svc, r, o, &d, net))
+}
+
+fn floor_line(site: &Site, f: &FloorDesign) -> String {
+    let name = site
+        .floor(&f.floor)
+        .map(|x| x.name.as_str())
+        .unwrap_or(&f.floor);
+    if f.passed_before {
+        return format!("{name}: passes as it is (the other floors' new antennas count here too)");
+    }
+    let proof = if f.optimal {
+        "proven the fewest by trying every smaller set"
+    } else {
+        "not proven the fewest (the exact search's budget ran out)"
+    };
+    format!(
+        "{name}: {} candidate positions, {} antenna(s) placed, {}; {} rule-set evaluations{}",
+        f.candidates,
+        f.placed,
+        proof,
+        f.evaluations,
+        if f.passes {
+            ""
+        } else {
+            "; the floor still fails at the antenna limit"
+        }
+    )
+}
+
+fn remediation(
+    site: &Site,
+    svc: &Service,
+    r: &ServiceResult,
+    o: &DesignOptions,
+    d: &ServiceDesign,
+    net: Network,
+) -> Remediation {
+    let floors: Vec<String> = d
+        .floors
+        .iter()
+        .filter(|f| f.placed > 0)
+        .map(|f| f.floor.clone())
+        .collect();
+    let lines: Vec<String> = d.floors.iter().map(|f| floor_line(site, f)).collect();
+    let n = net.placed.len();
+    Remediation {
+        id: format!("design-{}", svc.id),
+        title: format!(
+            "{n} new indoor antenna(s) for {} on {}, fed from the head end on {}",
+            svc.name,
+            floors.join(", "),
+            net.distribution.head_end_floor
+        ),
+        service: Some(svc.id.clone()),
+        floors,
+        detail: format!(
+            "Designed by rfsite against the {} rule set at the required {:.1} dBm. {}.",
+            r.rule,
+            r.required.predicted_dbm,
+            lines.join(". ")
+        ),
+        margin_needed_db: r
+            .floors
+            .iter()
+            .map(|f| f.margin_needed_db)
+            .fold(0.0, f64::max),
+        expected: format!("every floor of {} to its rule set (predicted)", svc.name),
+        caveats: caveats(svc, o, &net),
+        plugin: "antenna-design".into(),
+        antennas: net.placed.iter().map(|p| antenna_of(site, &p.tx)).collect(),
+        distribution: Some(net.distribution),
+        quantities: net.quantities,
+        ..Default::default()
+    }
+}
+
+fn antenna_of(site: &Site, t: &rfsite_model::Transmitter) -> DesignedAntenna {
+    let u = site.units;
+    DesignedAntenna {
+        id: t.id.clone(),
+        service: t.service.clone(),
+        floor: t.floor.clone(),
+        position: [
+            round3(u.from_m(t.position.x)),
+            round3(u.from_m(t.position.y)),
+        ],
+        height: round3(u.from_m(t.height_m)),
+        power_dbm: t.power_dbm,
+        cable_loss_db: t.cable_loss_db,
+        connector_loss_db: t.connector_loss_db,
+        antenna_gain_dbi: t.antenna_gain_dbi,
+        pattern: "omni-ceiling".into(),
+        azimuth_deg: None,
+        downtilt_deg: None,
+    }
+}
+
+fn round3(x: f64) -> f64 {
+    (x * 1000.0).round() / 1000.0
+}
+
+fn caveats(svc: &Service, o: &DesignOptions, net: &Network) -> Vec<String> {
+    let mut c = vec![
+        "predicted, not measured: the calibration fitted on today's survey is kept; an acceptance survey after installation decides".to_string(),
+        format!("antenna gain {:.1} dBi, {} channel(s) at {:.1} dBm per antenna port, head end rated {:.1} dBm composite with {:.1} dB back-off: rfsite defaults unless set in [plugins.antenna-design] (from memory); take them from the equipment data sheets", o.gain_dbi, o.channels, o.port_dbm, o.max_composite_dbm, o.back_off_db),
+        "cable routes follow the plan rectilinearly with a slack allowance; the installer confirms routes, and every penetration of a fire-rated wall or floor is fire-stopped with a listed system".into(),
+        "ceiling and riser work is work at height: follow the work-at-height rules and use licensed trades for electrical work".into(),
+        "the downlink only: the uplink (handset to head end) is not balanced here".into(),
+    ];
+    if net.distribution.exceeded {
+        c.push(format!("the head end's rated composite is exceeded by {:.1} dB: use a higher-power head end, a second head end, or fewer channels", -net.distribution.margin_db));
+    }
+    if svc.life_safety {
+        c.push("a public-safety in-building system needs the approval of the authority having jurisdiction, the licensee's consent, listed equipment and the survivability the adopted code requires (pathways, back-up power); design and installation under licensed practice".into());
+    }
+    if o.head_end.is_none() {
+        c.push("no head end was given: the lowest floor's centre is assumed; set `head_end` in [plugins.antenna-design]".into());
+    }
+    c
+}
