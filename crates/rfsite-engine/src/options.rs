@@ -367,7 +367,12 @@ pub(crate) fn fill_remedies(findings: &mut [Finding], options: &[Remediation]) {
 
 /// The order of preference among passing options (smallest first).
 fn rank(r: &Remediation) -> (usize, bool, usize, String) {
-    (r.antennas.len(), r.distribution.is_none(), r.changes.len(), r.id.clone())
+    (
+        r.antennas.len(),
+        r.distribution.is_none(),
+        r.changes.len(),
+        r.id.clone(),
+    )
 }
 
 /// Marks, per service, the option rfsite recommends: one whose prediction passes every

@@ -155,3 +155,79 @@ pub fn candidates(floor: &Floor, o: &DesignOptions, waves: &[Standing]) -> Vec<P
     );
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rfsite_model::{PartKind, WallPart};
+
+    /// A floor with one steel wall along y = 0 from x = 0 to 10.
+    fn floor() -> Floor {
+        Floor {
+            id: "L1".into(),
+            name: "L1".into(),
+            elevation_m: 0.0,
+            height_m: 3.0,
+            slab_material: "concrete-floor-slab".into(),
+            slab_thickness_m: 0.2,
+            outline: vec![
+                Point2::new(0.0, 0.0),
+                Point2::new(10.0, 0.0),
+                Point2::new(10.0, 10.0),
+                Point2::new(0.0, 10.0),
+            ],
+            parts: vec![WallPart {
+                id: "steel".into(),
+                segment: Segment {
+                    a: Point2::new(0.0, 0.0),
+                    b: Point2::new(10.0, 0.0),
+                },
+                material: "metal".into(),
+                thickness_m: 0.002,
+                kind: PartKind::Wall,
+            }],
+            zones: Vec::new(),
+            plan_image: None,
+            plan_m_per_px: 0.05,
+            plan_offset: Point2::default(),
+        }
+    }
+
+    /// In front of a perfect conductor the field has nulls at n·λ/2 and peaks at
+    /// (2n + 1)·λ/4 from the surface (standing wave of a normally incident plane wave,
+    /// textbook); λ = 0.4 m here.
+    fn steel_wave() -> Standing {
+        let lambda = 0.4;
+        Standing {
+            walls: vec!["steel".into()],
+            material: "metal".into(),
+            nulls_m: (0..10).map(|n| n as f64 * lambda / 2.0).collect(),
+            peaks_m: (0..10).map(|n| (2 * n + 1) as f64 * lambda / 4.0).collect(),
+            wavelength_m: lambda,
+        }
+    }
+
+    #[test]
+    fn a_point_within_lambda_over_16_of_a_null_is_skipped() {
+        let (f, w) = (floor(), vec![steel_wave()]);
+        // λ/16 = 0.025 m: 1.21 m is 0.01 m from the null at 1.2 m, 1.25 m is 0.05 m away.
+        assert!(near_null(&f, &w, Point2::new(5.0, 1.21)));
+        assert!(!near_null(&f, &w, Point2::new(5.0, 1.25)));
+        assert!(!near_null(&f, &[], Point2::new(5.0, 1.2)));
+    }
+
+    #[test]
+    fn an_antenna_near_the_conductor_moves_onto_the_nearest_peak() {
+        let (f, w) = (floor(), vec![steel_wave()]);
+        // 1.25 m from the steel: the nearest peak is 1.3 m (= 13 λ/4).
+        let (p, note) = mounting(&f, &w, Point2::new(5.0, 1.25));
+        assert!(
+            (p.y - 1.3).abs() < 1e-9 && (p.x - 5.0).abs() < 1e-9,
+            "{p:?}"
+        );
+        assert!(note.contains("steel"));
+        // Beyond the listed peaks (the last is 3.8 m): left where it is.
+        let (q, none) = mounting(&f, &w, Point2::new(5.0, 6.0));
+        assert_eq!((q, none.as_str()), (Point2::new(5.0, 6.0), ""));
+    }
+}
