@@ -193,11 +193,12 @@ pub fn rerun(
     registry: &Registry,
     base: &[(String, PluginOutput)],
     measured: &SurveyData,
+    changes: &[SiteChange],
 ) -> Result<Vec<(String, PluginOutput)>, String> {
     let empty = toml::Table::new();
     let mut outs: Vec<(String, PluginOutput)> = Vec::new();
     let plugins = registry.ordered().map_err(|e| e.to_string())?;
-    for p in plugins.into_iter().filter(|p| p.reruns_for_options()) {
+    for p in plugins.into_iter().filter(|p| p.reruns_for_options(site)) {
         if !enabled(site, p.id()) || !p.applies(site) {
             continue;
         }
@@ -207,7 +208,10 @@ pub fn rerun(
             options: site.plugin_options.get(p.id()).unwrap_or(&empty),
             earlier: &outs,
             surveys: &surveys,
-            base: Some(base),
+            base: Some(BaseRun {
+                outputs: base,
+                changes,
+            }),
         };
         let out = p.run(&ctx).map_err(|e| format!("{}: {e}", p.id()))?;
         outs.push((p.id().to_string(), out));
@@ -240,8 +244,9 @@ pub(crate) fn prove(
     measured: &SurveyData,
     r: &mut Remediation,
 ) {
-    let changed = site.with_changes(&site_changes(site, r));
-    let outs = match rerun(&changed, registry, base, measured) {
+    let changes = site_changes(site, r);
+    let changed = site.with_changes(&changes);
+    let outs = match rerun(&changed, registry, base, measured, &changes) {
         Ok(o) => o,
         Err(why) => {
             r.caveats.push(format!("could not be predicted: {why}"));

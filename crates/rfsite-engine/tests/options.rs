@@ -365,6 +365,7 @@ fn on_twelve_candidates_the_design_is_the_exhaustive_optimum() {
         waves: &waves,
         base: &bases,
         measured: &[],
+        passed: &[false],
     };
     let pred = rfsite_plugin_multi_wall::FloorPredictor::new(site, &scene, 0, 0, &zero);
     let levels: Vec<Vec<f32>> = spots
@@ -383,4 +384,38 @@ fn on_twelve_candidates_the_design_is_the_exhaustive_optimum() {
         d.antennas.len() >= 2,
         "one antenna per closed room at least"
     );
+}
+
+/// A what-if naming what the site does not have is an error at its line and column, with
+/// a hint; `check` and `report` share this load.
+#[test]
+fn a_what_if_with_a_typo_is_located_with_a_hint() {
+    let text = format!(
+        "{HEAD}{SCREENS}[[what_if]]\nid = \"typo\"\nset_material = [{{ walls = [\"screen-c\"], material = \"clear-glazng\" }}]\nset_power = [{{ transmitter = \"T9\", power_dbm = 20.0 }}]\n"
+    );
+    let file = SourceFile::new("site.toml", text.as_str());
+    let l = rfsite_model::load(&file, &MaterialLibrary::builtin());
+    assert!(l.site.is_none());
+    let errs: Vec<_> = l
+        .diagnostics
+        .items
+        .iter()
+        .filter(|d| d.is_error())
+        .collect();
+    let line = text.lines().position(|x| x.contains("screen-c")).unwrap() + 1;
+    let wall = errs
+        .iter()
+        .find(|d| d.message.contains("`screen-c`"))
+        .expect("wall error");
+    assert_eq!(wall.line, line);
+    assert!(
+        wall.hint.as_deref().unwrap_or("").contains("screen-a"),
+        "{:?}",
+        wall.hint
+    );
+    assert!(errs.iter().any(|d| d.message.contains("clear-glazng")
+        && d.hint.as_deref().unwrap_or("").contains("clear-glazing")));
+    assert!(errs
+        .iter()
+        .any(|d| d.message.contains("`T9`") && d.hint.as_deref().unwrap_or("").contains("T1")));
 }

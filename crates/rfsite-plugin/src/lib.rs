@@ -655,9 +655,39 @@ pub struct Context<'a> {
     pub earlier: &'a [(String, PluginOutput)],
     /// Survey measurements.
     pub surveys: &'a SurveyData,
-    /// In an option's re-run: the outputs of the run on the site as it is (a calibration,
-    /// say, keeps the values fitted there). `None` in the site's own run.
-    pub base: Option<&'a [(String, PluginOutput)]>,
+    /// In an option's re-run: the run on the site as it is and the option's changes (a
+    /// calibration, say, keeps the values fitted there). `None` in the site's own run.
+    pub base: Option<BaseRun<'a>>,
+}
+
+/// What an option's re-run knows of the site's own run.
+#[derive(Clone, Copy)]
+pub struct BaseRun<'a> {
+    /// The outputs of the run on the site as it is, in run order.
+    pub outputs: &'a [(String, PluginOutput)],
+    /// The changes the option makes to the site.
+    pub changes: &'a [rfsite_model::SiteChange],
+}
+
+impl BaseRun<'_> {
+    /// The transmitters the option adds, when adding transmitters is all it does.
+    pub fn only_added(&self) -> Option<Vec<&rfsite_model::Transmitter>> {
+        self.changes
+            .iter()
+            .map(|c| match c {
+                rfsite_model::SiteChange::AddTransmitter(t) => Some(t),
+                _ => None,
+            })
+            .collect()
+    }
+    /// The layers of `model` in the site's own run.
+    pub fn layers_of(&self, model: &str) -> Vec<&CoverageLayer> {
+        self.outputs
+            .iter()
+            .flat_map(|(_, o)| o.layers.iter())
+            .filter(|l| l.model == model)
+            .collect()
+    }
 }
 
 impl<'a> Context<'a> {
@@ -741,7 +771,7 @@ pub trait Plugin: Send + Sync {
     }
     /// Whether it runs again on each option's changed site (the prediction and grading
     /// chain); the rest run once, on the site as it is.
-    fn reruns_for_options(&self) -> bool {
+    fn reruns_for_options(&self, _site: &Site) -> bool {
         false
     }
     /// Runs it.

@@ -9,7 +9,7 @@ use rfsite_model::{Combine, Pattern, Service, Site, Transmitter, ZoneKind};
 use rfsite_plugin::shift::shifted_level;
 use rfsite_plugin::{CoverageLayer, GridSpec, Measurement, RequiredLevel};
 use rfsite_plugin_grading::{grade_one_floor, FloorInput, Rule};
-use rfsite_plugin_multi_wall::{FloorPredictor, Scene};
+use rfsite_plugin_multi_wall::{FloorPredictor, FloorScratch, Scene};
 
 use crate::candidates::{candidates, mounting, Standing};
 use crate::options::DesignOptions;
@@ -89,6 +89,9 @@ pub struct Designer<'a> {
     pub base: &'a [Vec<f32>],
     /// The service's survey points.
     pub measured: &'a [&'a Measurement],
+    /// Per floor, whether the grading passed it as it is (levels only rise with new
+    /// antennas, so a floor that passed still passes without grading it again).
+    pub passed: &'a [bool],
 }
 
 impl Designer<'_> {
@@ -216,14 +219,16 @@ impl Designer<'_> {
         let floor = &self.site.floors[fi];
         let pred = self.predictor(fi);
         let grid = pred.grid().clone();
+        let known = self.passed.get(fi).copied().unwrap_or(false);
+        let changed = current[fi] != self.base[fi];
         let mut fd = FloorDesign {
             floor: floor.id.clone(),
-            passed_before: self.passes(fi, &grid, &current[fi]),
+            passed_before: known || (changed && self.passes(fi, &grid, &current[fi])),
             candidates: 0,
             placed: 0,
             passes: true,
             optimal: true,
-            evaluations: 1,
+            evaluations: usize::from(!known && changed),
         };
         if fd.passed_before {
             return fd;
@@ -232,7 +237,9 @@ impl Designer<'_> {
         fd.candidates = spots.len();
         let levels: Vec<Vec<f32>> = spots
             .par_iter()
-            .map(|p| pred.levels(&self.antenna(fi, *p, 0), None))
+            .map_init(FloorScratch::new, |sc, p| {
+                pred.levels_with(&self.antenna(fi, *p, 0), None, sc)
+            })
             .collect();
         let weight = self.weights(fi, &grid);
         let problem = Problem {
@@ -245,7 +252,8 @@ impl Designer<'_> {
             exact_budget: self.options.exact_budget,
         };
         let d = search::design(&problem, &mut |l| self.passes(fi, &grid, l));
-        (fd.passes, fd.optimal, fd.evaluations) = (d.passes, d.optimal, d.evaluations + 1);
+        (fd.passes, fd.optimal) = (d.passes, d.optimal);
+        fd.evaluations += d.evaluations;
         for &c in &d.chosen {
             let (at, note) = mounting(floor, self.waves, spots[c]);
             let tx = self.antenna(fi, at, placed.len() + 1);

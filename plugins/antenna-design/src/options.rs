@@ -205,6 +205,15 @@ fn services(site: &Site, ctx: &Context<'_>) -> Result<Vec<String>, PluginError> 
         .collect()
 }
 
+/// A cable id of the built-in table (plugins/data/cables.toml).
+fn cable(ctx: &Context<'_>, key: &str, default: &str) -> Result<String, PluginError> {
+    let id = ctx.option_str(key, default)?;
+    let lib = rfsite_design::distribution::CableLibrary::builtin()
+        .map_err(|e| bad(key, e.to_string()))?;
+    lib.cable(&id).map_err(|e| bad(key, e.to_string()))?;
+    Ok(id)
+}
+
 /// Reads and checks every option.
 pub fn read(ctx: &Context<'_>) -> Result<DesignOptions, PluginError> {
     let site = ctx.site;
@@ -224,8 +233,8 @@ pub fn read(ctx: &Context<'_>) -> Result<DesignOptions, PluginError> {
         channels: count(ctx, "channels", 4, 1, 256)? as u32,
         max_composite_dbm: ranged(ctx, "max_composite_dbm", 33.0, 0.0, 60.0)?,
         back_off_db: ranged(ctx, "back_off_db", 3.0, 0.0, 20.0)?,
-        cable: ctx.option_str("cable", "coax-half-inch-foam")?,
-        riser_cable: ctx.option_str("riser_cable", "coax-7-8-inch-foam")?,
+        cable: cable(ctx, "cable", "coax-half-inch-foam")?,
+        riser_cable: cable(ctx, "riser_cable", "coax-7-8-inch-foam")?,
         max_per_floor: count(ctx, "max_antennas_per_floor", 12, 0, 64)? as usize,
         exact_budget: count(ctx, "exact_budget", 300, 0, 100_000)? as usize,
         forbid: list(ctx, "forbid")?

@@ -77,6 +77,11 @@ pub(crate) fn design_service(
         .iter()
         .filter(|m| m.service == svc.id)
         .collect();
+    let passed: Vec<bool> = site
+        .floors
+        .iter()
+        .map(|f| r.floors.iter().any(|x| x.id == f.id && x.pass))
+        .collect();
     let mut designer = Designer {
         site,
         si: crate::service_index(site, svc),
@@ -94,6 +99,7 @@ pub(crate) fn design_service(
         waves: &waves,
         base: &[],
         measured: &measured,
+        passed: &passed,
     };
     let base = graded_levels(ctx, &designer, &r.model, &svc.id);
     designer.base = &base;

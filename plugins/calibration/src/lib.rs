@@ -367,7 +367,7 @@ fn fit_service(
 }
 
 impl Plugin for Calibration {
-    fn reruns_for_options(&self) -> bool {
+    fn reruns_for_options(&self, _site: &Site) -> bool {
         true
     }
     fn id(&self) -> &str {
@@ -405,7 +405,7 @@ impl Plugin for Calibration {
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let site = ctx.site;
-        if let Some(base) = ctx.base {
+        if let Some(base) = &ctx.base {
             return Ok(frozen(site, base));
         }
         let mut out = PluginOutput::default();
@@ -535,16 +535,21 @@ fn apply_values(site: &Site, fitted: &Fitted) -> Vec<CoverageLayer> {
 
 /// In an option's re-run: the values fitted on the site as it is, applied to the changed
 /// site (nothing when the site's own run did not apply a calibration).
-fn frozen(site: &Site, base: &[(String, PluginOutput)]) -> PluginOutput {
+fn frozen(site: &Site, base: &BaseRun<'_>) -> PluginOutput {
     let fitted = base
+        .outputs
         .iter()
         .find(|(id, _)| id == "calibration")
         .map(|(_, o)| fitted_values(o))
         .unwrap_or_default();
     let mut out = PluginOutput::default();
-    if !fitted.is_empty() {
-        out.layers = apply_values(site, &fitted);
+    if fitted.is_empty() {
+        return out;
     }
+    let (scene, st) = calibrated_model(site, &fitted);
+    let adjust = |si: usize, d: f64| calibrated_adjust(&st, si, d);
+    out.layers = rfsite_plugin_multi_wall::with_added(site, "calibrated", &scene, &adjust, base)
+        .unwrap_or_else(|| apply_values(site, &fitted));
     out
 }
 

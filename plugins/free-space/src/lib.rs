@@ -177,8 +177,15 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
 pub struct FreeSpace;
 
 impl Plugin for FreeSpace {
-    fn reruns_for_options(&self) -> bool {
-        true
+    /// Only when free space is the graded model: the option's verdicts need nothing else.
+    fn reruns_for_options(&self, site: &Site) -> bool {
+        site.prediction.model == "free-space"
+            || site
+                .plugin_options
+                .get("grading")
+                .and_then(|t| t.get("model"))
+                .and_then(|v| v.as_str())
+                == Some("free-space")
     }
     fn id(&self) -> &str {
         "free-space"

@@ -195,7 +195,7 @@ fn yes_no(x: Option<bool>) -> String {
 }
 
 impl Plugin for Grading {
-    fn reruns_for_options(&self) -> bool {
+    fn reruns_for_options(&self, _site: &Site) -> bool {
         true
     }
     fn id(&self) -> &str {

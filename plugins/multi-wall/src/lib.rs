@@ -22,6 +22,9 @@ use rfsite_plugin::*;
 use rfsite_plugin_free_space::{floor_grid, gain_towards, PathLoss, MIN_DISTANCE_M, P3};
 use serde::Serialize;
 
+mod incremental;
+pub use incremental::with_added;
+
 /// How far past a slab cut a storey's part of a path is traced (fraction of the path).
 const CUT_PAD: f64 = 1e-6;
 
@@ -574,7 +577,7 @@ fn options(ctx: &Context<'_>) -> Result<Options, PluginError> {
 }
 
 impl Plugin for MultiWall {
-    fn reruns_for_options(&self) -> bool {
+    fn reruns_for_options(&self, _site: &Site) -> bool {
         true
     }
     fn id(&self) -> &str {
@@ -615,6 +618,15 @@ impl Plugin for MultiWall {
         let cap = o.max_crossing_db;
         let site = ctx.site;
         let scene = Scene::new(site, o.floor_b, cap).with_max_excess_db(o.max_excess_db);
+        if let Some(base) = &ctx.base {
+            // An option's re-run: the layers are all it needs.
+            let layers = with_added(site, self.id(), &scene, &|_, _| 0.0, base)
+                .unwrap_or_else(|| predict_grid(site, self.id(), &scene));
+            return Ok(PluginOutput {
+                layers,
+                ..Default::default()
+            });
+        }
         let layers = predict_grid(site, self.id(), &scene);
         let mut out = PluginOutput {
             warnings: scene
