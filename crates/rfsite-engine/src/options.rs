@@ -186,11 +186,13 @@ pub fn changes_site(r: &Remediation) -> bool {
     !r.changes.is_empty() || !r.antennas.is_empty()
 }
 
-/// Runs the predicting and grading plugins on `site` as `base` saw it, and returns their
-/// outputs in run order. A plugin's failure on the changed site is returned as text.
+/// Runs the predicting and grading plugins on `site` (`base_site` with `changes`), with
+/// `base` the outputs of the run on `base_site`, and returns their outputs in run order.
+/// A plugin's failure on the changed site is returned as text.
 pub fn rerun(
     site: &Site,
     registry: &Registry,
+    base_site: &Site,
     base: &[(String, PluginOutput)],
     measured: &SurveyData,
     changes: &[SiteChange],
@@ -209,6 +211,7 @@ pub fn rerun(
             earlier: &outs,
             surveys: &surveys,
             base: Some(BaseRun {
+                site: base_site,
                 outputs: base,
                 changes,
             }),
@@ -246,7 +249,7 @@ pub(crate) fn prove(
 ) {
     let changes = site_changes(site, r);
     let changed = site.with_changes(&changes);
-    let outs = match rerun(&changed, registry, base, measured, &changes) {
+    let outs = match rerun(&changed, registry, site, base, measured, &changes) {
         Ok(o) => o,
         Err(why) => {
             r.caveats.push(format!("could not be predicted: {why}"));
@@ -263,7 +266,7 @@ pub(crate) fn prove(
     });
     r.after_layers = graded_layers(&outs, &services);
     r.after = Some(After {
-        findings: finding_changes(base, &outs, &services),
+        findings: finding_changes(base, &outs, &services, &wanted),
         services,
         passes,
     });
@@ -304,22 +307,47 @@ fn graded_layers(
         .collect()
 }
 
-/// What becomes of each warning or failure finding of the graded services.
+/// What becomes of each warning or failure finding of the services the option is for.
+/// Findings of other services are left out (the option is not judged on them). Coverage
+/// findings follow the option's floor verdicts; any other finding whose plugin did not
+/// re-run for the option keeps its severity, as nothing re-assessed it.
 fn finding_changes(
     base: &[(String, PluginOutput)],
     after: &[(String, PluginOutput)],
     services: &[ServiceResult],
+    wanted: &[String],
 ) -> Vec<FindingChange> {
     let after_findings: Vec<&Finding> = after.iter().flat_map(|(_, o)| &o.findings).collect();
     let mut out = Vec::new();
-    for f in base.iter().flat_map(|(_, o)| &o.findings) {
-        if f.severity == Severity::Info || f.service.is_none() {
-            continue;
+    for (plugin, o) in base {
+        let reran = after.iter().any(|(p, _)| p == plugin);
+        for f in &o.findings {
+            let about_wanted = f.service.as_ref().is_some_and(|s| wanted.contains(s));
+            if f.severity == Severity::Info || !about_wanted {
+                continue;
+            }
+            let judged_by_verdict = f.id.starts_with("coverage-") || f.id.starts_with("measured-");
+            out.push(if reran || judged_by_verdict {
+                finding_change(f, &after_findings, services)
+            } else {
+                unchanged(
+                    f,
+                    "not re-assessed for the option: its plugin does not re-run",
+                )
+            });
         }
-        out.push(finding_change(f, &after_findings, services));
     }
     out.sort_by(|a, b| a.id.cmp(&b.id));
     out
+}
+
+fn unchanged(f: &Finding, note: &str) -> FindingChange {
+    FindingChange {
+        id: f.id.clone(),
+        before: Some(f.severity),
+        after: Some(f.severity),
+        note: note.into(),
+    }
 }
 
 fn finding_change(f: &Finding, after: &[&Finding], services: &[ServiceResult]) -> FindingChange {
@@ -330,12 +358,13 @@ fn finding_change(f: &Finding, after: &[&Finding], services: &[ServiceResult]) -
         let fl = s.floors.iter().find(|x| Some(&x.id) == f.floor.as_ref())?;
         Some(fl.pass)
     };
-    let (after_sev, note) = if f.id.starts_with("measured-") {
-        (
-            Some(f.severity),
+    if f.id.starts_with("measured-") {
+        return unchanged(
+            f,
             "measured in the building as it is: confirm with an acceptance survey after the works",
-        )
-    } else if f.id.starts_with("coverage-") {
+        );
+    }
+    let (after_sev, note) = if f.id.starts_with("coverage-") {
         match floor_passes() {
             Some(true) => (None, "the floor passes with the option (predicted)"),
             _ => (Some(f.severity), "the floor still fails with the option"),
@@ -343,7 +372,6 @@ fn finding_change(f: &Finding, after: &[&Finding], services: &[ServiceResult]) -
     } else {
         match after.iter().find(|a| a.id == f.id) {
             Some(a) => (Some(a.severity), "still raised with the option"),
-            None if f.id.starts_with("measured-") => (None, "the measured points, shifted by the predicted gain, meet the required level: confirm with an acceptance survey after the works"),
             None => (None, "not raised with the option (predicted)"),
         }
     };

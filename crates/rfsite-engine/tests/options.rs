@@ -286,7 +286,7 @@ fn exhaustive(base: &[f32], levels: &[Vec<f32>], passes: &dyn Fn(&[f32]) -> bool
             continue;
         }
         let mut l = base.to_vec();
-        for (c, lv) in levels
+        for (_, lv) in levels
             .iter()
             .enumerate()
             .filter(|(c, _)| mask & (1 << c) != 0)
@@ -418,4 +418,71 @@ fn a_what_if_with_a_typo_is_located_with_a_hint() {
     assert!(errs
         .iter()
         .any(|d| d.message.contains("`T9`") && d.hint.as_deref().unwrap_or("").contains("T1")));
+}
+
+/// A second transmitter and a screen, with one what-if raising T1's power and one lowering
+/// T2's; the first takes the shortcut from the site's own layers, the second a full re-run.
+const POWERS: &str = r#"
+[[transmitters]]
+id = "T2"
+service = "lte"
+floor = "L1"
+position = [25, 10]
+power_dbm = 10.0
+[[walls]]
+id = "screen"
+floor = "L1"
+material = "coated-glazing"
+thickness = 0.03
+points = [[15, 0], [15, 20]]
+[[what_if]]
+id = "raise-t1"
+title = "T1 at 16 dBm"
+set_power = [{ transmitter = "T1", power_dbm = 16.0 }]
+[[what_if]]
+id = "lower-t2"
+title = "T2 at 4 dBm"
+set_power = [{ transmitter = "T2", power_dbm = 4.0 }]
+"#;
+
+#[test]
+fn a_power_option_predicts_as_the_edited_site() {
+    let text = format!("{HEAD}{POWERS}");
+    let a = assess(&text);
+    let site_only = &text[..text.find("[[what_if]]").unwrap()];
+    for (id, from, to) in [
+        (
+            "raise-t1",
+            "position = [5, 10]\npower_dbm = 10.0",
+            "position = [5, 10]\npower_dbm = 16.0",
+        ),
+        (
+            "lower-t2",
+            "position = [25, 10]\npower_dbm = 10.0",
+            "position = [25, 10]\npower_dbm = 4.0",
+        ),
+    ] {
+        let opt = option(&a, id);
+        let edited = site_only.replacen(from, to, 1);
+        assert_ne!(edited, site_only, "{id}: the edit applies");
+        let b = assess(&edited);
+        assert_eq!(opt.after.as_ref().unwrap().services, b.services, "{id}");
+        let graded: Vec<_> = b
+            .layers
+            .iter()
+            .filter(|l| l.model == b.services[0].model)
+            .collect();
+        assert_eq!(graded.len(), opt.after_layers.len(), "{id}");
+        for (x, y) in graded.iter().zip(&opt.after_layers) {
+            assert_eq!(x.servers, y.servers, "{id}");
+            assert_eq!(x.best_server, y.best_server, "{id}");
+            assert!(
+                x.level_dbm
+                    .iter()
+                    .zip(&y.level_dbm)
+                    .all(|(p, q)| p.to_bits() == q.to_bits()),
+                "{id}: levels bit-equal"
+            );
+        }
+    }
 }

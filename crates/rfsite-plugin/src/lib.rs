@@ -663,6 +663,8 @@ pub struct Context<'a> {
 /// What an option's re-run knows of the site's own run.
 #[derive(Clone, Copy)]
 pub struct BaseRun<'a> {
+    /// The site as it is (the context's site is the changed one).
+    pub site: &'a rfsite_model::Site,
     /// The outputs of the run on the site as it is, in run order.
     pub outputs: &'a [(String, PluginOutput)],
     /// The changes the option makes to the site.
@@ -670,12 +672,30 @@ pub struct BaseRun<'a> {
 }
 
 impl BaseRun<'_> {
-    /// The transmitters the option adds, when adding transmitters is all it does.
-    pub fn only_added(&self) -> Option<Vec<&rfsite_model::Transmitter>> {
+    /// When the option only adds transmitters or raises the power of existing ones: each
+    /// such transmitter as it is with the option, and whether the site already has it.
+    /// `None` for any other change (a lowered power, a material, a removed wall).
+    pub fn only_raised_or_added(&self) -> Option<Vec<(rfsite_model::Transmitter, bool)>> {
+        use rfsite_model::SiteChange;
         self.changes
             .iter()
             .map(|c| match c {
-                rfsite_model::SiteChange::AddTransmitter(t) => Some(t),
+                SiteChange::AddTransmitter(t) => Some((t.clone(), false)),
+                SiteChange::SetPower {
+                    transmitter,
+                    power_dbm,
+                } => {
+                    let t = self
+                        .site
+                        .transmitters
+                        .iter()
+                        .find(|t| &t.id == transmitter)?;
+                    (*power_dbm >= t.power_dbm).then(|| {
+                        let mut raised = t.clone();
+                        raised.power_dbm = *power_dbm;
+                        (raised, true)
+                    })
+                }
                 _ => None,
             })
             .collect()

@@ -106,6 +106,7 @@ pub fn coverage_map(
     measured_required_dbm: f64,
     measured: &[&Measurement],
     plan: Option<&[u8]>,
+    added: &[AddedAntenna],
 ) -> DrawResult<String> {
     let floor = site.floor(&layer.floor).ok_or("floor not found")?;
     let u = site.units;
@@ -329,31 +330,9 @@ pub fn coverage_map(
                     .map_err(e)?;
             }
         }
-        // Transmitters of this service (on this floor).
-        for t in site
-            .transmitters
-            .iter()
-            .filter(|t| t.service == layer.service && t.floor == layer.floor)
-        {
-            let p = (u.from_m(t.position.x), u.from_m(t.position.y));
-            chart
-                .draw_series(std::iter::once(TriangleMarker::new(p, 9, WHITE.filled())))
-                .map_err(e)?;
-            chart
-                .draw_series(std::iter::once(TriangleMarker::new(p, 7, BLACK.filled())))
-                .map_err(e)?;
-            let style = TextStyle::from((CHART_FONT, 14).into_font().style(FontStyle::Bold))
-                .color(&BLACK)
-                .pos(Pos::new(HPos::Left, VPos::Bottom));
-            let off = (x1 - x0) * 0.008;
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    t.id.clone(),
-                    (p.0 + off, p.1 + off),
-                    style,
-                )))
-                .map_err(e)?;
-        }
+        // Transmitters of this service (on this floor), then the ones an option adds.
+        draw_transmitters(&mut chart, site, layer, (x1 - x0) * 0.008)?;
+        draw_added(&mut chart, added, (x1 - x0) * 0.008)?;
         // Scale bar: a round length near a fifth of the width.
         let span = x1 - x0;
         let nice = [1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0, 200.0, 500.0];
@@ -514,6 +493,20 @@ pub fn coverage_map(
             .draw(&Text::new("antenna", (40, y), font.clone()))
             .map_err(e)?;
         y += 20;
+        if !added.is_empty() {
+            for (h, c) in NEW_MARKER {
+                right
+                    .draw(&Rectangle::new(
+                        [(20 - h, y + 8 - h), (20 + h, y + 8 + h)],
+                        c.filled(),
+                    ))
+                    .map_err(e)?;
+            }
+            right
+                .draw(&Text::new("new antenna (option)", (40, y), font.clone()))
+                .map_err(e)?;
+            y += 20;
+        }
         right
             .draw(&PathElement::new(
                 vec![(8, y + 8), (34, y + 8)],
@@ -550,6 +543,88 @@ pub fn coverage_map(
         }
     }
     Ok(svg)
+}
+
+/// An antenna an option adds, marked on its after-map apart from the site's own: a white
+/// square with a black border (the site's are black triangles) labelled "<id> (new)".
+#[derive(Debug, Clone, PartialEq)]
+pub struct AddedAntenna {
+    /// Antenna id.
+    pub id: String,
+    /// Plan position x, site units.
+    pub x: f64,
+    /// Plan position y, site units.
+    pub y: f64,
+}
+
+type MapChart<'a, 'b> = ChartContext<
+    'a,
+    SVGBackend<'b>,
+    Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
+>;
+
+/// The label of an antenna, in bold, just up and right of its marker.
+fn antenna_label(
+    chart: &mut MapChart<'_, '_>,
+    text: String,
+    p: (f64, f64),
+    off: f64,
+) -> DrawResult<()> {
+    let style = TextStyle::from((CHART_FONT, 14).into_font().style(FontStyle::Bold))
+        .color(&BLACK)
+        .pos(Pos::new(HPos::Left, VPos::Bottom));
+    chart
+        .draw_series(std::iter::once(Text::new(
+            text,
+            (p.0 + off, p.1 + off),
+            style,
+        )))
+        .map_err(e)?;
+    Ok(())
+}
+
+/// The site's transmitters of the layer's service on its floor: black triangles.
+fn draw_transmitters(
+    chart: &mut MapChart<'_, '_>,
+    site: &Site,
+    layer: &CoverageLayer,
+    off: f64,
+) -> DrawResult<()> {
+    let u = site.units;
+    for t in site
+        .transmitters
+        .iter()
+        .filter(|t| t.service == layer.service && t.floor == layer.floor)
+    {
+        let p = (u.from_m(t.position.x), u.from_m(t.position.y));
+        chart
+            .draw_series(std::iter::once(TriangleMarker::new(p, 9, WHITE.filled())))
+            .map_err(e)?;
+        chart
+            .draw_series(std::iter::once(TriangleMarker::new(p, 7, BLACK.filled())))
+            .map_err(e)?;
+        antenna_label(chart, t.id.clone(), p, off)?;
+    }
+    Ok(())
+}
+
+/// The layers of an added antenna's marker, outermost first: half side in pixels and
+/// colour (white halo, black square, white centre).
+const NEW_MARKER: [(i32, RGBColor); 3] = [(9, WHITE), (7, BLACK), (4, WHITE)];
+
+/// The antennas an option adds: squares labelled "<id> (new)".
+fn draw_added(chart: &mut MapChart<'_, '_>, added: &[AddedAntenna], off: f64) -> DrawResult<()> {
+    for a in added {
+        let p = (a.x, a.y);
+        for (h, c) in NEW_MARKER {
+            let sq = Rectangle::new([(-h, -h), (h, h)], c.filled());
+            chart
+                .draw_series(std::iter::once(EmptyElement::at(p) + sq))
+                .map_err(e)?;
+        }
+        antenna_label(chart, format!("{} (new)", a.id), p, off)?;
+    }
+    Ok(())
 }
 
 /// Draws a line or scatter figure.

@@ -22,6 +22,8 @@ use typst_as_lib::TypstEngine;
 
 pub mod charts;
 pub mod grading_map;
+pub mod installer;
+pub mod options;
 pub mod portfolio;
 pub mod verdicts;
 
@@ -244,6 +246,7 @@ pub fn figures(
                 *measured_required,
                 &pts,
                 plans.get(&l.floor).map(|v| v.as_slice()),
+                &[],
             )
             .map_err(ReportError)?;
             Ok((figure_name(&l.floor, &l.service), svg))
@@ -261,6 +264,9 @@ pub fn figures(
         add_figure(&mut out, k, v)?;
     }
     for (k, v) in grading_map::grading_maps(site, a).map_err(ReportError)? {
+        add_figure(&mut out, k, v)?;
+    }
+    for (k, v) in installer::after_maps(site, a, plans).map_err(ReportError)? {
         add_figure(&mut out, k, v)?;
     }
     Ok(out)
@@ -304,24 +310,16 @@ pub fn view_model(
         .filter(|f| f.severity <= Severity::Major)
         .take(6)
         .collect();
-    let recommended = a.remediation.first();
+    let rec = options::summary_recommendation(site, a, &hb)?;
     let summary_ctx = json!({
         "site": site.meta.name, "client": site.meta.client, "overall_pass": overall_pass,
         "service_count": site.services.len(), "failing_services": verdict_lines.iter().filter(|v| v["pass"] != true).filter_map(|v| v["service"].as_str().map(str::to_string)).collect::<Vec<_>>().join(", "),
         "critical_count": a.findings.iter().filter(|f| f.severity == Severity::Critical).count(),
         "major_count": a.findings.iter().filter(|f| f.severity == Severity::Major).count(),
         "floor_count": site.floors.len(),
-        "has_recommendation": recommended.is_some(),
-        "recommendation": recommended.map(|r| r.title.clone()).unwrap_or_default(),
+        "has_recommendation": !rec.sentences.is_empty(),
+        "recommendation": rec.sentences.join(" "),
     });
-    let rec_text = match recommended {
-        Some(r) => snippet(
-            &hb,
-            "recommendation",
-            &json!({"title": r.title, "detail": r.detail, "expected": r.expected, "margin_db": f1(r.margin_needed_db)}),
-        )?,
-        None => String::new(),
-    };
     let finding_view = |f: &rfsite_plugin::Finding| {
         json!({
             "id": f.id, "severity": f.severity.label(), "title": f.title, "detail": f.detail,
@@ -481,7 +479,8 @@ pub fn view_model(
             "text": snippet(&hb, "executive_summary", &summary_ctx)?,
             "services": verdict_lines,
             "key_findings": key.iter().map(|f| finding_view(f)).collect::<Vec<_>>(),
-            "recommendation": rec_text,
+            "recommendation": rec.sentences.join(" "),
+            "recommendations": rec.rows,
         },
         "method": {
             "text": method_text,
@@ -496,6 +495,7 @@ pub fn view_model(
         "remediation": a.remediation.iter().map(|r| json!({"title": r.title, "detail": r.detail, "expected": r.expected, "caveats": r.caveats,
             "margin": f1(r.margin_needed_db), "floors": r.floors.iter().map(|f| site.floor(f).map(|x| x.name.clone()).unwrap_or(f.clone())).collect::<Vec<_>>().join(", "),
             "service": r.service.as_ref().and_then(|s| site.service(s)).map(|s| s.name.clone()).unwrap_or_default()})).collect::<Vec<_>>(),
+        "options": options::options_view(site, a, figure_names),
         "cautions": a.cautions.iter().map(|c| json!({"topic": c.topic, "text": c.text})).collect::<Vec<_>>(),
         "tables": tables,
         "figures": figs,

@@ -106,7 +106,7 @@ pub fn mounting(floor: &Floor, waves: &[Standing], p: Point2) -> (Point2, String
     let away = away_from(seg, p);
     let moved = Point2::new(p.x + away.x * (peak - d), p.y + away.y * (peak - d));
     let note = format!(
-        "{:.2} m from `{id}` ({}): on a standing-wave peak in front of it, not in a null (λ = {:.3} m)",
+        "{:.2} m from wall {id} ({}): on a standing-wave peak in front of it, not in a null (λ = {:.3} m)",
         peak, s.material, s.wavelength_m
     );
     (moved, note)

@@ -155,13 +155,16 @@ fn remediation(
         .collect();
     let lines: Vec<String> = d.floors.iter().map(|f| floor_line(site, f)).collect();
     let n = net.placed.len();
+    let name = |id: &str| site.floor(id).map_or(id.to_string(), |f| f.name.clone());
+    let floor_names: Vec<String> = floors.iter().map(|f| name(f)).collect();
     Remediation {
         id: format!("design-{}", svc.id),
         title: format!(
-            "{n} new indoor antenna(s) for {} on {}, fed from the head end on {}",
+            "{n} new indoor {} for {} on {}, fed from the head end on {}",
+            if n == 1 { "antenna" } else { "antennas" },
             svc.name,
-            floors.join(", "),
-            net.distribution.head_end_floor
+            floor_names.join(", "),
+            name(&net.distribution.head_end_floor)
         ),
         service: Some(svc.id.clone()),
         floors,
