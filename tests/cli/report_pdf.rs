@@ -1,6 +1,6 @@
 //! The demo report renders, and a PDF text extractor finds what a reader needs.
 
-use crate::cli::util::{pdf_pages, pdf_text, rfsite, root};
+use crate::cli::util::{pdf_pages, pdf_text, pdf_text_raw, rfsite, root};
 
 #[test]
 fn demo_report_has_the_sections_verdicts_and_audit_trail() {
@@ -203,4 +203,90 @@ fn concrete_at_800_mhz_is_flagged_in_findings_and_report() {
         flat.contains("concrete") && flat.contains("extrapolated"),
         "report appendix lacks the range note"
     );
+}
+
+/// Issue 12: the demo recommends a designed option that passes every floor, and the PDF
+/// carries what findings.json says of it: the title, every antenna's coordinates to 0.01
+/// (site units), every bill-of-quantities line, and the head end's per-channel output.
+#[test]
+fn demo_recommends_a_designed_option_with_coordinates_and_quantities() {
+    let out_dir = tempfile::tempdir().unwrap();
+    let site = root().join("examples/kestrel-quay-clinic");
+    let out = rfsite()
+        .arg("report")
+        .arg(&site)
+        .arg("-o")
+        .arg(out_dir.path())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let f: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
+            .unwrap();
+    let flat: String = pdf_text_raw(&out_dir.path().join("report.pdf"))
+        .split_whitespace()
+        .collect();
+    let squash = |s: &str| s.split_whitespace().collect::<String>();
+    let recommended: Vec<&serde_json::Value> = f["remediation"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|r| r["recommended"] == true)
+        .collect();
+    let designed: Vec<_> = recommended
+        .iter()
+        .filter(|r| r["plugin"] == "antenna-design")
+        .collect();
+    assert!(!designed.is_empty(), "no designed option is recommended");
+    for r in designed {
+        let after = &r["after"];
+        assert_eq!(after["passes"], true, "{}", r["id"]);
+        for s in after["services"].as_array().unwrap() {
+            if s["id"] == r["service"] {
+                for fl in s["floors"].as_array().unwrap() {
+                    assert_eq!(fl["pass"], true, "{} {}", r["id"], fl["id"]);
+                }
+            }
+        }
+        assert!(
+            flat.contains(&squash(r["title"].as_str().unwrap())),
+            "title of {}",
+            r["id"]
+        );
+        let antennas = r["antennas"].as_array().unwrap();
+        assert!(!antennas.is_empty());
+        for a in antennas {
+            let p = a["position"].as_array().unwrap();
+            let (x, y) = (p[0].as_f64().unwrap(), p[1].as_f64().unwrap());
+            let id = a["id"].as_str().unwrap();
+            // The installer schedule's x and y cells, side by side, and the change list.
+            assert!(
+                flat.contains(&format!("{x:.2}{y:.2}")),
+                "{id}: schedule lacks ({x:.2}, {y:.2})"
+            );
+            assert!(
+                flat.contains(&format!("{id}added")),
+                "{id} not in the change list"
+            );
+            assert!(
+                flat.contains(&format!("({x:.2},{y:.2})")),
+                "{id}: change list lacks its position"
+            );
+        }
+        for q in r["quantities"].as_array().unwrap() {
+            let item = squash(q["item"].as_str().unwrap());
+            let n = q["quantity"].as_f64().unwrap();
+            assert!(
+                flat.contains(&format!("{item}{n}")),
+                "BoQ line {item} × {n} missing"
+            );
+        }
+        let d = &r["distribution"];
+        let pch = format!("{:.1}dBm", d["per_channel_dbm"].as_f64().unwrap());
+        assert!(flat.contains(&pch), "head-end per-channel {pch} missing");
+    }
 }

@@ -35,6 +35,20 @@ pub fn pdf_text(pdf: &Path) -> String {
     String::from_utf8_lossy(&out.stdout).to_string()
 }
 
+/// The text of a PDF in content order (`pdftotext -raw`): a table's cells come one after
+/// the other, row by row, however they wrap.
+pub fn pdf_text_raw(pdf: &Path) -> String {
+    let out = Command::new("pdftotext").arg("-raw").arg(pdf).arg("-").output().expect(
+        "pdftotext (poppler-utils) is needed by the report tests: apt-get install -y poppler-utils",
+    );
+    assert!(
+        out.status.success(),
+        "pdftotext failed on {}",
+        pdf.display()
+    );
+    String::from_utf8_lossy(&out.stdout).to_string()
+}
+
 /// Page count of a PDF through poppler's pdfinfo.
 pub fn pdf_pages(pdf: &Path) -> usize {
     let out = Command::new("pdfinfo")
