@@ -55,6 +55,13 @@ pub fn known_keys(parent: &[&str]) -> Option<&'static [&'static str]> {
             "add_transmitters" => fields_of::<RawTransmitter>(),
             _ => return None,
         },
+        ["services", i, "uplink"] if is_index(i) => fields_of::<RawUplink>(),
+        ["donors", i, sub] if is_index(i) => match *sub {
+            "serving_site" => fields_of::<RawServingSite>(),
+            "donor_antenna" => fields_of::<RawDonorAntenna>(),
+            "booster" => fields_of::<RawBooster>(),
+            _ => return None,
+        },
         [table, i] if is_index(i) => match *table {
             "revisions" => fields_of::<RawRevision>(),
             "materials" => fields_of::<RawMaterial>(),

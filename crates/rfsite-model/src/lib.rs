@@ -38,6 +38,7 @@ pub mod names;
 #[allow(missing_docs)]
 pub mod raw;
 pub mod site;
+pub mod twoway;
 pub mod validate;
 pub mod whatif;
 
@@ -47,4 +48,5 @@ pub use material::{
 };
 pub use site::*;
 pub use validate::{load, Loaded};
+pub use twoway::{Booster, DonorAntenna, ServingSite, Uplink};
 pub use whatif::{SiteChange, WhatIf};

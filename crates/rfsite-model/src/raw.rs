@@ -188,6 +188,53 @@ pub struct RawService {
     pub bandwidth_khz: Option<S<f64>>,
     pub noise_figure_db: Option<S<f64>>,
     pub receiver_floor_dbm: Option<S<f64>>,
+    pub uplink: Option<S<RawUplink>>,
+}
+
+/// `[[services]] uplink = { ... }`.
+#[derive(Debug, Deserialize, Default)]
+pub struct RawUplink {
+    pub freq_mhz: Option<S<f64>>,
+    pub handset_power_dbm: Option<S<f64>>,
+    pub handset_gain_dbi: Option<S<f64>>,
+    pub head_end_required_dbm: Option<S<f64>>,
+}
+
+/// `[[donors]] serving_site = { ... }`.
+#[derive(Debug, Deserialize, Default)]
+pub struct RawServingSite {
+    pub eirp_dbm: Option<S<f64>>,
+    pub path_loss_db: Option<S<f64>>,
+    pub distance: Option<S<f64>>,
+    pub azimuth_deg: Option<S<f64>>,
+    pub rx_gain_dbi: Option<S<f64>>,
+    pub noise_floor_dbm: Option<S<f64>>,
+    pub uplink_required_dbm: Option<S<f64>>,
+}
+
+/// `[[donors]] donor_antenna = { ... }`.
+#[derive(Debug, Deserialize, Default)]
+pub struct RawDonorAntenna {
+    pub floor: Option<S<String>>,
+    pub position: Option<S<RawPoint>>,
+    pub height: Option<S<f64>>,
+    pub gain_dbi: Option<S<f64>>,
+    pub front_to_back_db: Option<S<f64>>,
+    pub azimuth_deg: Option<S<f64>>,
+    pub cable_loss_db: Option<S<f64>>,
+    pub level_dbm: Option<S<f64>>,
+}
+
+/// `[[donors]] booster = { ... }`.
+#[derive(Debug, Deserialize, Default)]
+pub struct RawBooster {
+    pub uplink_gain_db: Option<S<f64>>,
+    pub downlink_gain_db: Option<S<f64>>,
+    pub noise_figure_db: Option<S<f64>>,
+    pub channels: Option<S<i64>>,
+    pub channel_bw_khz: Option<S<f64>>,
+    pub max_composite_dbm: Option<S<f64>>,
+    pub back_off_db: Option<S<f64>>,
 }
 
 /// `[[transmitters]]`
@@ -217,6 +264,9 @@ pub struct RawDonor {
     pub facade: Option<S<Vec<S<String>>>>,
     pub elevation_deg: Option<S<f64>>,
     pub direction_deg: Option<S<f64>>,
+    pub serving_site: Option<S<RawServingSite>>,
+    pub donor_antenna: Option<S<RawDonorAntenna>>,
+    pub booster: Option<S<RawBooster>>,
 }
 
 /// `[[surveys]]`: a measurement CSV file.

@@ -150,7 +150,7 @@ fn ser_points<S: serde::Serializer>(p: &[Point2], ser: S) -> Result<S::Ok, S::Er
     q.end()
 }
 
-fn ser_point<S: serde::Serializer>(p: &Point2, ser: S) -> Result<S::Ok, S::Error> {
+pub(crate) fn ser_point<S: serde::Serializer>(p: &Point2, ser: S) -> Result<S::Ok, S::Error> {
     [p.x, p.y].serialize(ser)
 }
 
@@ -273,6 +273,8 @@ pub struct Service {
     /// Levels below this are no service, dBm: the site's `receiver_floor_dbm`, else
     /// thermal noise over `bandwidth_khz` plus `noise_figure_db`.
     pub receiver_floor_dbm: f64,
+    /// How a handset reaches the network, when described.
+    pub uplink: Option<crate::Uplink>,
 }
 
 /// Default receiver bandwidth of a service, kHz: a 12.5 kHz land-mobile channel for a
@@ -358,6 +360,12 @@ pub struct Donor {
     pub elevation_deg: f64,
     /// Plan direction the signal comes from, degrees counter-clockwise from +x.
     pub direction_deg: Option<f64>,
+    /// The network site the signal comes from, when described.
+    pub serving_site: Option<crate::ServingSite>,
+    /// A roof donor antenna facing it.
+    pub antenna: Option<crate::DonorAntenna>,
+    /// The off-air signal booster the donor antenna feeds.
+    pub booster: Option<crate::Booster>,
 }
 
 /// A survey file named by the site.

@@ -12,6 +12,7 @@ use crate::raw::*;
 use crate::site::*;
 
 mod refs;
+mod twoway;
 mod whatif;
 use refs::{floor_ref, service_ref, transmitter, Names};
 
@@ -1904,6 +1905,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             bandwidth_khz,
             noise_figure_db,
             receiver_floor_dbm,
+            uplink: twoway::uplink(v, &s.uplink, life_safety, idv.get_ref()),
         });
     }
     let svc_names: Vec<String> = services.iter().map(|s| s.id.clone()).collect();
@@ -1962,6 +1964,9 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             .map(|f| f.get_ref().iter().map(|x| x.get_ref().clone()).collect())
             .unwrap_or_default();
         donor_angles(v, d, &what);
+        let serving_site = twoway::serving_site(v, d, &what);
+        let antenna = twoway::donor_antenna(v, d, &floor_names, &what);
+        let booster = twoway::booster(v, d, &what);
         if let (Some(service), Some(level_dbm)) = (svc, level) {
             donors.push(Donor {
                 id,
@@ -1975,6 +1980,9 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
                     .map(|e| *e.get_ref())
                     .unwrap_or(0.0),
                 direction_deg: d.direction_deg.as_ref().map(|e| *e.get_ref()),
+                serving_site,
+                antenna,
+                booster,
             });
         }
     }
