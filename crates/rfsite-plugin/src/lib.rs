@@ -211,9 +211,16 @@ pub struct FloorResult {
     /// Measured points below the measured required level.
     #[serde(default)]
     pub measured_failures: usize,
-    /// Each failed criterion (empty when the floor passes).
+    /// Each failed criterion (empty when the floor passes), uplink ones included.
     #[serde(default)]
     pub reasons: Vec<Reason>,
+    /// The downlink's own verdict (`pass` is the floor's verdict of record: for a
+    /// life-safety service both directions must pass).
+    #[serde(default)]
+    pub downlink_pass: Option<bool>,
+    /// The uplink verdict, when the grading judged it.
+    #[serde(default)]
+    pub uplink: Option<UplinkFloor>,
 }
 
 /// Result per service (findings.json contract: id, freq_mhz, threshold_dbm, floors).
@@ -251,6 +258,9 @@ pub struct ServiceResult {
     pub model: String,
     /// Per floor.
     pub floors: Vec<FloorResult>,
+    /// How the uplink was judged (or why it was not).
+    #[serde(default)]
+    pub uplink: Option<UplinkBudget>,
     /// Whole-service verdict.
     pub pass: bool,
 }

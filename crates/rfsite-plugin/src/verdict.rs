@@ -189,3 +189,61 @@ mod tests {
         ));
     }
 }
+
+/// One line of an uplink budget: a gain (+) or a loss (−) on the way from the handset to
+/// the network receiver, or a level.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct BudgetLine {
+    /// What it is.
+    pub label: String,
+    /// dB (a gain or a loss) or dBm (a level), as `unit` says.
+    pub value: f64,
+    /// `dB` or `dBm`.
+    pub unit: String,
+    /// Where the figure comes from.
+    #[serde(default)]
+    pub source: String,
+}
+
+/// How a service's uplink was judged: the handset's path to the network, the noise a
+/// booster adds there, and the shift from the downlink margin to the uplink margin.
+///
+/// At a point served by in-building antennas, the uplink reaching the head end is
+/// DL − P_ant + P_hs + G_hs − Δf (reciprocity: the same path at the uplink frequency, Δf
+/// from ITU-R P.525), so the uplink margin is the downlink level plus `shift_db` against
+/// the downlink's own required level: the same cells, zones and targets grade both.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Default)]
+pub struct UplinkBudget {
+    /// Whether the uplink could be assessed.
+    pub assessed: bool,
+    /// The path: `off-air booster`, `head end fed by a base station`, `direct to the
+    /// serving site`, or empty when not assessed.
+    pub path: String,
+    /// Why it was not assessed (what data are missing), when not.
+    #[serde(default)]
+    pub why_not: String,
+    /// The budget, handset to network receiver.
+    pub lines: Vec<BudgetLine>,
+    /// Uplink margin minus downlink margin at every point, dB.
+    pub shift_db: f64,
+    /// Rise of the serving site's noise floor from the booster, dB, when one is used.
+    pub noise_rise_db: Option<f64>,
+}
+
+/// The uplink verdict of one floor.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct UplinkFloor {
+    /// Whether it was assessed.
+    pub assessed: bool,
+    /// Pass on the uplink (false when not assessed).
+    pub pass: bool,
+    /// Fraction of general area whose uplink meets the required margin.
+    pub general_fraction: Option<f64>,
+    /// Fraction of critical area meeting it.
+    pub critical_fraction: Option<f64>,
+    /// Extra uplink needed so the targets would be met, dB (0 when passing).
+    pub margin_needed_db: f64,
+    /// The uplink's own failed criteria.
+    #[serde(default)]
+    pub reasons: Vec<Reason>,
+}

@@ -28,6 +28,7 @@ use rfsite_plugin::*;
 
 pub mod cells;
 pub mod findings;
+pub mod uplink;
 pub mod rules;
 pub mod zones;
 pub use cells::{cell_layout, grade_floor, CellLayout, CellRect, FloorGrade, GradedCell, Verdict};
@@ -287,6 +288,8 @@ fn floor_result(
         measured_points: inp.measured.len(),
         measured_failures: failures.len(),
         reasons,
+        downlink_pass: Some(pass),
+        uplink: None,
     }
 }
 

@@ -252,12 +252,14 @@ impl Plugin for Grading {
                     key: "location_probability".into(),
                     message: m,
                 })?;
+            let up = crate::uplink::budget(ctx.site, svc, req.threshold_dbm);
             let g = ServiceGrading {
                 ctx,
                 svc,
                 rule: &rule,
                 req: &req,
                 layers: &layers,
+                uplink: &up,
             };
             let outcomes = g.floors(&mut out);
             out.tables.push(g.table(&outcomes));
@@ -306,6 +308,7 @@ struct ServiceGrading<'c, 'a> {
     rule: &'c Rule,
     req: &'c RequiredLevel,
     layers: &'c [&'a CoverageLayer],
+    uplink: &'c UplinkBudget,
 }
 
 impl ServiceGrading<'_, '_> {
@@ -336,8 +339,11 @@ impl ServiceGrading<'_, '_> {
                     .filter(|m| m.floor == floor.id && m.service == self.svc.id)
                     .collect(),
             };
-            let o = grade_one_floor(&inp);
+            let mut o = grade_one_floor(&inp);
             out.findings.extend(findings::floor_findings(&inp, &o));
+            let ul = crate::uplink::grade(&inp, self.uplink);
+            out.findings.extend(crate::uplink::finding(&inp, self.uplink, &ul));
+            crate::uplink::combine(&mut o.result, ul, self.svc, self.uplink);
             v.push(o);
         }
         v.sort_by(|a, b| a.result.id.cmp(&b.result.id));
@@ -448,6 +454,7 @@ impl ServiceGrading<'_, '_> {
             target_general: rule.target_general,
             target_critical: rule.target_critical,
             model: model.to_string(),
+            uplink: Some(self.uplink.clone()),
             pass: floors.iter().all(|f| f.pass),
             floors,
         }
