@@ -42,6 +42,7 @@
 
 pub mod angle_table;
 pub mod antenna;
+pub mod booster;
 pub mod cost231;
 pub mod exposure;
 pub mod fspl;
