@@ -2,7 +2,9 @@
 
 use rfsite_model::{MaterialLibrary, GRAZING_LIMIT_DEG};
 use rfsite_physics::p2040::Polarization;
-use rfsite_physics::{antenna, cost231, exposure, fspl, p1238, p2109, standing_wave, stats};
+use rfsite_physics::{
+    antenna, booster, cost231, exposure, fspl, p1238, p2109, standing_wave, stats,
+};
 use serde_json::{json, Map, Value};
 
 use crate::Outcome;
@@ -148,6 +150,80 @@ pub enum What {
         phi_deg: f64,
         #[arg(long, default_value_t = 8.0)]
         gain_dbi: f64,
+    },
+    /// Rise of a serving site's uplink noise floor caused by a booster's noise.
+    #[command(allow_negative_numbers = true)]
+    NoiseRise {
+        /// Booster noise at the receiver relative to its noise floor, dB (or give the
+        /// three levels below).
+        #[arg(
+            long,
+            required_unless_present = "noise_out_dbm",
+            conflicts_with_all = ["noise_out_dbm", "link_loss_db", "noise_floor_dbm"]
+        )]
+        delta_db: Option<f64>,
+        /// Booster noise output at its donor port over the receiver bandwidth, dBm.
+        #[arg(long, requires_all = ["link_loss_db", "noise_floor_dbm"])]
+        noise_out_dbm: Option<f64>,
+        /// Loss from the booster's donor port to the receiver input, dB.
+        #[arg(long)]
+        link_loss_db: Option<f64>,
+        /// The receiver's own noise floor, dBm.
+        #[arg(long)]
+        noise_floor_dbm: Option<f64>,
+    },
+    /// Booster downlink chain: gain for a wanted output, levels, composite, EIRP.
+    #[command(allow_negative_numbers = true)]
+    Booster {
+        /// Isotropic level at the donor antenna, dBm per channel.
+        #[arg(long)]
+        roof_dbm: f64,
+        #[arg(long)]
+        donor_gain_dbi: f64,
+        #[arg(long)]
+        donor_cable_db: f64,
+        /// Wanted booster output, dBm per channel.
+        #[arg(long)]
+        output_dbm: f64,
+        #[arg(long, default_value_t = 1)]
+        channels: u32,
+        /// Splitters, server cable and connectors, booster output to server antenna, dB.
+        #[arg(long, default_value_t = 0.0)]
+        distribution_db: f64,
+        #[arg(long, default_value_t = 0.0)]
+        server_gain_dbi: f64,
+        /// The booster's rated composite output, dBm.
+        #[arg(long)]
+        rated_composite_dbm: Option<f64>,
+        /// Back-off below the rated composite output, dB (default 0).
+        #[arg(long, requires = "rated_composite_dbm")]
+        back_off_db: Option<f64>,
+    },
+    /// Isolation between a booster's donor and server antennas and the stable gain.
+    #[command(allow_negative_numbers = true)]
+    Isolation {
+        #[arg(long)]
+        distance_m: f64,
+        #[arg(long)]
+        freq_mhz: f64,
+        /// Slabs and walls between the antennas, dB.
+        #[arg(long, default_value_t = 0.0)]
+        obstruction_db: f64,
+        /// Donor antenna gain toward the server antenna, dBi.
+        #[arg(long, default_value_t = 0.0)]
+        donor_gain_dbi: f64,
+        /// Server antenna gain toward the donor antenna, dBi.
+        #[arg(long, default_value_t = 0.0)]
+        server_gain_dbi: f64,
+        /// Both antennas' cable losses, dB.
+        #[arg(long, default_value_t = 0.0)]
+        cables_db: f64,
+        /// Isolation kept above the gain, dB.
+        #[arg(long, default_value_t = booster::DEFAULT_ISOLATION_MARGIN_DB)]
+        margin_db: f64,
+        /// A booster gain to check against the stable gain, dB.
+        #[arg(long)]
+        gain_db: Option<f64>,
     },
 }
 
@@ -387,6 +463,60 @@ fn compute(w: &What) -> Result<Value, String> {
                 json!({"gain_dbi": p.gain_dbi(*theta_deg, *phi_deg), "source": "3GPP TR 38.901 Table 7.3-1"}),
             )
         }
+        What::NoiseRise {
+            delta_db,
+            noise_out_dbm,
+            link_loss_db,
+            noise_floor_dbm,
+        } => noise_rise_json(*delta_db, *noise_out_dbm, *link_loss_db, *noise_floor_dbm),
+        What::Booster {
+            roof_dbm,
+            donor_gain_dbi,
+            donor_cable_db,
+            output_dbm,
+            channels,
+            distribution_db,
+            server_gain_dbi,
+            rated_composite_dbm,
+            back_off_db,
+        } => booster_json(
+            &booster::DownlinkChain {
+                roof_level_dbm: *roof_dbm,
+                donor_gain_dbi: *donor_gain_dbi,
+                donor_cable_db: *donor_cable_db,
+                gain_db: booster::downlink_gain_db(
+                    *output_dbm,
+                    *roof_dbm,
+                    *donor_gain_dbi,
+                    *donor_cable_db,
+                ),
+                distribution_db: *distribution_db,
+                server_gain_dbi: *server_gain_dbi,
+            },
+            *channels,
+            rated_composite_dbm.map(|r| (r, back_off_db.unwrap_or(0.0))),
+        ),
+        What::Isolation {
+            distance_m,
+            freq_mhz,
+            obstruction_db,
+            donor_gain_dbi,
+            server_gain_dbi,
+            cables_db,
+            margin_db,
+            gain_db,
+        } => isolation_json(
+            &IsolationInput {
+                distance_m: *distance_m,
+                freq_mhz: *freq_mhz,
+                obstruction_db: *obstruction_db,
+                donor_gain_dbi: *donor_gain_dbi,
+                server_gain_dbi: *server_gain_dbi,
+                cables_db: *cables_db,
+            },
+            *margin_db,
+            *gain_db,
+        ),
     }
 }
 
@@ -455,4 +585,158 @@ fn exposure_json(
         json!({"eirp_w": eirp_w, "eirp_dbm": 10.0 * eirp_w.log10() + 30.0, "limit_w_per_m2": s, "distance_m": d,
         "far_field_min_m": far, "within_near_field": d < far, "source": lim.source(), "note": note}),
     )
+}
+
+/// Checks a flag's value is a finite number.
+fn finite(name: &str, v: f64) -> Result<(), String> {
+    if v.is_finite() {
+        Ok(())
+    } else {
+        Err(format!("--{name} must be a finite number (got {v})"))
+    }
+}
+
+/// Checks a flag's value is a finite number not below 0.
+fn non_negative(name: &str, v: f64) -> Result<(), String> {
+    if v.is_finite() && v >= 0.0 {
+        Ok(())
+    } else {
+        Err(format!("--{name} must be a number not below 0 (got {v})"))
+    }
+}
+
+/// `calc noise-rise`: the booster noise at the receiver relative to its floor (given,
+/// or from the three levels) and the rise of the floor it causes.
+fn noise_rise_json(
+    delta_db: Option<f64>,
+    noise_out_dbm: Option<f64>,
+    link_loss_db: Option<f64>,
+    noise_floor_dbm: Option<f64>,
+) -> Result<Value, String> {
+    let delta = match (delta_db, noise_out_dbm, link_loss_db, noise_floor_dbm) {
+        (Some(d), _, _, _) => {
+            finite("delta-db", d)?;
+            d
+        }
+        (None, Some(n), Some(l), Some(f)) => {
+            finite("noise-out-dbm", n)?;
+            finite("link-loss-db", l)?;
+            finite("noise-floor-dbm", f)?;
+            booster::noise_delta_at_receiver_db(n, l, f)
+        }
+        _ => {
+            return bad(
+                "give --delta-db, or --noise-out-dbm with --link-loss-db and --noise-floor-dbm"
+                    .into(),
+            )
+        }
+    };
+    let rise = booster::noise_rise_db(delta);
+    let limit = booster::DEFAULT_MAX_NOISE_RISE_DB;
+    Ok(
+        json!({"delta_db": delta, "noise_rise_db": rise, "planning_limit_db": limit,
+        "above_planning_limit": rise > limit,
+        "source": "power sum 10 log10(1 + 10^(dN/10)); planning limit about 1 dB, from memory"}),
+    )
+}
+
+/// `calc booster`: the downlink chain for the wanted output, its composite over the
+/// channels, and the margin to the rated composite output less the back-off.
+fn booster_json(
+    chain: &booster::DownlinkChain,
+    channels: u32,
+    rated: Option<(f64, f64)>,
+) -> Result<Value, String> {
+    finite("roof-dbm", chain.roof_level_dbm)?;
+    finite("donor-gain-dbi", chain.donor_gain_dbi)?;
+    non_negative("donor-cable-db", chain.donor_cable_db)?;
+    finite("output-dbm", chain.output_dbm())?;
+    non_negative("distribution-db", chain.distribution_db)?;
+    finite("server-gain-dbi", chain.server_gain_dbi)?;
+    if channels == 0 {
+        return bad("--channels must be at least 1 (got 0)".into());
+    }
+    let composite =
+        booster::composite_dbm(chain.output_dbm(), channels).map_err(|e| e.to_string())?;
+    let mut v = json!({"gain_db": chain.gain_db, "input_dbm": chain.input_dbm(),
+        "output_per_channel_dbm": chain.output_dbm(), "channels": channels,
+        "composite_dbm": composite, "port_dbm": chain.port_dbm(), "eirp_dbm": chain.eirp_dbm(),
+        "source": "link budget per channel; composite P + 10 log10 N (common practice)"});
+    if let (Some((r, b)), Value::Object(m)) = (rated, &mut v) {
+        rating_fields(m, composite, r, b)?;
+    }
+    Ok(v)
+}
+
+/// Adds the rated output, the back-off, the margin and the EXCEEDED verdict.
+fn rating_fields(
+    m: &mut Map<String, Value>,
+    composite: f64,
+    rated_dbm: f64,
+    back_off_db: f64,
+) -> Result<(), String> {
+    finite("rated-composite-dbm", rated_dbm)?;
+    non_negative("back-off-db", back_off_db)?;
+    let allowed = rated_dbm - back_off_db;
+    let margin = allowed - composite;
+    let verdict = if margin < 0.0 {
+        format!("EXCEEDED: the composite output is {:.2} dB above the rated {rated_dbm} dBm less {back_off_db} dB back-off", -margin)
+    } else {
+        format!("within the rated {rated_dbm} dBm less {back_off_db} dB back-off by {margin:.2} dB")
+    };
+    m.insert("rated_composite_dbm".into(), json!(rated_dbm));
+    m.insert("back_off_db".into(), json!(back_off_db));
+    m.insert("allowed_composite_dbm".into(), json!(allowed));
+    m.insert("margin_db".into(), json!(margin));
+    m.insert("exceeded".into(), json!(margin < 0.0));
+    m.insert("verdict".into(), json!(verdict));
+    Ok(())
+}
+
+/// The geometry and losses between a booster's donor and server antennas.
+struct IsolationInput {
+    distance_m: f64,
+    freq_mhz: f64,
+    obstruction_db: f64,
+    donor_gain_dbi: f64,
+    server_gain_dbi: f64,
+    cables_db: f64,
+}
+
+/// `calc isolation`: the donor-to-server isolation, the largest stable gain with the
+/// margin, and whether a given gain is stable.
+fn isolation_json(
+    i: &IsolationInput,
+    margin_db: f64,
+    gain_db: Option<f64>,
+) -> Result<Value, String> {
+    positive("distance-m", i.distance_m)?;
+    positive("freq-mhz", i.freq_mhz)?;
+    non_negative("obstruction-db", i.obstruction_db)?;
+    non_negative("cables-db", i.cables_db)?;
+    finite("donor-gain-dbi", i.donor_gain_dbi)?;
+    finite("server-gain-dbi", i.server_gain_dbi)?;
+    finite("margin-db", margin_db)?;
+    let iso = booster::isolation_db(
+        i.distance_m,
+        i.freq_mhz,
+        i.obstruction_db,
+        i.donor_gain_dbi,
+        i.server_gain_dbi,
+        i.cables_db,
+    )
+    .map_err(|e| e.to_string())?;
+    let max_gain = booster::max_stable_gain_db(iso, margin_db);
+    let note = fspl::fspl_range_note(i.freq_mhz, i.distance_m);
+    let mut v = json!({"free_space_db": fspl::fspl_db(i.freq_mhz, i.distance_m), "isolation_db": iso,
+        "margin_db": margin_db, "max_stable_gain_db": max_gain,
+        "extrapolated": note.is_some(), "warning": note.map(|n| n.message()),
+        "source": "ITU-R P.525-4 free space + obstruction - gains + cables; margin 15 dB common practice"});
+    if let (Some(g), Value::Object(m)) = (gain_db, &mut v) {
+        finite("gain-db", g)?;
+        m.insert("gain_db".into(), json!(g));
+        m.insert("stable".into(), json!(g <= max_gain));
+        m.insert("short_by_db".into(), json!((g - max_gain).max(0.0)));
+    }
+    Ok(v)
 }

@@ -267,3 +267,162 @@ fn materials_print_a_conductor_beyond_the_cap_never_as_zero() {
         .unwrap()
         .contains("does not change it"));
 }
+
+/// The number under `key` of a `calc --json` answer.
+fn num(v: &serde_json::Value, key: &str) -> f64 {
+    v[key].as_f64().unwrap_or(f64::NAN)
+}
+
+#[test]
+fn noise_rise_from_delta_and_from_levels() {
+    // Power sum R = 10 log10(1 + 10^(dN/10)) (hand calculation): dN = -10 dB -> 10 log10 1.1
+    // = 0.4139 dB.
+    let v = calc_json(&["noise-rise", "--delta-db", "-10"]);
+    assert!((num(&v, "noise_rise_db") - 0.4139).abs() < 1e-4);
+    // Hand calculation: N_out -90 dBm, loss 20 dB, floor -110 dBm -> dN = -90 - 20 + 110 =
+    // 0 dB -> 10 log10 2 = 3.0103 dB, above the ~1 dB planning limit (from memory).
+    let v = calc_json(&[
+        "noise-rise",
+        "--noise-out-dbm",
+        "-90",
+        "--link-loss-db",
+        "20",
+        "--noise-floor-dbm",
+        "-110",
+    ]);
+    assert!(num(&v, "delta_db").abs() < 1e-12);
+    assert!((num(&v, "noise_rise_db") - 3.0103).abs() < 1e-4);
+    assert_eq!(v["above_planning_limit"], true);
+}
+
+#[test]
+fn booster_downlink_chain_by_hand() {
+    // Hand calculation (link budget, common practice): roof -60 dBm + donor 10 dBi - cable
+    // 3.5 dB = input -53.5 dBm; wanted output 6.5 dBm -> gain 60 dB; distribution 12.3 dB ->
+    // port -5.8 dBm; server 2 dBi -> EIRP -3.8 dBm; 4 channels -> composite 6.5 + 10 log10 4
+    // = 12.5206 dBm; rated 12 dBm, no back-off -> margin -0.5206 dB, exceeded.
+    let chain = [
+        "booster",
+        "--roof-dbm",
+        "-60",
+        "--donor-gain-dbi",
+        "10",
+        "--donor-cable-db",
+        "3.5",
+        "--output-dbm",
+        "6.5",
+        "--channels",
+        "4",
+        "--distribution-db",
+        "12.3",
+        "--server-gain-dbi",
+        "2",
+    ];
+    let mut args = chain.to_vec();
+    args.extend_from_slice(&["--rated-composite-dbm", "12"]);
+    let v = calc_json(&args);
+    for (key, want) in [
+        ("gain_db", 60.0),
+        ("input_dbm", -53.5),
+        ("output_per_channel_dbm", 6.5),
+        ("composite_dbm", 12.5206),
+        ("port_dbm", -5.8),
+        ("eirp_dbm", -3.8),
+        ("margin_db", -0.5206),
+    ] {
+        assert!((num(&v, key) - want).abs() < 1e-3, "{key}: {v}");
+    }
+    assert_eq!(v["exceeded"], true);
+    // Rated 20 dBm less 6 dB back-off = 14 dBm: margin 14 - 12.5206 = 1.4794 dB, within.
+    let mut args = chain.to_vec();
+    args.extend_from_slice(&["--rated-composite-dbm", "20", "--back-off-db", "6"]);
+    let v = calc_json(&args);
+    assert!((num(&v, "margin_db") - 1.4794).abs() < 1e-3);
+    assert_eq!(v["exceeded"], false);
+}
+
+#[test]
+fn isolation_across_a_slab_by_hand() {
+    // ITU-R P.525-4 with exact c: 32.4478 + 20 log10 770 + 20 log10 0.020 = 32.4478 +
+    // 57.7298 - 33.9794 = 56.1982 dB; + slab 20 dB + donor back lobe 15 dB (-15 dBi) - server
+    // 0 dBi + cables 5 dB = 96.1982 dB; margin 15 dB (common practice) -> 81.1982 dB; a
+    // gain of 85 dB is 3.8018 dB short (hand calculation).
+    let v = calc_json(&[
+        "isolation",
+        "--distance-m",
+        "20",
+        "--freq-mhz",
+        "770",
+        "--obstruction-db",
+        "20",
+        "--donor-gain-dbi",
+        "-15",
+        "--cables-db",
+        "5",
+        "--gain-db",
+        "85",
+    ]);
+    assert!((num(&v, "free_space_db") - 56.1982).abs() < 1e-3);
+    assert!((num(&v, "isolation_db") - 96.1982).abs() < 1e-3);
+    assert!((num(&v, "max_stable_gain_db") - 81.1982).abs() < 1e-3);
+    assert!((num(&v, "short_by_db") - 3.8018).abs() < 1e-3);
+    assert_eq!(v["stable"], false);
+}
+
+#[test]
+fn booster_calcs_refuse_nonsense_with_exit_2() {
+    // A distance of 0 m has no free-space loss (ITU-R P.525 needs d > 0); zero channels
+    // have no composite power; a negative cable loss is a gain.
+    for (args, says) in [
+        (
+            vec![
+                "calc",
+                "isolation",
+                "--distance-m",
+                "0",
+                "--freq-mhz",
+                "770",
+            ],
+            "--distance-m",
+        ),
+        (
+            vec![
+                "calc",
+                "booster",
+                "--roof-dbm",
+                "-60",
+                "--donor-gain-dbi",
+                "10",
+                "--donor-cable-db",
+                "3.5",
+                "--output-dbm",
+                "6.5",
+                "--channels",
+                "0",
+            ],
+            "--channels",
+        ),
+        (
+            vec![
+                "calc",
+                "isolation",
+                "--distance-m",
+                "20",
+                "--freq-mhz",
+                "770",
+                "--cables-db",
+                "-3",
+            ],
+            "--cables-db",
+        ),
+        (
+            vec!["calc", "noise-rise", "--delta-db", "NaN"],
+            "--delta-db",
+        ),
+    ] {
+        let out = run(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(says) && !err.contains("panicked"), "{err}");
+    }
+}
