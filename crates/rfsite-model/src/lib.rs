@@ -47,6 +47,6 @@ pub use material::{
     CrossingLossFn, Material, MaterialClass, MaterialLibrary, MaterialModel, GRAZING_LIMIT_DEG,
 };
 pub use site::*;
-pub use validate::{load, Loaded};
 pub use twoway::{Booster, DonorAntenna, ServingSite, Uplink};
+pub use validate::{load, Loaded};
 pub use whatif::{SiteChange, WhatIf};

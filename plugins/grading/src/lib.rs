@@ -28,8 +28,8 @@ use rfsite_plugin::*;
 
 pub mod cells;
 pub mod findings;
-pub mod uplink;
 pub mod rules;
+pub mod uplink;
 pub mod zones;
 pub use cells::{cell_layout, grade_floor, CellLayout, CellRect, FloorGrade, GradedCell, Verdict};
 pub use rules::{builtin_rules, parse_rule, Judge, Rule};

@@ -342,7 +342,8 @@ impl ServiceGrading<'_, '_> {
             let mut o = grade_one_floor(&inp);
             out.findings.extend(findings::floor_findings(&inp, &o));
             let ul = crate::uplink::grade(&inp, self.uplink);
-            out.findings.extend(crate::uplink::finding(&inp, self.uplink, &ul));
+            out.findings
+                .extend(crate::uplink::finding(&inp, self.uplink, &ul));
             crate::uplink::combine(&mut o.result, ul, self.svc, self.uplink);
             v.push(o);
         }

@@ -10,7 +10,7 @@
 //! and targets grade both directions. With several head-end outputs the largest is taken
 //! (the antenna fed hardest gives the least uplink for its downlink: conservative).
 
-use rfsite_model::{Booster, Donor, DonorAntenna, ServingSite, Service, Site, Uplink};
+use rfsite_model::{Booster, Donor, DonorAntenna, Service, ServingSite, Site, Uplink};
 use rfsite_physics::{booster as bst, fspl};
 use rfsite_plugin::{
     BudgetLine, Finding, FloorResult, Measurement, Reason, Severity, UplinkBudget, UplinkFloor,
@@ -19,11 +19,19 @@ use rfsite_plugin::{
 use crate::{grade_one_floor, FloorInput};
 
 fn line(label: &str, value: f64, unit: &str, source: &str) -> BudgetLine {
-    BudgetLine { label: label.into(), value, unit: unit.into(), source: source.into() }
+    BudgetLine {
+        label: label.into(),
+        value,
+        unit: unit.into(),
+        source: source.into(),
+    }
 }
 
 fn not_assessed(why: &str) -> UplinkBudget {
-    UplinkBudget { why_not: why.into(), ..Default::default() }
+    UplinkBudget {
+        why_not: why.into(),
+        ..Default::default()
+    }
 }
 
 /// The uplink budget of `svc` on `site`, or why it cannot be assessed; `threshold_dbm` is
@@ -41,12 +49,37 @@ pub fn budget(site: &Site, svc: &Service, threshold_dbm: f64) -> UplinkBudget {
         .filter(|t| t.service == svc.id)
         .map(|t| t.power_dbm)
         .reduce(f64::max);
-    let donor = site.donors.iter().find(|d| d.service == svc.id && d.serving_site.is_some());
-    let booster = donor.and_then(|d| Some((d, d.serving_site.as_ref()?, d.antenna.as_ref()?, d.booster.as_ref()?)));
+    let donor = site
+        .donors
+        .iter()
+        .find(|d| d.service == svc.id && d.serving_site.is_some());
+    let booster = donor.and_then(|d| {
+        Some((
+            d,
+            d.serving_site.as_ref()?,
+            d.antenna.as_ref()?,
+            d.booster.as_ref()?,
+        ))
+    });
     let mut lines = vec![
-        line("handset power", up.handset_power_dbm, "dBm", &up.handset_power_source),
-        line("handset antenna gain", up.handset_gain_dbi, "dB", "site.toml or rfsite default 0 dBi (from memory; body loss not included)"),
-        line("uplink frequency offset, -20 log10(f_ul/f_dl)", -df, "dB", "ITU-R P.525"),
+        line(
+            "handset power",
+            up.handset_power_dbm,
+            "dBm",
+            &up.handset_power_source,
+        ),
+        line(
+            "handset antenna gain",
+            up.handset_gain_dbi,
+            "dB",
+            "site.toml or rfsite default 0 dBi (from memory; body loss not included)",
+        ),
+        line(
+            "uplink frequency offset, -20 log10(f_ul/f_dl)",
+            -df,
+            "dB",
+            "ITU-R P.525",
+        ),
     ];
     match (head_end, booster, up.head_end_required_dbm, donor) {
         (Some(p), Some((_, site_, ant, b)), _, _) => off_air(svc, threshold_dbm, up, p, (site_, ant, b), lines),
@@ -61,9 +94,24 @@ pub fn budget(site: &Site, svc: &Service, threshold_dbm: f64) -> UplinkBudget {
 }
 
 /// Shift = Σ lines − required + the downlink threshold.
-fn finish(threshold: f64, mut lines: Vec<BudgetLine>, required: f64, path: &str, rise: Option<f64>) -> UplinkBudget {
-    let sum: f64 = lines.iter().filter(|l| l.unit == "dB" || l.label == "handset power").map(|l| l.value).sum();
-    lines.push(line("uplink level needed at the receiver", required, "dBm", "site.toml"));
+fn finish(
+    threshold: f64,
+    mut lines: Vec<BudgetLine>,
+    required: f64,
+    path: &str,
+    rise: Option<f64>,
+) -> UplinkBudget {
+    let sum: f64 = lines
+        .iter()
+        .filter(|l| l.unit == "dB" || l.label == "handset power")
+        .map(|l| l.value)
+        .sum();
+    lines.push(line(
+        "uplink level needed at the receiver",
+        required,
+        "dBm",
+        "site.toml",
+    ));
     UplinkBudget {
         assessed: true,
         path: path.into(),
@@ -75,14 +123,26 @@ fn finish(threshold: f64, mut lines: Vec<BudgetLine>, required: f64, path: &str,
 }
 
 /// Path loss between the serving site and the donor antenna at the downlink frequency.
-fn donor_link_db(svc: &Service, s: &ServingSite, a: Option<&DonorAntenna>) -> Option<(f64, &'static str)> {
+fn donor_link_db(
+    svc: &Service,
+    s: &ServingSite,
+    a: Option<&DonorAntenna>,
+) -> Option<(f64, &'static str)> {
     if let Some(l) = s.path_loss_db {
         return Some((l, "site.toml (path loss)"));
     }
     if let Some(level) = a.and_then(|a| a.level_dbm) {
-        return Some((s.eirp_dbm - level, "site EIRP less the level measured at the donor antenna"));
+        return Some((
+            s.eirp_dbm - level,
+            "site EIRP less the level measured at the donor antenna",
+        ));
     }
-    s.distance_m.map(|d| (fspl::fspl_db(svc.freq_mhz, d), "free space over the distance (ITU-R P.525; optimistic)"))
+    s.distance_m.map(|d| {
+        (
+            fspl::fspl_db(svc.freq_mhz, d),
+            "free space over the distance (ITU-R P.525; optimistic)",
+        )
+    })
 }
 
 fn off_air(
@@ -101,18 +161,46 @@ fn off_air(
     };
     let link_ul = link_dl + df;
     lines.extend([
-        line("head-end (booster) output per channel, the downlink's source", -p, "dB", "the service's transmitters"),
+        line(
+            "head-end (booster) output per channel, the downlink's source",
+            -p,
+            "dB",
+            "the service's transmitters",
+        ),
         line("booster uplink gain", b.uplink_gain_db, "dB", "site.toml"),
         line("donor cable", -a.cable_loss_db, "dB", "site.toml"),
         line("donor antenna gain", a.gain_dbi, "dB", "site.toml"),
-        line("donor link path loss at the uplink frequency", -link_ul, "dB", src),
-        line("serving site receive gain", s.rx_gain_dbi, "dB", "site.toml"),
+        line(
+            "donor link path loss at the uplink frequency",
+            -link_ul,
+            "dB",
+            src,
+        ),
+        line(
+            "serving site receive gain",
+            s.rx_gain_dbi,
+            "dB",
+            "site.toml",
+        ),
     ]);
     let to_site = a.cable_loss_db - a.gain_dbi + link_ul - s.rx_gain_dbi;
-    let rise = bst::booster_noise_out_dbm(b.channel_bw_khz * 1e3, b.noise_figure_db, b.uplink_gain_db)
-        .map(|n| bst::noise_rise_db(bst::noise_delta_at_receiver_db(n, to_site, s.noise_floor_dbm)))
-        .unwrap_or(0.0);
-    let mut u = finish(threshold, lines, s.uplink_required_dbm + rise, "off-air booster", Some(rise));
+    let rise =
+        bst::booster_noise_out_dbm(b.channel_bw_khz * 1e3, b.noise_figure_db, b.uplink_gain_db)
+            .map(|n| {
+                bst::noise_rise_db(bst::noise_delta_at_receiver_db(
+                    n,
+                    to_site,
+                    s.noise_floor_dbm,
+                ))
+            })
+            .unwrap_or(0.0);
+    let mut u = finish(
+        threshold,
+        lines,
+        s.uplink_required_dbm + rise,
+        "off-air booster",
+        Some(rise),
+    );
     if let Some(l) = u.lines.last_mut() {
         l.label = format!("uplink level needed at the site receiver (its need {:.1} dBm + the booster's noise rise {:.2} dB)", s.uplink_required_dbm, rise);
     }
@@ -126,10 +214,26 @@ fn direct(threshold: f64, d: &Donor, mut lines: Vec<BudgetLine>) -> UplinkBudget
         return not_assessed("no serving site for the donor");
     };
     lines.extend([
-        line("serving site EIRP (the path loss is EIRP − DL)", -s.eirp_dbm, "dB", "site.toml"),
-        line("serving site receive gain", s.rx_gain_dbi, "dB", "site.toml"),
+        line(
+            "serving site EIRP (the path loss is EIRP − DL)",
+            -s.eirp_dbm,
+            "dB",
+            "site.toml",
+        ),
+        line(
+            "serving site receive gain",
+            s.rx_gain_dbi,
+            "dB",
+            "site.toml",
+        ),
     ]);
-    finish(threshold, lines, s.uplink_required_dbm, "direct to the serving site", None)
+    finish(
+        threshold,
+        lines,
+        s.uplink_required_dbm,
+        "direct to the serving site",
+        None,
+    )
 }
 
 /// The floor graded on the uplink: the downlink layer and survey points moved by the
@@ -147,7 +251,10 @@ pub fn grade(inp: &FloorInput<'_>, b: &UplinkBudget) -> Option<UplinkFloor> {
     let measured: Vec<Measurement> = inp
         .measured
         .iter()
-        .map(|m| Measurement { level_dbm: m.level_dbm + shift, ..(*m).clone() })
+        .map(|m| Measurement {
+            level_dbm: m.level_dbm + shift,
+            ..(*m).clone()
+        })
         .collect();
     let shifted = FloorInput {
         layer: layer.as_ref(),
@@ -164,7 +271,11 @@ pub fn grade(inp: &FloorInput<'_>, b: &UplinkBudget) -> Option<UplinkFloor> {
         reasons: r
             .reasons
             .into_iter()
-            .map(|x| Reason { criterion: format!("uplink-{}", x.criterion), text: format!("uplink: {}", x.text), ..x })
+            .map(|x| Reason {
+                criterion: format!("uplink-{}", x.criterion),
+                text: format!("uplink: {}", x.text),
+                ..x
+            })
             .collect(),
     })
 }
@@ -207,10 +318,18 @@ pub fn combine(r: &mut FloorResult, ul: Option<UplinkFloor>, svc: &Service, b: &
 
 /// A finding for a floor whose uplink fails while its downlink passes, or whose
 /// life-safety uplink was not assessed.
-pub fn finding(inp: &FloorInput<'_>, b: &UplinkBudget, ul: &Option<UplinkFloor>) -> Option<Finding> {
+pub fn finding(
+    inp: &FloorInput<'_>,
+    b: &UplinkBudget,
+    ul: &Option<UplinkFloor>,
+) -> Option<Finding> {
     let floor = &inp.site.floors[inp.fi];
     let svc = inp.svc;
-    let severity = if svc.life_safety { Severity::Critical } else { Severity::Major };
+    let severity = if svc.life_safety {
+        Severity::Critical
+    } else {
+        Severity::Major
+    };
     let (id, title, detail) = match ul {
         Some(u) if !u.pass => (
             format!("uplink-{}-{}", svc.id, floor.id),
@@ -241,7 +360,9 @@ pub fn finding(inp: &FloorInput<'_>, b: &UplinkBudget, ul: &Option<UplinkFloor>)
 
 fn capitalised(s: &str) -> String {
     let mut c = s.chars();
-    c.next().map(|f| f.to_uppercase().chain(c).collect()).unwrap_or_default()
+    c.next()
+        .map(|f| f.to_uppercase().chain(c).collect())
+        .unwrap_or_default()
 }
 
 #[cfg(test)]
