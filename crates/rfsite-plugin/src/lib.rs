@@ -296,6 +296,9 @@ pub struct Remediation {
     /// How each added antenna is fed, and the head end's power.
     #[serde(default)]
     pub distribution: Option<Distribution>,
+    /// The off-air booster feeding the system, when the donor describes one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub booster: Option<BoosterDesign>,
     /// Bill of quantities.
     #[serde(default)]
     pub quantities: Vec<Quantity>,
@@ -424,6 +427,94 @@ pub struct Distribution {
     pub exceeded: bool,
     /// Per antenna.
     pub feeds: Vec<FeedLine>,
+}
+
+/// The off-air booster feeding an option's system: gains, outputs, isolation, noise and
+/// exposure, each figure worked out from the site's donor data.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Default)]
+pub struct BoosterDesign {
+    /// Donor id.
+    pub donor: String,
+    /// Donor antenna plan position, site units, and height above the roof, m.
+    pub donor_position: [f64; 2],
+    /// Height of the donor antenna above its roof, m.
+    pub donor_height_m: f64,
+    /// Level at the donor antenna (isotropic), dBm, and where it comes from.
+    pub roof_level_dbm: f64,
+    /// Source of the roof level.
+    pub roof_level_source: String,
+    /// Booster input per channel: roof level + donor gain − donor cable, dBm.
+    pub input_per_channel_dbm: f64,
+    /// Output per channel the system needs (the largest head-end output of its antennas), dBm.
+    pub output_per_channel_dbm: f64,
+    /// Downlink gain = output − input, dB.
+    pub downlink_gain_db: f64,
+    /// Channels carried.
+    pub channels: u32,
+    /// Composite output, dBm.
+    pub composite_dbm: f64,
+    /// Rated composite − back-off, dBm.
+    pub allowed_composite_dbm: f64,
+    /// The output limit is exceeded.
+    pub exceeded: bool,
+    /// Uplink gain the verdict was graded with (the site's booster), dB.
+    pub uplink_gain_db: f64,
+    /// Uplink gain that makes the uplink margin equal the downlink margin, dB.
+    pub balanced_uplink_gain_db: f64,
+    /// Largest uplink gain keeping the serving site's noise rise within the limit, dB.
+    pub noise_limited_gain_db: f64,
+    /// The noise-rise limit, dB.
+    pub max_noise_rise_db: f64,
+    /// Noise rise at the serving site with the graded uplink gain, dB.
+    pub noise_rise_db: f64,
+    /// Isolation from the donor antenna to each server antenna.
+    pub isolation: Vec<IsolationPath>,
+    /// Required isolation margin over the gain, dB.
+    pub isolation_margin_db: f64,
+    /// Smallest isolation − margin, dB.
+    pub max_stable_gain_db: f64,
+    /// Both gains are within the largest stable gain.
+    pub stable: bool,
+    /// What to do when not stable (or empty).
+    pub fix: String,
+    /// Far-field compliance distances at the designed EIRPs.
+    pub exposure: Vec<ExposureDistance>,
+}
+
+/// Isolation between the donor antenna and one server antenna.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct IsolationPath {
+    /// Server antenna id.
+    pub antenna: String,
+    /// Straight-line distance, m.
+    pub distance_m: f64,
+    /// Roof and floor slabs crossed, dB.
+    pub slabs_db: f64,
+    /// Donor antenna gain towards it, dBi.
+    pub donor_gain_dbi: f64,
+    /// Its gain towards the donor antenna, dBi.
+    pub server_gain_dbi: f64,
+    /// Both cables, dB.
+    pub cables_db: f64,
+    /// Isolation, dB.
+    pub isolation_db: f64,
+}
+
+/// A far-field compliance distance.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ExposureDistance {
+    /// Antenna.
+    pub antenna: String,
+    /// EIRP, composite, dBm.
+    pub eirp_dbm: f64,
+    /// Frequency, MHz.
+    pub freq_mhz: f64,
+    /// Limit id.
+    pub limit: String,
+    /// Distance, m.
+    pub distance_m: f64,
+    /// The distance lies inside the near field (the formula does not hold there).
+    pub near_field: bool,
 }
 
 /// One line of a bill of quantities.

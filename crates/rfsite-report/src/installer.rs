@@ -232,6 +232,7 @@ pub fn design_view(site: &Site, r: &Remediation, figure_names: &BTreeMap<String,
         "verdict": option_services(r).iter().map(|s| format!("{}: {}", s.name, after_words(site, s))).collect::<Vec<_>>(),
         "installer": installer_rows(site, r),
         "distribution": r.distribution.as_ref().map(|d| json!({"rows": distribution_rows(site, d), "exceeded": d.exceeded})),
+        "booster": r.booster.as_ref().map(|b| crate::booster::booster_view(site, b)),
         "quantities": r.quantities.iter().map(|q| vec![q.item.clone(), quantity(q.quantity), q.unit.clone(), q.note.clone()]).collect::<Vec<_>>(),
         "units": site.units.label(),
     })

@@ -20,11 +20,13 @@ use serde_json::{json, Value};
 use typst::foundations::{Bytes, Dict, IntoValue};
 use typst_as_lib::TypstEngine;
 
+pub mod booster;
 pub mod charts;
 pub mod grading_map;
 pub mod installer;
 pub mod options;
 pub mod portfolio;
+pub mod uplink;
 pub mod verdicts;
 
 /// Fonts shipped with the templates (Lato, SIL OFL 1.1; licence beside the files).
@@ -496,6 +498,7 @@ pub fn view_model(
             "margin": f1(r.margin_needed_db), "floors": r.floors.iter().map(|f| site.floor(f).map(|x| x.name.clone()).unwrap_or(f.clone())).collect::<Vec<_>>().join(", "),
             "service": r.service.as_ref().and_then(|s| site.service(s)).map(|s| s.name.clone()).unwrap_or_default()})).collect::<Vec<_>>(),
         "options": options::options_view(site, a, figure_names),
+        "uplink": uplink::uplink_view(site, a),
         "cautions": a.cautions.iter().map(|c| json!({"topic": c.topic, "text": c.text})).collect::<Vec<_>>(),
         "tables": tables,
         "figures": figs,

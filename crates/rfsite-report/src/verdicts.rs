@@ -65,6 +65,11 @@ pub fn floor_rows(s: &ServiceResult, fr: &FloorResult) -> Vec<[String; 2]> {
             format!("{} ({})", if fr.pass { "PASS" } else { "FAIL" }, s.rule),
         ],
         [
+            "Downlink (network to handset)".into(),
+            direction_word(fr.downlink_pass),
+        ],
+        ["Uplink (handset to network)".into(), uplink_word(fr)],
+        [
             "Required level, predicted points".into(),
             req.predicted_text(),
         ],
@@ -176,4 +181,25 @@ pub fn service_context(site: &Site, s: &ServiceResult) -> Value {
         "target_general": format!("{:.0} %", 100.0 * s.target_general), "target_critical": format!("{:.0} %", 100.0 * s.target_critical),
         "rule": s.rule, "life_safety": s.life_safety,
     })
+}
+
+fn direction_word(pass: Option<bool>) -> String {
+    match pass {
+        Some(true) => "PASS".into(),
+        Some(false) => "FAIL".into(),
+        None => "NOT ASSESSED".into(),
+    }
+}
+
+/// The uplink's verdict in words, with its area fractions when assessed.
+pub fn uplink_word(fr: &FloorResult) -> String {
+    match &fr.uplink {
+        Some(u) if u.assessed => format!(
+            "{} (general {}, critical {})",
+            if u.pass { "PASS" } else { "FAIL" },
+            pct(u.general_fraction),
+            pct(u.critical_fraction)
+        ),
+        _ => "NOT ASSESSED".into(),
+    }
 }

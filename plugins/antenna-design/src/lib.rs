@@ -26,6 +26,7 @@
 use rfsite_model::{Service, Site};
 use rfsite_plugin::*;
 
+pub mod booster;
 pub mod candidates;
 pub mod feed;
 pub mod floors;

@@ -157,6 +157,21 @@ fn remediation(
     let n = net.placed.len();
     let name = |id: &str| site.floor(id).map_or(id.to_string(), |f| f.name.clone());
     let floor_names: Vec<String> = floors.iter().map(|f| name(f)).collect();
+    let servers: Vec<rfsite_model::Transmitter> = site
+        .transmitters
+        .iter()
+        .filter(|t| t.service == svc.id)
+        .cloned()
+        .chain(net.placed.iter().map(|p| p.tx.clone()))
+        .collect();
+    let up = rfsite_plugin_grading::uplink::budget(site, svc, r.required.threshold_dbm);
+    let booster = crate::booster::design(site, svc, &servers, &up);
+    let mut caveats = caveats(svc, o, &net);
+    let mut quantities = net.quantities;
+    if let Some(b) = &booster {
+        quantities.extend(booster_quantities(site, svc, b));
+        caveats.extend(booster_caveats(svc, b));
+    }
     Remediation {
         id: format!("design-{}", svc.id),
         title: format!(
@@ -180,11 +195,12 @@ fn remediation(
             .map(|f| f.margin_needed_db)
             .fold(0.0, f64::max),
         expected: format!("every floor of {} to its rule set (predicted)", svc.name),
-        caveats: caveats(svc, o, &net),
+        caveats,
         plugin: "antenna-design".into(),
         antennas: net.placed.iter().map(|p| antenna_of(site, &p.tx)).collect(),
         distribution: Some(net.distribution),
-        quantities: net.quantities,
+        booster,
+        quantities,
         ..Default::default()
     }
 }
@@ -232,4 +248,45 @@ fn caveats(svc: &Service, o: &DesignOptions, net: &Network) -> Vec<String> {
         c.push("no head end was given: the lowest floor's centre is assumed; set `head_end` in [plugins.antenna-design]".into());
     }
     c
+}
+
+/// The booster's own lines of the bill of quantities.
+fn booster_quantities(
+    site: &Site,
+    svc: &Service,
+    b: &rfsite_plugin::BoosterDesign,
+) -> Vec<rfsite_plugin::Quantity> {
+    let antenna_gain = crate::booster::donor_of(site, svc).map_or(0.0, |(_, a, _)| a.gain_dbi);
+    let q = |item: String, note: &str| rfsite_plugin::Quantity {
+        item,
+        unit: "each".into(),
+        quantity: 1.0,
+        note: note.into(),
+    };
+    vec![
+        q(format!("off-air signal booster (bi-directional amplifier), {} channel(s), downlink gain {:.1} dB, uplink gain {:.1} dB", b.channels, b.downlink_gain_db, b.uplink_gain_db), "listed for the service where the code requires it"),
+        q(format!("donor antenna, directional, {antenna_gain:.1} dBi, on the roof at ({:.2}, {:.2}) {}", b.donor_position[0], b.donor_position[1], site.units.label()), "with its mount, surge protection and earthing (common practice)"),
+    ]
+}
+
+/// Cautions that come with an off-air booster.
+fn booster_caveats(svc: &Service, b: &rfsite_plugin::BoosterDesign) -> Vec<String> {
+    let mut v = vec![
+        "an off-air booster retransmits a licensee's signal: it needs the licensee's consent and must meet the applicable rule for signal boosters (for example the FCC's Part 90 signal-booster section, 47 CFR 90.219, from memory) or the local regulator's equivalent".into(),
+        format!("donor-to-server isolation must exceed the booster gain by {:.0} dB (common practice); the smallest predicted isolation leaves a largest stable gain of {:.1} dB: confirm by measurement at commissioning", b.isolation_margin_db, b.max_stable_gain_db),
+        "the donor antenna is rooftop work at height and an RF exposure point: keep people outside its compliance distance and evaluate exposure before energising".into(),
+    ];
+    if svc.life_safety {
+        v.push("survivability as the authority having jurisdiction requires: pathway rating of the riser and feeders, battery back-up for the required duration, and monitoring and annunciation of the booster at the fire alarm or command panel".into());
+    }
+    if !b.stable {
+        v.push(format!("NOT STABLE as designed: {}", b.fix));
+    }
+    if b.exceeded {
+        v.push(format!(
+            "EXCEEDED: the composite output {:.1} dBm is above the rating less back-off, {:.1} dBm",
+            b.composite_dbm, b.allowed_composite_dbm
+        ));
+    }
+    v
 }

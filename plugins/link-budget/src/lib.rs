@@ -380,6 +380,16 @@ fn repeater_option(site: &Site, svc: &Service, r: &ServiceResult) -> Option<Reme
     if failing.is_empty() || !site.donors.iter().any(|d| d.service == svc.id) {
         return None;
     }
+    // With a described donor antenna and booster, the designer's option works the booster
+    // out in full; this advice is only for sites without those data.
+    let described = |d: &rfsite_model::Donor| d.antenna.is_some() && d.booster.is_some();
+    if site
+        .donors
+        .iter()
+        .any(|d| d.service == svc.id && described(d))
+    {
+        return None;
+    }
     let best = site
         .donors
         .iter()
