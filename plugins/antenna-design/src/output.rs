@@ -82,6 +82,7 @@ pub(crate) fn design_service(
         .iter()
         .map(|f| r.floors.iter().any(|x| x.id == f.id && x.pass))
         .collect();
+    let req = design_level(site, svc, r);
     let mut designer = Designer {
         site,
         si: crate::service_index(site, svc),
@@ -93,7 +94,7 @@ pub(crate) fn design_service(
         grade: Grade {
             svc,
             rule: &rule,
-            req: &r.required,
+            req: &req,
         },
         options: o,
         waves: &waves,
@@ -110,6 +111,19 @@ pub(crate) fn design_service(
     }
     let net = network(site, svc, o, &d.placed).map_err(|e| e.to_string())?;
     Ok(remediation(site, svc, r, o, &d, net))
+}
+
+/// The level the design works to: the graded required level, raised by the shortfall of
+/// the uplink against the downlink when the uplink is assessed and the weaker direction
+/// (so the design passes both ways, the uplink being the downlink moved by one shift).
+fn design_level(site: &Site, svc: &Service, r: &ServiceResult) -> rfsite_plugin::RequiredLevel {
+    let up = rfsite_plugin_grading::uplink::budget(site, svc, r.required.threshold_dbm);
+    let mut req = r.required.clone();
+    if up.assessed && up.shift_db < 0.0 {
+        req.measured_dbm -= up.shift_db;
+        req.predicted_dbm -= up.shift_db;
+    }
+    req
 }
 
 fn floor_line(site: &Site, f: &FloorDesign) -> String {
@@ -184,9 +198,14 @@ fn remediation(
         service: Some(svc.id.clone()),
         floors,
         detail: format!(
-            "Designed by rfsite against the {} rule set at the required {:.1} dBm. {}.",
+            "Designed by rfsite against the {} rule set at the required {:.1} dBm{}. {}.",
             r.rule,
-            r.required.predicted_dbm,
+            design_level(site, svc, r).predicted_dbm,
+            if design_level(site, svc, r).predicted_dbm > r.required.predicted_dbm {
+                " (raised so that the weaker uplink passes too)"
+            } else {
+                ""
+            },
             lines.join(". ")
         ),
         margin_needed_db: r
