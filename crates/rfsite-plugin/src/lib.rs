@@ -463,6 +463,10 @@ pub struct BoosterDesign {
     pub balanced_uplink_gain_db: f64,
     /// Largest uplink gain keeping the serving site's noise rise within the limit, dB.
     pub noise_limited_gain_db: f64,
+    /// Uplink gain to set: the balancing gain, capped by the noise limit and the largest
+    /// stable gain, dB.
+    #[serde(default)]
+    pub designed_uplink_gain_db: f64,
     /// The noise-rise limit, dB.
     pub max_noise_rise_db: f64,
     /// Noise rise at the serving site with the graded uplink gain, dB.

@@ -66,6 +66,8 @@ pub fn design(
     let max_stable = bst::max_stable_gain_db(min_iso, margin);
     let (noise_gain, rise) = noise(d.serving_site.as_ref(), a, b, up, svc);
     let stable = downlink_gain.max(b.uplink_gain_db) <= max_stable;
+    let balanced = b.uplink_gain_db - up.shift_db;
+    let designed_ul = [balanced, noise_gain, max_stable].into_iter().filter(|g| g.is_finite()).fold(f64::INFINITY, f64::min);
     Some(BoosterDesign {
         donor: d.id.clone(),
         donor_position: [
@@ -83,8 +85,9 @@ pub fn design(
         allowed_composite_dbm: allowed,
         exceeded: composite > allowed,
         uplink_gain_db: b.uplink_gain_db,
-        balanced_uplink_gain_db: b.uplink_gain_db - up.shift_db,
+        balanced_uplink_gain_db: balanced,
         noise_limited_gain_db: noise_gain,
+        designed_uplink_gain_db: designed_ul,
         max_noise_rise_db: bst::DEFAULT_MAX_NOISE_RISE_DB,
         noise_rise_db: rise,
         isolation,
