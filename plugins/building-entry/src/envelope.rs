@@ -10,7 +10,8 @@
 //! `<wall>-opening`, so the unnamed openings of a wall share one face).
 //!
 //! From the faces: the weakest entry paths (a finding when the weakest face is
-//! [`WEAK_PATH_BELOW_MEDIAN_DB`] or more below the median face) and the shielded-enclosure
+//! [`WEAK_PATH_BELOW_MEDIAN_DB`] or more below the median face, the length-weighted median
+//! of the floor's walls, windows and doors) and the shielded-enclosure
 //! test (every face, roof included, above `shielded_above_db`).
 
 use std::collections::{BTreeMap, BTreeSet};
@@ -70,7 +71,8 @@ pub struct FloorScreening {
     pub floor_name: String,
     /// Faces sorted by screening, the lowest first (then by id).
     pub faces: Vec<Face>,
-    /// Median screening of the faces, dB (`None` without faces).
+    /// The median face: length-weighted median screening of the walls, windows and doors
+    /// (roof left out), dB; `None` without them.
     pub median_db: Option<f64>,
 }
 
@@ -245,14 +247,38 @@ fn roof_face(
     })
 }
 
-/// The median of sorted values (the mean of the middle two for an even count).
-pub fn median(sorted: &[f64]) -> Option<f64> {
-    let n = sorted.len();
-    match n {
-        0 => None,
-        _ if n % 2 == 1 => sorted.get(n / 2).copied(),
-        _ => Some(0.5 * (sorted.get(n / 2 - 1)? + sorted.get(n / 2)?)),
+/// The length-weighted median of `(value, weight)` pairs sorted by value: the value at
+/// which the cumulative weight passes half the total (the mean of the two values either
+/// side when it lands on half exactly). `None` without positive weight.
+pub fn weighted_median(sorted: &[(f64, f64)]) -> Option<f64> {
+    let total: f64 = sorted.iter().map(|p| p.1).sum();
+    if total.is_nan() || total <= 0.0 {
+        return None;
     }
+    let half = 0.5 * total;
+    let mut cum = 0.0;
+    for (i, (v, w)) in sorted.iter().enumerate() {
+        cum += w;
+        if (cum - half).abs() <= 1e-9 * total {
+            let next = sorted.get(i + 1).map_or(*v, |p| p.0);
+            return Some(0.5 * (v + next));
+        }
+        if cum > half {
+            return Some(*v);
+        }
+    }
+    sorted.last().map(|p| p.0)
+}
+
+/// The floor's median face: the length-weighted median screening of its walls, windows
+/// and doors (half the exterior length screens at least this). The roof is left out: it
+/// is an area, not a length, and a low outdoor signal meets the facade first.
+fn median_face(faces: &[Face]) -> Option<f64> {
+    let pairs: Vec<(f64, f64)> = faces
+        .iter()
+        .filter_map(|f| f.length_m.map(|l| (f.screening_db, l)))
+        .collect();
+    weighted_median(&pairs)
 }
 
 /// Faces weakest first, then by id and kind.
@@ -278,11 +304,10 @@ fn screen_floor(
         faces.extend(roof_face(site, floor, freq_mhz, notes));
     }
     sort_faces(&mut faces);
-    let values: Vec<f64> = faces.iter().map(|f| f.screening_db).collect();
     FloorScreening {
         floor: floor.id.clone(),
         floor_name: floor.name.clone(),
-        median_db: median(&values),
+        median_db: median_face(&faces),
         faces,
     }
 }
@@ -381,7 +406,7 @@ fn weak_path_sentence(fl: &FloorScreening, weakest: &Face, gap: f64) -> String {
         format!(" (as do {})", same.join(", "))
     };
     format!(
-        "{}: {} screens {} dB{also}, {} dB less than the median face ({} dB, {} faces)",
+        "{}: {} screens {} dB{also}, {} dB less than the median face ({} dB, length-weighted over {} faces)",
         fl.floor_name,
         face_words(weakest),
         fmt1(weakest.screening_db),
@@ -632,4 +657,27 @@ pub fn add_to(
         serde_json::to_value(&screens).map_err(|e| PluginError::Failed(e.to_string()))?,
     );
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::weighted_median;
+
+    #[test]
+    fn weighted_median_by_hand() {
+        // Hand arithmetic: 7 m at 2.2 dB, 53 m at 5.7 dB, 92 m at 27.5 dB (152 m): half is
+        // 76 m, passed inside the 27.5 dB faces.
+        assert_eq!(
+            weighted_median(&[(2.2, 7.0), (5.7, 53.0), (27.5, 92.0)]),
+            Some(27.5)
+        );
+        // Equal weights: half lands between the middle two, their mean (the usual median).
+        assert_eq!(
+            weighted_median(&[(1.0, 1.0), (2.0, 1.0), (4.0, 1.0), (8.0, 1.0)]),
+            Some(3.0)
+        );
+        assert_eq!(weighted_median(&[(5.0, 1.0)]), Some(5.0));
+        assert_eq!(weighted_median(&[]), None);
+        assert_eq!(weighted_median(&[(5.0, 0.0)]), None);
+    }
 }

@@ -126,7 +126,8 @@ fn a_box_screening_over_30_db_on_every_face_is_a_shielded_enclosure() {
         .contains("donor antenna must sit outside the envelope (on the roof)"));
     let lte = finding(&out, "envelope-shielded-lte1800").expect("shielded finding");
     assert_eq!(lte.severity, Severity::Major);
-    // No face is 10 dB below the median (roof about 30.3 dB, walls 35 dB): no weak path.
+    // No face is 10 dB below the median face (walls 35 dB; the roof, about 30.3 dB, is the
+    // weakest): no weak path.
     assert!(finding(&out, "envelope-weakest-ps770").is_none());
     // Five faces per service: four walls and the roof (area 200 m²).
     let env = out.extra["envelope"].as_array().unwrap();
@@ -195,8 +196,9 @@ fn one_clear_window_is_the_weakest_entry_path_and_no_enclosure() {
         w.title
     );
     // 3GPP TR 38.901 V16.1.0 Table 7.4.3-1, standard glass: 2 + 0.2 f = 2.154 dB at
-    // 0.77 GHz. Six faces (window, roof about 30.3, four walls at 35): the median is the
-    // mean of the 3rd and 4th, 35 dB, so the window is 35 - 2.154 = 32.8 dB weaker.
+    // 0.77 GHz. The median face, length-weighted over the walls and windows (2 m window,
+    // 58 m of walls at 35 dB; roof left out), is 35 dB: the window is 35 - 2.154 = 32.8 dB
+    // weaker.
     let clear = 2.0 + 0.2 * 0.77;
     assert!(
         w.title.contains(&format!(
