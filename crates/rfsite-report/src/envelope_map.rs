@@ -6,6 +6,7 @@
 
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 use rfsite_model::{Floor, Site};
 use rfsite_plugin::Assessment;
 use serde_json::Value;
@@ -49,7 +50,7 @@ const BANDS: [Band; 4] = [
         from_db: 30.0,
         label: "30 dB and more",
         rgb: RGBColor(0, 50, 110),
-        width: 2,
+        width: 3,
         dash: None,
     },
 ];
@@ -174,12 +175,76 @@ fn draw_plan(
     Ok(())
 }
 
+/// Marks the weakest faces (those within 0.05 dB of the weakest): a ring at each segment's
+/// middle, and the first one's id and screening beside it, towards the plan's centre.
+fn mark_weakest(
+    chart: &mut Chart<'_, '_>,
+    site: &Site,
+    floor: &Floor,
+    faces: &[Value],
+) -> Result<(), String> {
+    let u = site.units;
+    let db = |f: &Value| f["screening_db"].as_f64().unwrap_or(f64::NAN);
+    let Some(w) = faces.first().filter(|f| f["kind"] != "roof") else {
+        return Ok(());
+    };
+    let (min, max) = rfsite_geometry::polygon_bbox(&floor.outline);
+    let (cx, cy) = (0.5 * (min.x + max.x), 0.5 * (min.y + max.y));
+    let inset = 0.035 * (max.x - min.x).max(max.y - min.y);
+    let n = |v: &Value| v.as_f64().unwrap_or(0.0);
+    let mut labelled = false;
+    for f in faces
+        .iter()
+        .filter(|f| db(f) - db(w) <= 0.05 && f["kind"] != "roof")
+    {
+        for s in f["segments_m"].as_array().into_iter().flatten() {
+            let (mx, my) = (
+                0.5 * (n(&s[0][0]) + n(&s[1][0])),
+                0.5 * (n(&s[0][1]) + n(&s[1][1])),
+            );
+            let p = (u.from_m(mx), u.from_m(my));
+            chart
+                .draw_series(std::iter::once(Circle::new(p, 8, WHITE.filled())))
+                .map_err(e)?;
+            chart
+                .draw_series(std::iter::once(Circle::new(p, 8, BLACK.stroke_width(2))))
+                .map_err(e)?;
+            if !labelled {
+                labelled = true;
+                let (dx, dy) = (cx - mx, cy - my);
+                let len = dx.hypot(dy).max(1e-9);
+                let at = (
+                    u.from_m(mx + inset * dx / len),
+                    u.from_m(my + inset * dy / len),
+                );
+                // Away from the ring, into the plan: right-aligned left of an east face,
+                // left-aligned right of a west face, centred off a north or south face.
+                let h = if dx.abs() <= dy.abs() {
+                    HPos::Center
+                } else if dx < 0.0 {
+                    HPos::Right
+                } else {
+                    HPos::Left
+                };
+                let style = TextStyle::from((CHART_FONT, 16).into_font().style(FontStyle::Bold))
+                    .color(&BLACK)
+                    .pos(Pos::new(h, VPos::Center));
+                let label = format!("{} {:.1} dB", f["id"].as_str().unwrap_or_default(), db(f));
+                chart
+                    .draw_series(std::iter::once(Text::new(label, at, style)))
+                    .map_err(e)?;
+            }
+        }
+    }
+    Ok(())
+}
+
 /// The legend: one line sample per band, then the roof and the weakest face in words.
 fn draw_legend(
     area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
     fl: &Value,
 ) -> Result<(), String> {
-    let font = (CHART_FONT, 14).into_font();
+    let font = (CHART_FONT, 17).into_font();
     area.draw(&Text::new(
         "Screening",
         (8, 18),
@@ -206,7 +271,7 @@ fn draw_legend(
         .map_err(e)?;
         area.draw(&Text::new(b.label, (64, y - 8), font.clone()))
             .map_err(e)?;
-        y += 28;
+        y += 30;
     }
     let faces = fl["faces"].as_array().cloned().unwrap_or_default();
     let words = |f: &Value| {
@@ -218,7 +283,16 @@ fn draw_legend(
     };
     let mut lines = Vec::new();
     if let Some(w) = faces.first() {
-        lines.push(("Weakest face".to_string(), words(w)));
+        let db = |f: &Value| f["screening_db"].as_f64().unwrap_or(f64::NAN);
+        for (i, f) in faces
+            .iter()
+            .filter(|f| db(f) - db(w) <= 0.05)
+            .take(3)
+            .enumerate()
+        {
+            let head = if i == 0 { "Weakest (ringed)" } else { "" };
+            lines.push((head.to_string(), words(f)));
+        }
     }
     if let Some(r) = faces.iter().find(|f| f["kind"] == "roof") {
         let m = r["material"].as_str().unwrap_or_default();
@@ -236,15 +310,15 @@ fn draw_legend(
     lines.push(("Interior walls".to_string(), "thin grey".to_string()));
     y += 8;
     for (head, text) in lines {
-        area.draw(&Text::new(
-            head,
-            (8, y),
-            font.clone().style(FontStyle::Bold),
-        ))
-        .map_err(e)?;
-        area.draw(&Text::new(text, (8, y + 17), font.clone()))
+        if !head.is_empty() {
+            y += 12;
+            let bold = font.clone().style(FontStyle::Bold);
+            area.draw(&Text::new(head, (8, y), bold)).map_err(e)?;
+            y += 20;
+        }
+        area.draw(&Text::new(text, (8, y), font.clone()))
             .map_err(e)?;
-        y += 42;
+        y += 20;
     }
     Ok(())
 }
@@ -258,7 +332,7 @@ fn draw(site: &Site, floor: &Floor, fl: &Value) -> Result<String, String> {
     let (y0, y1) = (u.from_m(min.y - pad), u.from_m(max.y + pad));
     let plot_w = 760.0;
     let plot_h = (plot_w * (y1 - y0) / (x1 - x0)).clamp(260.0, 820.0);
-    let legend_w = 230u32;
+    let legend_w = 270u32;
     let (w, h) = (plot_w as u32 + 70 + legend_w, plot_h as u32 + 60);
     let faces = fl["faces"].as_array().cloned().unwrap_or_default();
     let mut svg = String::new();
@@ -282,6 +356,7 @@ fn draw(site: &Site, floor: &Floor, fl: &Value) -> Result<String, String> {
             .draw()
             .map_err(e)?;
         draw_plan(&mut chart, site, floor, &faces)?;
+        mark_weakest(&mut chart, site, floor, &faces)?;
         draw_legend(&right, fl)?;
         root.present().map_err(e)?;
     }

@@ -391,28 +391,32 @@ fn weak_path(fl: &FloorScreening) -> Option<(&Face, f64)> {
     (gap >= WEAK_PATH_BELOW_MEDIAN_DB).then_some((weakest, gap))
 }
 
-/// One floor's weak path in words, with the faces that screen the same.
+/// One floor's weak path in words, with the faces that screen the same and the next
+/// weakest face that does not.
 fn weak_path_sentence(fl: &FloorScreening, weakest: &Face, gap: f64) -> String {
-    let same: Vec<String> = fl
+    let (same, rest): (Vec<&Face>, Vec<&Face>) = fl
         .faces
         .iter()
         .skip(1)
-        .filter(|f| f.screening_db - weakest.screening_db <= SAME_AS_WEAKEST_DB)
-        .map(|f| format!("`{}`", f.id))
-        .collect();
-    let also = if same.is_empty() {
-        String::new()
-    } else {
-        format!(" (as do {})", same.join(", "))
+        .partition(|f| f.screening_db - weakest.screening_db <= SAME_AS_WEAKEST_DB);
+    let ids: Vec<String> = same.iter().map(|f| format!("`{}`", f.id)).collect();
+    let also = match ids.len() {
+        0 => String::new(),
+        1 => format!(" (as does {})", ids.join("")),
+        _ => format!(" (as do {})", ids.join(", ")),
     };
+    let next = rest
+        .first()
+        .map(|f| format!("; next {} at {} dB", face_words(f), fmt1(f.screening_db)))
+        .unwrap_or_default();
     format!(
-        "{}: {} screens {} dB{also}, {} dB less than the median face ({} dB, length-weighted over {} faces)",
+        "{}: {} screens {} dB{also}, {} dB less than the median face ({} dB, length-weighted over {} faces){next}",
         fl.floor_name,
         face_words(weakest),
         fmt1(weakest.screening_db),
         fmt1(gap),
         fmt1(fl.median_db.unwrap_or(f64::NAN)),
-        fl.faces.len()
+        fl.faces.iter().filter(|f| f.length_m.is_some()).count()
     )
 }
 
@@ -429,7 +433,10 @@ pub fn weak_path_finding(s: &ServiceScreening, plugin: &str) -> Option<Finding> 
         .copied()
         .max_by(|a, b| a.2.total_cmp(&b.2).then(b.0.floor.cmp(&a.0.floor)))?;
     let more = if weak.len() > 1 {
-        format!(" (largest of {} floors; the table lists each)", weak.len())
+        format!(
+            " (the largest gap of {} floors; the table lists each)",
+            weak.len()
+        )
     } else {
         String::new()
     };
@@ -453,7 +460,7 @@ pub fn weak_path_finding(s: &ServiceScreening, plugin: &str) -> Option<Finding> 
         detail: format!(
             "Screening of each envelope face (exterior walls, their windows and doors, the roof over the top floor) at {} MHz, normal incidence. {}. An outdoor signal enters mainly through these faces, and the rooms behind them get most of it: a donor or an outdoor interferer is strongest there, and a survey or a material probe there checks the model.",
             s.freq_mhz,
-            lines.join("; ")
+            lines.join(". ")
         ),
         plugin: plugin.into(),
         shortfall_db: None,
