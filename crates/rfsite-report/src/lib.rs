@@ -22,6 +22,7 @@ use typst_as_lib::TypstEngine;
 
 pub mod booster;
 pub mod charts;
+pub mod envelope_map;
 pub mod grading_map;
 pub mod installer;
 pub mod options;
@@ -257,7 +258,7 @@ pub fn figures(
     let others: Vec<Result<(String, String), ReportError>> = a
         .figures
         .par_iter()
-        .filter(|f| f.kind != "grading-map")
+        .filter(|f| f.kind != "grading-map" && f.kind != "envelope-map")
         .map(|f| Ok((figure_file(&f.id), charts::figure(f).map_err(ReportError)?)))
         .collect();
     let mut out = BTreeMap::new();
@@ -266,6 +267,9 @@ pub fn figures(
         add_figure(&mut out, k, v)?;
     }
     for (k, v) in grading_map::grading_maps(site, a).map_err(ReportError)? {
+        add_figure(&mut out, k, v)?;
+    }
+    for (k, v) in envelope_map::envelope_maps(site, a).map_err(ReportError)? {
         add_figure(&mut out, k, v)?;
     }
     for (k, v) in installer::after_maps(site, a, plans).map_err(ReportError)? {

@@ -12,6 +12,12 @@
 //!   and maximum.
 //!
 //! Each indoor level is compared with the service threshold plus its design margin.
+//!
+//! For every service, donors or not, [`envelope`] screens the building envelope face by
+//! face (exterior walls, their windows and doors, the roof): the weakest entry paths and
+//! whether the building behaves like a shielded enclosure (option `shielded_above_db`).
+
+pub mod envelope;
 
 use std::collections::{BTreeMap, BTreeSet};
 
@@ -143,22 +149,28 @@ fn shares_end_collinear(o: &Segment, w: &Segment) -> bool {
     touch && l1 > 0.0 && l2 > 0.0 && (d1.cross(d2) / (l1 * l2)).abs() < 1e-6
 }
 
+/// The wall parts, doors and windows of a floor that lie on its outline (within half the
+/// part's thickness plus 5 cm, at least 10 cm): the floor's exterior walls.
+pub fn exterior_parts(floor: &Floor) -> Vec<&WallPart> {
+    floor
+        .parts
+        .iter()
+        .filter(|p| {
+            on_outline(
+                &p.segment,
+                &floor.outline,
+                (0.5 * p.thickness_m + 0.05).max(0.1),
+            )
+        })
+        .collect()
+}
+
 /// The exterior wall parts of a floor a donor arrives through: the parts with an id the
 /// donor lists in `facade` (with the doors and windows set in those walls), or, when it
 /// lists none, every part that lies on the floor outline.
 pub fn facade_parts<'a>(floor: &'a Floor, donor: &Donor) -> Vec<&'a WallPart> {
     if donor.facade.is_empty() {
-        return floor
-            .parts
-            .iter()
-            .filter(|p| {
-                on_outline(
-                    &p.segment,
-                    &floor.outline,
-                    (0.5 * p.thickness_m + 0.05).max(0.1),
-                )
-            })
-            .collect();
+        return exterior_parts(floor);
     }
     let listed: Vec<&WallPart> = floor
         .parts
@@ -265,6 +277,9 @@ fn prob_label(p: f64) -> String {
 /// The building-entry plugin.
 pub struct BuildingEntry;
 
+/// The keys of `[plugins.building-entry]` (besides `enabled`).
+pub const KEYS: &[&str] = &["probability", "shielded_above_db"];
+
 /// The option `probability`, checked.
 fn probability(ctx: &Context<'_>) -> Result<f64, PluginError> {
     let probability = ctx.option_f64("probability", DEFAULT_PROBABILITY)?;
@@ -287,7 +302,7 @@ impl Plugin for BuildingEntry {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "Outdoor donor level carried just inside the facade two ways: ITU-R P.2109-2 building entry loss for the site's building type and the donor's elevation (probabilities 0.5 and 0.9), and the normal-incidence loss of the facade's own wall, window and door materials (min / length-weighted mean / max); each compared with threshold + design margin".into(),
+            summary: "Outdoor donor level carried just inside the facade two ways: ITU-R P.2109-2 building entry loss for the site's building type and the donor's elevation (probabilities 0.5 and 0.9), and the normal-incidence loss of the facade's own wall, window and door materials (min / length-weighted mean / max); each compared with threshold + design margin; per service, the envelope screened face by face (exterior walls, windows, doors, the roof) at normal incidence: the weakest entry paths, and a shielded-enclosure finding when every face screens more than `shielded_above_db` (30 dB)".into(),
             citations: vec![
                 "ITU-R P.2109-2 (08/2023) section 3 and Table 1: building entry loss, traditional and thermally efficient buildings".into(),
                 "ITU-R P.2040-3 (08/2023) section 3 and Table 3: slab transmission of the facade materials; empirical library entries as sourced in the material table".into(),
@@ -297,16 +312,21 @@ impl Plugin for BuildingEntry {
         }
     }
     fn applies(&self, site: &Site) -> bool {
-        !site.donors.is_empty()
+        !site.donors.is_empty() || !site.services.is_empty()
     }
     fn option_keys(&self) -> Option<Vec<&'static str>> {
-        Some(vec!["probability"])
+        Some(KEYS.to_vec())
     }
     fn check(&self, ctx: &Context<'_>) -> Vec<rfsite_plugin::InputProblem> {
-        rfsite_plugin::check::problems_of(probability(ctx))
+        let mut p = rfsite_plugin::check::problems_of(probability(ctx));
+        p.extend(rfsite_plugin::check::problems_of(envelope::shielded_above(
+            ctx,
+        )));
+        p
     }
     fn run(&self, ctx: &Context<'_>) -> Result<PluginOutput, PluginError> {
         let probability = probability(ctx)?;
+        let shielded_above_db = envelope::shielded_above(ctx)?;
         let site = ctx.site;
         let id = self.id().to_string();
         let building = building_type(&site.meta.building);
@@ -522,7 +542,31 @@ impl Plugin for BuildingEntry {
             }
         }
 
-        out.tables.push(Table {
+        if !entries.is_empty() {
+            out.tables.push(donor_table(site, probability, &entries));
+        }
+        envelope::add_to(&mut out, site, shielded_above_db, &id, &mut notes)?;
+        for n in notes {
+            out.warnings.push(Warning {
+                plugin: id.clone(),
+                message: n,
+            });
+        }
+        out.extra
+            .insert("building".into(), serde_json::json!(site.meta.building));
+        out.extra
+            .insert("probability".into(), serde_json::json!(probability));
+        out.extra.insert(
+            "donors".into(),
+            serde_json::to_value(&entries).map_err(|e| PluginError::Failed(e.to_string()))?,
+        );
+        Ok(out)
+    }
+}
+
+/// The donors table: both methods side by side, one row per donor and floor.
+fn donor_table(site: &Site, probability: f64, entries: &[DonorEntry]) -> Table {
+    Table {
             id: "building-entry".into(),
             title: format!(
                 "Donor signals just inside the facade: ITU-R P.2109-2 ({}, verdict at P = {}) beside the facade materials",
@@ -559,21 +603,5 @@ impl Plugin for BuildingEntry {
                     ]
                 })
                 .collect(),
-        });
-        for n in notes {
-            out.warnings.push(Warning {
-                plugin: id.clone(),
-                message: n,
-            });
         }
-        out.extra
-            .insert("building".into(), serde_json::json!(site.meta.building));
-        out.extra
-            .insert("probability".into(), serde_json::json!(probability));
-        out.extra.insert(
-            "donors".into(),
-            serde_json::to_value(&entries).map_err(|e| PluginError::Failed(e.to_string()))?,
-        );
-        Ok(out)
-    }
 }

@@ -273,9 +273,16 @@ fn out_of_range_frequency_is_noted() {
 }
 
 #[test]
-fn no_donors_no_run() {
+fn without_donors_only_the_envelope_is_screened() {
     let mut s = coated_site("traditional", 900.0, "brick-wall");
     assert!(BuildingEntry.applies(&s));
     s.donors.clear();
+    // The envelope screening is for every service, donors or not.
+    assert!(BuildingEntry.applies(&s));
+    let out = run(&s);
+    assert!(out.tables.iter().all(|t| t.id != "building-entry"));
+    assert!(out.tables.iter().any(|t| t.id == "envelope-screening"));
+    assert!(out.findings.iter().all(|f| !f.id.starts_with("entry-")));
+    s.services.clear();
     assert!(!BuildingEntry.applies(&s));
 }
