@@ -42,11 +42,13 @@ fn roof_level(svc: &Service, a: &DonorAntenna, s: Option<&ServingSite>) -> Optio
 
 /// The booster design for `svc` fed to `servers` (the service's antennas with the option),
 /// or `None` when the donor data do not describe one.
+/// `limits` = (isolation margin over the gain, largest noise rise at the serving site), dB.
 pub fn design(
     site: &Site,
     svc: &Service,
     servers: &[Transmitter],
     up: &UplinkBudget,
+    limits: (f64, f64),
 ) -> Option<BoosterDesign> {
     let (d, a, b) = donor_of(site, svc)?;
     let (roof, roof_src) = roof_level(svc, a, d.serving_site.as_ref())?;
@@ -62,12 +64,15 @@ pub fn design(
         .filter_map(|t| isolation_to(site, svc, a, t))
         .collect();
     let min_iso = isolation.iter().map(|p| p.isolation_db).reduce(f64::min)?;
-    let margin = bst::DEFAULT_ISOLATION_MARGIN_DB;
+    let (margin, max_rise) = limits;
     let max_stable = bst::max_stable_gain_db(min_iso, margin);
-    let (noise_gain, rise) = noise(d.serving_site.as_ref(), a, b, up, svc);
+    let (noise_gain, rise) = noise(d.serving_site.as_ref(), (a, b), up, svc, max_rise);
     let stable = downlink_gain.max(b.uplink_gain_db) <= max_stable;
     let balanced = b.uplink_gain_db - up.shift_db;
-    let designed_ul = [balanced, noise_gain, max_stable].into_iter().filter(|g| g.is_finite()).fold(f64::INFINITY, f64::min);
+    let designed_ul = [balanced, noise_gain, max_stable]
+        .into_iter()
+        .filter(|g| g.is_finite())
+        .fold(f64::INFINITY, f64::min);
     Some(BoosterDesign {
         donor: d.id.clone(),
         donor_position: [
@@ -88,7 +93,7 @@ pub fn design(
         balanced_uplink_gain_db: balanced,
         noise_limited_gain_db: noise_gain,
         designed_uplink_gain_db: designed_ul,
-        max_noise_rise_db: bst::DEFAULT_MAX_NOISE_RISE_DB,
+        max_noise_rise_db: max_rise,
         noise_rise_db: rise,
         isolation,
         isolation_margin_db: margin,
@@ -106,10 +111,10 @@ pub fn design(
 /// The largest uplink gain within the noise-rise limit, and the rise at the site's gain.
 fn noise(
     s: Option<&ServingSite>,
-    a: &DonorAntenna,
-    b: &Booster,
+    (a, b): (&DonorAntenna, &Booster),
     up: &UplinkBudget,
     svc: &Service,
+    max_rise: f64,
 ) -> (f64, f64) {
     let (Some(s), Some(ul)) = (s, svc.uplink.as_ref()) else {
         return (f64::NAN, up.noise_rise_db.unwrap_or(f64::NAN));
@@ -128,7 +133,7 @@ fn noise(
         b.noise_figure_db,
         loss,
         s.noise_floor_dbm,
-        bst::DEFAULT_MAX_NOISE_RISE_DB,
+        max_rise,
     )
     .unwrap_or(f64::NAN);
     let rise = bst::booster_noise_out_dbm(bw, b.noise_figure_db, b.uplink_gain_db)
@@ -288,10 +293,9 @@ booster = { uplink_gain_db = 50.0, noise_figure_db = 5.0, channel_bw_khz = 12.5,
     /// The donor antenna 1 m above the roof, the server 0.5 m under the 3 m ceiling,
     /// straight below: 1.5 m through one 200 mm concrete roof slab. Isolation by hand =
     /// free space (ITU-R P.525: 32.4478 + 20 log10 770 + 20 log10 0.0015 = 33.6994 dB)
-    /// + the slab's loss (the material library's normal-incidence value)
-    /// − the donor's back lobe (11 − 20 = −9 dBi) − the server's gain straight up
-    /// (the dipole null, filled 20 dB below the 2 dBi peak: −18 dBi)
-    /// + cables 3 + 2 + 0.5 dB.
+    /// plus the slab's loss (the material library's normal-incidence value), minus the
+    /// donor's back lobe (11 − 20 = −9 dBi), minus the server's gain straight up (the
+    /// dipole null, filled 20 dB below the 2 dBi peak: −18 dBi), plus cables 3 + 2 + 0.5 dB.
     #[test]
     fn isolation_through_a_slab_by_hand() {
         let file = rfsite_model::SourceFile::new("site.toml", SITE);

@@ -23,6 +23,8 @@ pub const KEYS: &[&str] = &[
     "forbid",
     "mounts",
     "services",
+    "isolation_margin_db",
+    "max_noise_rise_db",
 ];
 
 /// A place on a floor.
@@ -64,6 +66,10 @@ pub struct DesignOptions {
     pub max_composite_dbm: f64,
     /// Back-off from the rated composite for multi-carrier operation, dB.
     pub back_off_db: f64,
+    /// An off-air booster's isolation must exceed its gain by this, dB (15, common practice).
+    pub isolation_margin_db: f64,
+    /// Largest rise of the serving site's noise floor a booster may cause, dB (1, from memory).
+    pub max_noise_rise_db: f64,
     /// Horizontal cable id (plugins/data/cables.toml).
     pub cable: String,
     /// Riser cable id.
@@ -233,6 +239,20 @@ pub fn read(ctx: &Context<'_>) -> Result<DesignOptions, PluginError> {
         channels: count(ctx, "channels", 4, 1, 256)? as u32,
         max_composite_dbm: ranged(ctx, "max_composite_dbm", 33.0, 0.0, 60.0)?,
         back_off_db: ranged(ctx, "back_off_db", 3.0, 0.0, 20.0)?,
+        isolation_margin_db: ranged(
+            ctx,
+            "isolation_margin_db",
+            rfsite_physics::booster::DEFAULT_ISOLATION_MARGIN_DB,
+            0.0,
+            60.0,
+        )?,
+        max_noise_rise_db: ranged(
+            ctx,
+            "max_noise_rise_db",
+            rfsite_physics::booster::DEFAULT_MAX_NOISE_RISE_DB,
+            0.01,
+            20.0,
+        )?,
         cable: cable(ctx, "cable", "coax-half-inch-foam")?,
         riser_cable: cable(ctx, "riser_cable", "coax-7-8-inch-foam")?,
         max_per_floor: count(ctx, "max_antennas_per_floor", 12, 0, 64)? as usize,

@@ -179,7 +179,13 @@ fn remediation(
         .chain(net.placed.iter().map(|p| p.tx.clone()))
         .collect();
     let up = rfsite_plugin_grading::uplink::budget(site, svc, r.required.threshold_dbm);
-    let booster = crate::booster::design(site, svc, &servers, &up);
+    let booster = crate::booster::design(
+        site,
+        svc,
+        &servers,
+        &up,
+        (o.isolation_margin_db, o.max_noise_rise_db),
+    );
     let mut caveats = caveats(svc, o, &net);
     let mut quantities = net.quantities;
     if let Some(b) = &booster {
