@@ -1,23 +1,10 @@
 //! The demo report renders, and a PDF text extractor finds what a reader needs.
 
-use crate::cli::util::{pdf_pages, pdf_text, pdf_text_raw, rfsite, root};
+use crate::cli::util::{demo_report, pdf_pages, pdf_text, pdf_text_raw, rfsite, root};
 
 #[test]
 fn demo_report_has_the_sections_verdicts_and_audit_trail() {
-    let out_dir = tempfile::tempdir().unwrap();
-    let site = root().join("examples/kestrel-quay-clinic");
-    let out = rfsite()
-        .arg("report")
-        .arg(&site)
-        .arg("-o")
-        .arg(out_dir.path())
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let (out_dir, f) = demo_report();
     let pdf = out_dir.path().join("report.pdf");
     assert!(pdf_pages(&pdf) >= 6);
     let text = pdf_text(&pdf);
@@ -28,6 +15,7 @@ fn demo_report_has_the_sections_verdicts_and_audit_trail() {
         "Coverage by floor and service",
         "Findings",
         "Remediation options",
+        "Two-way coverage: uplink",
         "Safety and compliance cautions",
         "Audit trail",
         "authority having jurisdiction",
@@ -36,9 +24,6 @@ fn demo_report_has_the_sections_verdicts_and_audit_trail() {
     }
     assert!(text.contains("PASS") || text.contains("FAIL"));
     // findings.json essentials (DESIGN.md contract).
-    let f: serde_json::Value =
-        serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
-            .unwrap();
     assert_eq!(f["schema"], "rfsite-findings/1");
     assert_eq!(f["tool"]["name"], "rfsite");
     assert!(f["site"]["id"].is_string() && f["site"]["name"].is_string());
@@ -210,23 +195,7 @@ fn concrete_at_800_mhz_is_flagged_in_findings_and_report() {
 /// (site units), every bill-of-quantities line, and the head end's per-channel output.
 #[test]
 fn demo_recommends_a_designed_option_with_coordinates_and_quantities() {
-    let out_dir = tempfile::tempdir().unwrap();
-    let site = root().join("examples/kestrel-quay-clinic");
-    let out = rfsite()
-        .arg("report")
-        .arg(&site)
-        .arg("-o")
-        .arg(out_dir.path())
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let f: serde_json::Value =
-        serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
-            .unwrap();
+    let (out_dir, f) = demo_report();
     let flat: String = pdf_text_raw(&out_dir.path().join("report.pdf"))
         .split_whitespace()
         .collect();

@@ -100,3 +100,25 @@ pub fn texts(out: &Output) -> (String, String) {
         String::from_utf8_lossy(&out.stderr).to_string(),
     )
 }
+
+/// Runs `rfsite report` on the demo site into a new temporary folder (kept while the
+/// returned value lives) and returns it with the parsed findings.json; fails the test with
+/// rfsite's stderr when the command fails.
+pub fn demo_report() -> (tempfile::TempDir, serde_json::Value) {
+    let out_dir = tempfile::tempdir().unwrap();
+    let out = rfsite()
+        .arg("report")
+        .arg(root().join("examples/kestrel-quay-clinic"))
+        .arg("-o")
+        .arg(out_dir.path())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let f = serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
+        .unwrap();
+    (out_dir, f)
+}

@@ -5,30 +5,12 @@
 //! candidates (exhaustive enumeration); "equals a re-run of the edited site" against the
 //! engine run on the site file edited by hand.
 
-use std::collections::BTreeMap;
+mod common;
 
-use rfsite_engine::{run, LoadedSite, Registry};
-use rfsite_model::{Diagnostics, MaterialLibrary, Site, SiteChange, SourceFile};
+use common::{assess, loaded};
+
+use rfsite_model::{MaterialLibrary, Site, SiteChange, SourceFile};
 use rfsite_plugin::{Assessment, Remediation};
-
-fn loaded(text: &str) -> LoadedSite {
-    let file = SourceFile::new("site.toml", text);
-    let l = rfsite_model::load(&file, &MaterialLibrary::builtin());
-    let site = l
-        .site
-        .unwrap_or_else(|| panic!("site loads: {:?}", l.diagnostics));
-    LoadedSite {
-        site,
-        warnings: Diagnostics::default(),
-        surveys: Default::default(),
-        plan_images: BTreeMap::new(),
-        source: file,
-    }
-}
-
-fn assess(text: &str) -> Assessment {
-    run(&loaded(text), &Registry::builtin(), Vec::new()).expect("runs")
-}
 
 fn option<'a>(a: &'a Assessment, id: &str) -> &'a Remediation {
     a.remediation

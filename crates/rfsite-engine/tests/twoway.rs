@@ -5,27 +5,10 @@
 //! (reciprocity of the path; the frequency term of ITU-R P.525); the figures below are
 //! worked by hand from it.
 
-use std::collections::BTreeMap;
+mod common;
 
-use rfsite_engine::{run, LoadedSite, Registry};
-use rfsite_model::{Diagnostics, MaterialLibrary, SourceFile};
-use rfsite_plugin::{Assessment, Severity};
-
-fn assess(text: &str) -> Assessment {
-    let file = SourceFile::new("site.toml", text);
-    let l = rfsite_model::load(&file, &MaterialLibrary::builtin());
-    let site = l
-        .site
-        .unwrap_or_else(|| panic!("site loads: {:?}", l.diagnostics));
-    let loaded = LoadedSite {
-        site,
-        warnings: Diagnostics::default(),
-        surveys: Default::default(),
-        plan_images: BTreeMap::new(),
-        source: file,
-    };
-    run(&loaded, &Registry::builtin(), Vec::new()).expect("runs")
-}
+use common::assess;
+use rfsite_plugin::Severity;
 
 /// One open 20 m x 10 m room, a 20 dBm head-end output into a ceiling antenna in the
 /// middle: at 770 MHz the whole floor is far above -95 dBm + margins (free space over

@@ -128,14 +128,9 @@ fn noise(
     let df = bst::frequency_offset_db(svc.freq_mhz, ul.freq_mhz).unwrap_or(0.0);
     let loss = a.cable_loss_db - a.gain_dbi + link_dl + df - s.rx_gain_dbi;
     let bw = b.channel_bw_khz * 1e3;
-    let gmax = bst::max_gain_for_noise_rise_db(
-        bw,
-        b.noise_figure_db,
-        loss,
-        s.noise_floor_dbm,
-        max_rise,
-    )
-    .unwrap_or(f64::NAN);
+    let gmax =
+        bst::max_gain_for_noise_rise_db(bw, b.noise_figure_db, loss, s.noise_floor_dbm, max_rise)
+            .unwrap_or(f64::NAN);
     let rise = bst::booster_noise_out_dbm(bw, b.noise_figure_db, b.uplink_gain_db)
         .map(|n| bst::noise_rise_db(bst::noise_delta_at_receiver_db(n, loss, s.noise_floor_dbm)))
         .unwrap_or(f64::NAN);
