@@ -125,22 +125,8 @@ pub fn coverage_map(
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
         let (left, right) = root.split_horizontally(w - legend_w);
-        let mut chart = ChartBuilder::on(&left)
-            .margin(8)
-            .x_label_area_size(36)
-            .y_label_area_size(48)
-            .build_cartesian_2d(x0..x1, y0..y1)
-            .map_err(e)?;
         let unit = u.label();
-        chart
-            .configure_mesh()
-            .disable_mesh()
-            .x_desc(format!("x ({unit})"))
-            .y_desc(format!("y ({unit})"))
-            .label_style((CHART_FONT, 14))
-            .axis_desc_style((CHART_FONT, 15))
-            .draw()
-            .map_err(e)?;
+        let mut chart = plan_chart(&left, x0..x1, y0..y1, u.label())?;
         // Background plan image: its pixel rectangle on the chart.
         if let (Some(bytes), Some(floor_ref)) = (plan, Some(floor)) {
             if let Some((wpx, hpx, mime)) = image_size(bytes) {
@@ -557,7 +543,32 @@ pub struct AddedAntenna {
     pub y: f64,
 }
 
-type MapChart<'a, 'b> = ChartContext<
+/// A floor-plan chart on `area` over `x` × `y` (site units): axes titled in `unit`, no mesh.
+pub(crate) fn plan_chart<'a, 'b>(
+    area: &'a DrawingArea<SVGBackend<'b>, plotters::coord::Shift>,
+    x: std::ops::Range<f64>,
+    y: std::ops::Range<f64>,
+    unit: &str,
+) -> DrawResult<MapChart<'a, 'b>> {
+    let mut chart = ChartBuilder::on(area)
+        .margin(8)
+        .x_label_area_size(36)
+        .y_label_area_size(48)
+        .build_cartesian_2d(x, y)
+        .map_err(e)?;
+    chart
+        .configure_mesh()
+        .disable_mesh()
+        .x_desc(format!("x ({unit})"))
+        .y_desc(format!("y ({unit})"))
+        .label_style((CHART_FONT, 14))
+        .axis_desc_style((CHART_FONT, 15))
+        .draw()
+        .map_err(e)?;
+    Ok(chart)
+}
+
+pub(crate) type MapChart<'a, 'b> = ChartContext<
     'a,
     SVGBackend<'b>,
     Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,

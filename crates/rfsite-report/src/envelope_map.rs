@@ -340,21 +340,7 @@ fn draw(site: &Site, floor: &Floor, fl: &Value) -> Result<String, String> {
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
         let (left, right) = root.split_horizontally(w - legend_w);
-        let mut chart = ChartBuilder::on(&left)
-            .margin(8)
-            .x_label_area_size(36)
-            .y_label_area_size(48)
-            .build_cartesian_2d(x0..x1, y0..y1)
-            .map_err(e)?;
-        chart
-            .configure_mesh()
-            .disable_mesh()
-            .x_desc(format!("x ({})", u.label()))
-            .y_desc(format!("y ({})", u.label()))
-            .label_style((CHART_FONT, 14))
-            .axis_desc_style((CHART_FONT, 15))
-            .draw()
-            .map_err(e)?;
+        let mut chart = crate::charts::plan_chart(&left, x0..x1, y0..y1, u.label())?;
         draw_plan(&mut chart, site, floor, &faces)?;
         mark_weakest(&mut chart, site, floor, &faces)?;
         draw_legend(&right, fl)?;

@@ -56,21 +56,7 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
         let (top, bottom) = root.split_vertically(h - 40);
-        let mut chart = ChartBuilder::on(&top)
-            .margin(8)
-            .x_label_area_size(36)
-            .y_label_area_size(48)
-            .build_cartesian_2d(x0..x1, y0..y1)
-            .map_err(e)?;
-        chart
-            .configure_mesh()
-            .disable_mesh()
-            .x_desc(format!("x ({})", u.label()))
-            .y_desc(format!("y ({})", u.label()))
-            .label_style((CHART_FONT, 14))
-            .axis_desc_style((CHART_FONT, 15))
-            .draw()
-            .map_err(e)?;
+        let mut chart = crate::charts::plan_chart(&top, x0..x1, y0..y1, u.label())?;
         // Walls, light, under everything.
         for part in &floor.parts {
             let seg = vec![

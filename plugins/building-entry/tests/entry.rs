@@ -1,26 +1,13 @@
 //! Tests of the building-entry plugin on small hand-made sites.
 
-use rfsite_model::{load, MaterialLibrary, Site, SourceFile};
+mod common;
+
+use common::load_site;
+use rfsite_model::{MaterialLibrary, Site};
 use rfsite_physics::p2040::Polarization;
 use rfsite_physics::p2109::{building_entry_loss_db, BuildingType};
 use rfsite_plugin::*;
 use rfsite_plugin_building_entry::*;
-
-fn load_site(text: &str) -> Site {
-    let loaded = load(
-        &SourceFile::new("t.toml", text),
-        &MaterialLibrary::builtin(),
-    );
-    let diags: Vec<String> = loaded
-        .diagnostics
-        .items
-        .iter()
-        .map(|d| d.to_string())
-        .collect();
-    loaded
-        .site
-        .unwrap_or_else(|| panic!("test site does not load: {diags:?}"))
-}
 
 /// A 20 m x 10 m floor, `building` type, one service at `freq_mhz` (threshold -95 dBm,
 /// design margin 5 dB: -90 dBm needed), a facade of `facade_material` all round, an

@@ -1,25 +1,12 @@
 //! Tests of the envelope screening on small hand-made boxes.
 
-use rfsite_model::{load, MaterialLibrary, Site, SourceFile};
+mod common;
+
+use common::load_site;
+use rfsite_model::Site;
 use rfsite_physics::p2040::{complex_permittivity, slab, Polarization};
 use rfsite_plugin::*;
 use rfsite_plugin_building_entry::*;
-
-fn load_site(text: &str) -> Site {
-    let loaded = load(
-        &SourceFile::new("t.toml", text),
-        &MaterialLibrary::builtin(),
-    );
-    let diags: Vec<String> = loaded
-        .diagnostics
-        .items
-        .iter()
-        .map(|d| d.to_string())
-        .collect();
-    loaded
-        .site
-        .unwrap_or_else(|| panic!("test site does not load: {diags:?}"))
-}
 
 /// A one-floor 20 m x 10 m box: four walls `south`, `east`, `north`, `west` of
 /// `wall_material` (0.03 m) closing the outline, the roof (the floor's slab) of
