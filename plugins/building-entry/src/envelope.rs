@@ -375,10 +375,10 @@ fn fmt1(x: f64) -> String {
     format!("{x:.1}")
 }
 
-/// "window `east-w1` (clear-glazing, 2.0 m)" or "roof (concrete-floor-slab, 0.25 m thick)".
+/// "window east-w1 (clear-glazing, 2.0 m)" or "roof (concrete-floor-slab, 0.25 m thick)".
 pub fn face_words(f: &Face) -> String {
     match f.length_m {
-        Some(len) => format!("{} `{}` ({}, {:.1} m)", f.kind, f.id, f.material, len),
+        Some(len) => format!("{} {} ({}, {:.1} m)", f.kind, f.id, f.material, len),
         None => format!("roof ({}, {:.2} m thick)", f.material, f.thickness_m),
     }
 }
@@ -399,7 +399,7 @@ fn weak_path_sentence(fl: &FloorScreening, weakest: &Face, gap: f64) -> String {
         .iter()
         .skip(1)
         .partition(|f| f.screening_db - weakest.screening_db <= SAME_AS_WEAKEST_DB);
-    let ids: Vec<String> = same.iter().map(|f| format!("`{}`", f.id)).collect();
+    let ids: Vec<String> = same.iter().map(|f| f.id.clone()).collect();
     let also = match ids.len() {
         0 => String::new(),
         1 => format!(" (as does {})", ids.join("")),

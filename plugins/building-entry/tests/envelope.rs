@@ -178,7 +178,7 @@ fn one_clear_window_is_the_weakest_entry_path_and_no_enclosure() {
     let w = finding(&out, "envelope-weakest-ps770").expect("weak path finding");
     assert_eq!(w.severity, Severity::Info);
     assert!(
-        w.title.contains("window `east-w1` (clear-glazing, 2.0 m)"),
+        w.title.contains("window east-w1 (clear-glazing, 2.0 m)"),
         "{}",
         w.title
     );
