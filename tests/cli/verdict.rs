@@ -6,24 +6,10 @@
 //! (consistent across secondary sources, REFERENCES.md); thermal noise -174 dBm/Hz
 //! (kT at 290 K, textbook).
 
-use crate::cli::util::{pdf_text, rfsite, root};
+use crate::cli::util::{demo_report, pdf_text};
 
 fn demo() -> (tempfile::TempDir, serde_json::Value, String) {
-    let out_dir = tempfile::tempdir().unwrap();
-    let out = rfsite()
-        .arg("report")
-        .arg(root().join("examples/kestrel-quay-clinic"))
-        .arg("-o")
-        .arg(out_dir.path())
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let f = serde_json::from_slice(&std::fs::read(out_dir.path().join("findings.json")).unwrap())
-        .unwrap();
+    let (out_dir, f) = demo_report();
     let text = pdf_text(&out_dir.path().join("report.pdf"));
     (out_dir, f, text)
 }

@@ -82,7 +82,8 @@ pub(crate) fn design_service(
         .iter()
         .map(|f| r.floors.iter().any(|x| x.id == f.id && x.pass))
         .collect();
-    let req = design_level(site, svc, r);
+    let up = rfsite_plugin_grading::uplink::budget(site, svc, r.required.threshold_dbm);
+    let req = design_level(r, &up);
     let mut designer = Designer {
         site,
         si: crate::service_index(site, svc),
@@ -116,8 +117,10 @@ pub(crate) fn design_service(
 /// The level the design works to: the graded required level, raised by the shortfall of
 /// the uplink against the downlink when the uplink is assessed and the weaker direction
 /// (so the design passes both ways, the uplink being the downlink moved by one shift).
-fn design_level(site: &Site, svc: &Service, r: &ServiceResult) -> rfsite_plugin::RequiredLevel {
-    let up = rfsite_plugin_grading::uplink::budget(site, svc, r.required.threshold_dbm);
+fn design_level(
+    r: &ServiceResult,
+    up: &rfsite_plugin::UplinkBudget,
+) -> rfsite_plugin::RequiredLevel {
     let mut req = r.required.clone();
     if up.assessed && up.shift_db < 0.0 {
         req.measured_dbm -= up.shift_db;
@@ -179,6 +182,7 @@ fn remediation(
         .chain(net.placed.iter().map(|p| p.tx.clone()))
         .collect();
     let up = rfsite_plugin_grading::uplink::budget(site, svc, r.required.threshold_dbm);
+    let design_req = design_level(r, &up);
     let booster = crate::booster::design(
         site,
         svc,
@@ -206,8 +210,8 @@ fn remediation(
         detail: format!(
             "Designed by rfsite against the {} rule set at the required {:.1} dBm{}. {}.",
             r.rule,
-            design_level(site, svc, r).predicted_dbm,
-            if design_level(site, svc, r).predicted_dbm > r.required.predicted_dbm {
+            design_req.predicted_dbm,
+            if design_req.predicted_dbm > r.required.predicted_dbm {
                 " (raised so that the weaker uplink passes too)"
             } else {
                 ""

@@ -101,11 +101,9 @@ fn finish(
     path: &str,
     rise: Option<f64>,
 ) -> UplinkBudget {
-    let sum: f64 = lines
-        .iter()
-        .filter(|l| l.unit == "dB" || l.label == "handset power")
-        .map(|l| l.value)
-        .sum();
+    // Every line so far is a contribution: the handset's power (dBm) and gains and
+    // losses (dB); the level needed is added after the sum.
+    let sum: f64 = lines.iter().map(|l| l.value).sum();
     lines.push(line(
         "uplink level needed at the receiver",
         required,
