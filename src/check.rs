@@ -196,6 +196,9 @@ fn print_summary(world: &World, l: &LoadedSite, warnings: usize) {
         warnings
     );
     println!("{}", sigma_line(s));
+    for (floor, plan) in &l.plans {
+        println!("{}", plan.summary(floor));
+    }
 }
 
 /// The shadowing standard deviation in force and where it comes from.

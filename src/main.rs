@@ -10,6 +10,7 @@ mod check;
 mod init;
 mod isolate;
 mod materials;
+mod plan;
 mod plugins;
 mod portfolio;
 mod report;
@@ -50,6 +51,9 @@ enum Cmd {
     Materials(materials::Args),
     /// The acceptance rule sets, every number with its source.
     Rules(rules::Args),
+    /// DXF floor plans: `plan layers FILE.dxf` lists layers, `plan import FILE.dxf --map
+    /// MAP.toml` prints the walls as site TOML.
+    Plan(plan::Args),
     /// The plugins, their methods and run order.
     Plugins(plugins::Args),
     /// Run every site below a folder; write one folder per site and a portfolio summary.
@@ -68,6 +72,7 @@ fn main() -> ExitCode {
         Cmd::Report(a) => report::run(a),
         Cmd::Calc(a) => calc::run(a),
         Cmd::Materials(a) => materials::run(a),
+        Cmd::Plan(a) => plan::run(a),
         Cmd::Plugins(a) => plugins::run(a),
         Cmd::Rules(a) => rules::run(a),
         Cmd::Portfolio(a) => portfolio::run(a),

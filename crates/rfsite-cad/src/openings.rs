@@ -44,8 +44,14 @@ pub fn place(
     let mut counts = PlaceCounts::default();
     let mut alive = vec![true; walls.len()];
     let index = SegIndex::new(walls.iter().map(|w| w.seg), 2.0);
+    // Walls stretched by a merge: their indexed boxes are stale, so they are always tried.
+    let mut grown: Vec<usize> = Vec::new();
     for b in blocks {
-        let Some(host) = host_wall(&walls, &alive, &index, b.at, reach) else {
+        let near = index
+            .near(b.at, reach + 1.0)
+            .into_iter()
+            .chain(grown.iter().copied());
+        let Some(host) = host_wall(&walls, &alive, near, b.at, reach) else {
             counts.unplaced.push(b.at);
             continue;
         };
@@ -66,6 +72,7 @@ pub fn place(
             alive[k] = false;
         }
         walls[host] = merged;
+        grown.push(host);
         let w = &mut walls[host];
         let off = (p0 - d.dot(w.seg.a - a)).max(0.0);
         let width = (p1 - p0).min(w.seg.a.distance(w.seg.b) - off);
@@ -93,12 +100,12 @@ pub fn place(
 fn host_wall(
     walls: &[PlacedWall],
     alive: &[bool],
-    index: &SegIndex,
+    near: impl Iterator<Item = usize>,
     at: Point2,
     reach: f64,
 ) -> Option<usize> {
     let mut best: Option<(f64, f64, usize)> = None;
-    for k in index.near(at, reach + 1.0) {
+    for k in near {
         if !alive.get(k).copied().unwrap_or(false) {
             continue;
         }

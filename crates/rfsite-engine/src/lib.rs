@@ -18,6 +18,7 @@ use rfsite_plugin::*;
 pub mod external;
 pub mod options;
 pub mod outputs;
+pub mod plans;
 mod precheck;
 pub use precheck::check_plugins;
 pub mod survey;
@@ -83,6 +84,8 @@ pub struct LoadedSite {
     pub plan_images: BTreeMap<String, Vec<u8>>,
     /// site.toml as read, for locating problems found after loading.
     pub source: SourceFile,
+    /// Floors whose walls came from a DXF drawing, by floor id.
+    pub plans: BTreeMap<String, plans::FloorPlan>,
 }
 
 /// Reads and validates the site in `world`. Errors come back all at once. Every file the
@@ -92,11 +95,12 @@ pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, 
     let text = world.read_site_text()?;
     let file = SourceFile::new(world.display_site_path(), text);
     let loaded = rfsite_model::load(&file, library);
-    let Some(site) = loaded.site else {
+    let Some(mut site) = loaded.site else {
         return Err(EngineError::BadInput(loaded.diagnostics));
     };
-    let (surveys, mut survey_diags) = survey::read_all(world, &site, &file);
     let mut all = loaded.diagnostics;
+    let plans = plans::import_plans(world, &mut site, &file, &mut all);
+    let (surveys, mut survey_diags) = survey::read_all(world, &site, &file);
     all.items.append(&mut survey_diags.items);
     let plan_images = read_plan_images(world, &site, &file, &mut all);
     if all.has_errors() {
@@ -108,6 +112,7 @@ pub fn load(world: &mut World, library: &MaterialLibrary) -> Result<LoadedSite, 
         surveys,
         plan_images,
         source: file,
+        plans,
     })
 }
 

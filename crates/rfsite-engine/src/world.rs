@@ -50,6 +50,17 @@ pub const PLAN_IMAGE: Limit = Limit {
     bytes: 64 << 20,
 };
 
+/// One DXF drawing: 256 MiB (a 20-storey building's plans are a few MiB each).
+pub const CAD_DRAWING: Limit = Limit {
+    what: "DXF drawing",
+    bytes: 256 << 20,
+};
+/// One layer mapping: 1 MiB.
+pub const CAD_MAP: Limit = Limit {
+    what: "layer mapping",
+    bytes: 1 << 20,
+};
+
 /// Why a file cannot be read: what is wrong and how to fix it. `io` marks a failing read
 /// (the file is there and allowed, the system could not read it) as opposed to a file the
 /// site should not name.
@@ -280,6 +291,14 @@ impl World {
             root_canon,
             hashes: BTreeMap::new(),
         })
+    }
+
+    /// A file the site names, as shown to the user (beside the site file).
+    pub fn display_named(&self, rel: &str) -> String {
+        match self.site_file.parent() {
+            Some(dir) => display_path(&dir.join(rel)),
+            None => rel.to_string(),
+        }
     }
 
     /// The site file as shown to the user.

@@ -56,6 +56,7 @@ pub fn known_keys(parent: &[&str]) -> Option<&'static [&'static str]> {
             _ => return None,
         },
         ["services", i, "uplink"] if is_index(i) => fields_of::<RawUplink>(),
+        ["floors", i, "cad"] if is_index(i) => fields_of::<RawCadRef>(),
         ["donors", i, sub] if is_index(i) => match *sub {
             "serving_site" => fields_of::<RawServingSite>(),
             "donor_antenna" => fields_of::<RawDonorAntenna>(),

@@ -29,6 +29,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod cadmap;
 pub mod diag;
 pub mod keys;
 pub mod limits;

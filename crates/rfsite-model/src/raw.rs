@@ -136,6 +136,20 @@ pub struct RawFloor {
     pub plan_scale: Option<S<f64>>,
     /// Site coordinates of the image's lower-left corner.
     pub plan_offset: Option<S<RawPoint>>,
+    /// `[floors.cad]`: the floor's walls from a DXF drawing.
+    pub cad: Option<S<RawCadRef>>,
+}
+
+/// `[floors.cad]`: a DXF drawing and its layer mapping; the placement keys override the
+/// mapping's `[drawing]` table.
+#[derive(Debug, Deserialize, Default)]
+pub struct RawCadRef {
+    pub file: Option<S<String>>,
+    pub map: Option<S<String>>,
+    pub units: Option<S<String>>,
+    pub scale: Option<S<f64>>,
+    pub rotation_deg: Option<S<f64>>,
+    pub offset: Option<S<RawPoint>>,
 }
 
 /// `[[walls]]`

@@ -220,6 +220,26 @@ pub struct Floor {
     /// Plan position of the image's lower-left corner, m.
     #[serde(serialize_with = "ser_point")]
     pub plan_offset: Point2,
+    /// The DXF drawing the floor's walls also come from, if any.
+    pub cad: Option<CadRef>,
+}
+
+/// A floor's DXF drawing, as the site names it (paths relative to the site folder). The
+/// placement values, when given, override the layer mapping's `[drawing]` table.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CadRef {
+    /// The DXF file.
+    pub file: String,
+    /// The layer mapping (TOML).
+    pub map: String,
+    /// Drawing units (`mm`, `cm`, `m`, `in`, `ft`).
+    pub units: Option<String>,
+    /// Extra scale.
+    pub scale: Option<f64>,
+    /// Rotation onto the site plan, degrees counter-clockwise.
+    pub rotation_deg: Option<f64>,
+    /// Where the drawing's origin lands on the site plan, m.
+    pub offset_m: Option<(f64, f64)>,
 }
 
 impl Floor {

@@ -11,6 +11,7 @@ use crate::material::{Material, MaterialClass, MaterialLibrary, MaterialModel};
 use crate::raw::*;
 use crate::site::*;
 
+pub(crate) mod cad;
 mod refs;
 mod twoway;
 mod whatif;
@@ -1491,6 +1492,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
             plan_image: f.plan_image.as_ref().map(|p| p.get_ref().clone()),
             plan_m_per_px: plan_m_per_px.unwrap_or(0.05),
             plan_offset: plan_offset.unwrap_or_default(),
+            cad: f.cad.as_ref().and_then(|c| cad::cad_ref(v, c, &what)),
         });
     }
     storey_warnings(v, &raw.floors, &floors);
@@ -2247,7 +2249,7 @@ fn is_iso_date(s: &str) -> bool {
 
 /// Splits a polyline into wall parts, with opening intervals (arc length from the first
 /// point) cut out and given their own material.
-fn split_polyline(
+pub(crate) fn split_polyline(
     pts: &[Point2],
     intervals: &[(f64, f64, WallPart)],
     wall: &WallPart,

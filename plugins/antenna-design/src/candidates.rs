@@ -190,6 +190,7 @@ mod tests {
             plan_image: None,
             plan_m_per_px: 0.05,
             plan_offset: Point2::default(),
+            cad: None,
         }
     }
 

@@ -36,6 +36,7 @@ fn floor(outline: Vec<Point2>, zones: Vec<rfsite_model::Zone>) -> Floor {
         plan_image: None,
         plan_m_per_px: 0.05,
         plan_offset: Default::default(),
+        cad: None,
     }
 }
 

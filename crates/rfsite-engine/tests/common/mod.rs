@@ -20,6 +20,7 @@ pub fn loaded(text: &str) -> LoadedSite {
         surveys: Default::default(),
         plan_images: BTreeMap::new(),
         source: file,
+        plans: BTreeMap::new(),
     }
 }
 
