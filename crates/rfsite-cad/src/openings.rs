@@ -62,7 +62,12 @@ pub fn place(
             continue;
         }
         let line_o = n.dot(a);
-        let mates: Vec<usize> = (0..walls.len())
+        let mut near: Vec<usize> = index.near(b.at, (p1 - p0).abs() + reach + 1.0);
+        near.extend(grown.iter().copied());
+        near.sort_unstable();
+        near.dedup();
+        let mates: Vec<usize> = near
+            .into_iter()
             .filter(|&k| alive[k] && k != host && collinear(&walls[k].seg, d, n, line_o, gap))
             .filter(|&k| overlaps(&walls[k].seg, d, a, p0 - gap, p1 + gap))
             .collect();
@@ -72,7 +77,9 @@ pub fn place(
             alive[k] = false;
         }
         walls[host] = merged;
-        grown.push(host);
+        if !grown.contains(&host) {
+            grown.push(host);
+        }
         let w = &mut walls[host];
         let off = (p0 - d.dot(w.seg.a - a)).max(0.0);
         let width = (p1 - p0).min(w.seg.a.distance(w.seg.b) - off);
