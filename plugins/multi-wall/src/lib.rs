@@ -622,8 +622,11 @@ impl Plugin for MultiWall {
     fn after(&self) -> Vec<String> {
         vec!["free-space".into()]
     }
+    /// Only when some plugin reads the multi-wall layers
+    /// ([`rfsite_plugin_free_space::model_wanted`]): not for a site graded on free space
+    /// alone.
     fn applies(&self, site: &Site) -> bool {
-        !site.transmitters.is_empty()
+        !site.transmitters.is_empty() && rfsite_plugin_free_space::model_wanted(site, "multi-wall")
     }
     fn option_keys(&self) -> Option<Vec<&'static str>> {
         Some(vec![
