@@ -112,6 +112,10 @@ pub fn floor_grid(site: &Site, floor: usize) -> Grid {
 
 /// Antenna gain towards a point, dBi.
 pub fn gain_towards(tx: &Transmitter, tx3: P3, rx: P3) -> f64 {
+    if tx.pattern == Pattern::Isotropic {
+        // The same in every direction: no angle to compute.
+        return tx.antenna_gain_dbi;
+    }
     let dx = rx.p.x - tx3.p.x;
     let dy = rx.p.y - tx3.p.y;
     let dz = rx.z - tx3.z;
@@ -156,6 +160,7 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
                 Some((t, fi, P3 { p: t.position, z }))
             })
             .collect();
+        let power_sum = site.prediction.combine == Combine::PowerSum;
         for (fi, floor) in site.floors.iter().enumerate() {
             let grid = floor_grid(site, fi);
             let rz = floor.elevation_m + site.prediction.receiver_height_m;
@@ -187,7 +192,9 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
                                     best = level;
                                     best_i = k as u16;
                                 }
-                                sum_mw += 10f64.powf(level / 10.0);
+                                if power_sum {
+                                    sum_mw += 10f64.powf(level / 10.0);
+                                }
                             }
                             if txs.is_empty() {
                                 continue;

@@ -790,7 +790,9 @@ fn combine_at(combine: Combine, per_tx: &[Vec<f32>], i: usize) -> (f32, u16) {
             best = l;
             bi = k as u16;
         }
-        sum_mw += 10f64.powf(l / 10.0);
+        if combine == Combine::PowerSum {
+            sum_mw += 10f64.powf(l / 10.0);
+        }
     }
     let level = match combine {
         Combine::Strongest => best as f32,
