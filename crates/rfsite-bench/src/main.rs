@@ -6,6 +6,7 @@
 //! cargo run --release -p rfsite-bench -- --tower # only the 20-storey estimate
 //! cargo run --release -p rfsite-bench -- --profile-shadow # per-call shadow cost and counters
 //! cargo run --release -p rfsite-bench -- --slabs   # only the P.2040 slab-loss timings
+//! cargo run --release -p rfsite-bench -- --plugins # only the plugin-level prediction
 //! ```
 //!
 //! A synthetic office floor (`synth::office_floor`, fixed seeds) with one
@@ -32,6 +33,7 @@ use rfsite_geometry::{crossings_brute_force, Grid, Point2, Scratch, Segment, Wal
 use std::ops::AddAssign;
 use std::time::Instant;
 
+mod plugins;
 mod slabs;
 
 const WIDTH_M: f64 = 120.0;
@@ -414,6 +416,10 @@ fn main() {
         tower_estimate(if quick { 1 } else { 3 });
         return;
     }
+    if std::env::args().any(|a| a == "--plugins") {
+        plugins::report(&Case::new(4000, 0.25, 30), if quick { 1 } else { 3 }, 3_000);
+        return;
+    }
     if std::env::args().any(|a| a == "--slabs") {
         slabs::report(&Case::new(4000, 0.25, 30), if quick { 1 } else { 3 });
         return;
@@ -534,6 +540,7 @@ fn main() {
         })
     );
     slabs::report(&case, reps);
+    plugins::report(&case, reps, brute_sample / 10);
     // Boundary statistics for one transmitter.
     let mut scratch = ShadowScratch::new();
     let mut loss = vec![0f32; case.grid.len()];

@@ -16,14 +16,26 @@ pub const EPS_M: f64 = 1e-9;
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Crossing {
     /// Index of the wall in the slice given to the index (or to
-    /// [`crossings_brute_force`]). At a shared corner, the lowest index among
-    /// the walls ending there.
+    /// [`crossings_brute_force`]). At a shared corner, the wall of largest
+    /// [`CornerRank`] among the walls ending there (the lowest index among
+    /// equals).
     pub wall: usize,
     /// Position along the path, strictly between 0 (at `p`) and 1 (at `q`).
     pub t: f64,
     /// `|cos|` of the angle between the path direction and the wall normal,
     /// in `0..=1`; 1 is normal incidence.
     pub cos_incidence: f64,
+}
+
+/// How a counted corner chooses the wall it charges: `rank(wall,
+/// cos_incidence)`, typically the loss in dB of that wall at that incidence.
+/// The corner charges the wall of largest rank, once; among equal ranks the
+/// lowest index (so equal ranks give the same charge whatever the order).
+pub type CornerRank<'a> = &'a dyn Fn(usize, f64) -> f64;
+
+/// The rank that makes every wall equal: a corner charges its lowest index.
+pub fn no_rank(_wall: usize, _cos: f64) -> f64 {
+    0.0
 }
 
 /// A wall end point lying on the open path; resolved per corner later.
@@ -33,6 +45,8 @@ pub(crate) struct Touch {
     t: f64,
     /// Whether the wall's other end lies left of the path.
     left: bool,
+    /// Unit direction from the touching end along the wall (its arm).
+    arm: Point2,
 }
 
 /// The outcome of one wall for one path.
@@ -121,13 +135,14 @@ impl Ray {
                 // Collinear with the path (or degenerate): grazing, never a crossing.
                 return Event::None;
             }
-            let (v, other) = if a_on { (w.a, db) } else { (w.b, da) };
+            let (v, other, far) = if a_on { (w.a, db, w.b) } else { (w.b, da, w.a) };
             let t = self.u.dot(v - self.p) * self.inv_len;
             if t > self.t_eps && t < 1.0 - self.t_eps {
                 return Event::Touch(Touch {
                     wall,
                     t,
                     left: other > 0.0,
+                    arm: Segment::new(v, far).direction(),
                 });
             }
             return Event::None;
@@ -169,7 +184,13 @@ impl Collector {
 
     /// Resolve corner touches and write the sorted result to `out` (cleared
     /// first).
-    pub(crate) fn finish(&mut self, ray: &Ray, walls: &[Segment], out: &mut Vec<Crossing>) {
+    pub(crate) fn finish(
+        &mut self,
+        ray: &Ray,
+        walls: &[Segment],
+        rank: CornerRank<'_>,
+        out: &mut Vec<Crossing>,
+    ) {
         out.clear();
         out.extend_from_slice(&self.crosses);
         let touches = &mut self.touches;
@@ -186,18 +207,62 @@ impl Collector {
             let any_right = corner.iter().any(|t| !t.left);
             if any_left && any_right {
                 // The path passes from one side of the wall chain to the other:
-                // one crossing, charged to the lowest wall index at the corner.
-                if let Some(first) = corner.iter().min_by_key(|t| t.wall) {
-                    out.push(Crossing {
-                        wall: first.wall,
-                        t: first.t,
-                        cos_incidence: ray.cos_incidence(&walls[first.wall]),
-                    });
-                }
+                // one crossing, charged to the wall of largest rank.
+                corner_crossings(ray, walls, rank, corner, out);
             }
             i = j;
         }
         out.sort_unstable_by(|a, b| a.t.total_cmp(&b.t).then(a.wall.cmp(&b.wall)));
+    }
+}
+
+/// Whether two arms of a corner point the same way (walls drawn on top of
+/// each other).
+fn same_arm(a: Point2, b: Point2) -> bool {
+    a.cross(b).abs() <= EPS_M && a.dot(b) > 0.0
+}
+
+/// The crossings of a counted corner (touches sorted by `t`, non-empty), all
+/// at the corner's first `t`. Walls whose arms coincide (drawn on top of each
+/// other) form one stack ranked by the sum of their ranks, as they would be
+/// crossed together away from the corner; the corner is charged the stack of
+/// largest rank: each of its walls, at its own incidence. Among equal ranks,
+/// the stack holding the lowest index.
+fn corner_crossings(
+    ray: &Ray,
+    walls: &[Segment],
+    rank: CornerRank<'_>,
+    corner: &[Touch],
+    out: &mut Vec<Crossing>,
+) {
+    let t = corner.first().map_or(0.5, |c| c.t);
+    let cos = |w: usize| ray.cos_incidence(&walls[w]);
+    // (rank sum, lowest wall, index of the first touch of the stack)
+    let mut best: Option<(f64, usize, usize)> = None;
+    for (k, c) in corner.iter().enumerate() {
+        if corner[..k].iter().any(|o| same_arm(o.arm, c.arm)) {
+            continue;
+        }
+        let stack = corner[k..].iter().filter(|o| same_arm(o.arm, c.arm));
+        let (r, low) = stack.fold((0.0, usize::MAX), |(r, low), o| {
+            (r + rank(o.wall, cos(o.wall)), low.min(o.wall))
+        });
+        let better = match best {
+            None => true,
+            Some((br, bl, _)) => r > br || (r == br && low < bl),
+        };
+        if better {
+            best = Some((r, low, k));
+        }
+    }
+    let Some((_, _, k)) = best else { return };
+    let arm = corner[k].arm;
+    for o in corner[k..].iter().filter(|o| same_arm(o.arm, arm)) {
+        out.push(Crossing {
+            wall: o.wall,
+            t,
+            cos_incidence: cos(o.wall),
+        });
     }
 }
 
@@ -206,6 +271,18 @@ impl Collector {
 /// index. Walls with non-finite coordinates are ignored. See the crate
 /// documentation for the crossing rules.
 pub fn crossings_brute_force(walls: &[Segment], p: Point2, q: Point2, out: &mut Vec<Crossing>) {
+    crossings_brute_force_ranked(walls, p, q, &no_rank, out);
+}
+
+/// As [`crossings_brute_force`], a counted corner charging the wall of
+/// largest `rank` (see [`CornerRank`]).
+pub fn crossings_brute_force_ranked(
+    walls: &[Segment],
+    p: Point2,
+    q: Point2,
+    rank: CornerRank<'_>,
+    out: &mut Vec<Crossing>,
+) {
     out.clear();
     let Some(ray) = Ray::new(p, q) else {
         return;
@@ -216,5 +293,5 @@ pub fn crossings_brute_force(walls: &[Segment], p: Point2, q: Point2, out: &mut 
             ray.classify(i, w, &mut c);
         }
     }
-    c.finish(&ray, walls, out);
+    c.finish(&ray, walls, rank, out);
 }

@@ -1,6 +1,6 @@
 //! Uniform-grid wall index walked by a 2-D DDA (Amanatides–Woo).
 
-use crate::crossing::{Collector, Crossing, Ray, EPS_M};
+use crate::crossing::{no_rank, Collector, CornerRank, Crossing, Ray, EPS_M};
 use crate::point::{Point2, Segment};
 
 /// Cell-size factor `k` in `cell = k * sqrt(area / walls)`, measured with
@@ -230,6 +230,20 @@ impl WallIndex {
         q: Point2,
         out: &mut Vec<Crossing>,
     ) {
+        self.crossings_ranked(scratch, p, q, &no_rank, out);
+    }
+
+    /// As [`crossings_with`](Self::crossings_with), a counted corner charging
+    /// the wall of largest `rank` (see [`CornerRank`]); the same results as
+    /// [`crossings_brute_force_ranked`](crate::crossings_brute_force_ranked).
+    pub fn crossings_ranked(
+        &self,
+        scratch: &mut Scratch,
+        p: Point2,
+        q: Point2,
+        rank: CornerRank<'_>,
+        out: &mut Vec<Crossing>,
+    ) {
         out.clear();
         let Some(ray) = Ray::new(p, q) else {
             return;
@@ -254,7 +268,7 @@ impl WallIndex {
                 }
             }
         });
-        collector.finish(&ray, &self.walls, out);
+        collector.finish(&ray, &self.walls, rank, out);
     }
 
     /// The part `t0..=t1` of the path inside the grid, if any.

@@ -29,14 +29,32 @@
 //!   counts **zero**. Walls collinear with the path are left out of this
 //!   side test. Small rounding noise cannot turn a corner into 0 or 2,
 //!   because the decision is made once per corner, not per wall.
-//! * **Which wall a corner charges.** A counted corner reports the **lowest
-//!   wall index** among the walls ending there (whatever their materials),
-//!   with that wall's incidence angle.
+//! * **Which wall a corner charges.** A counted corner is charged **once**,
+//!   to the wall of **largest rank** among the walls ending there (those
+//!   collinear with the path left out), each ranked at its own incidence by
+//!   the caller's [`CornerRank`], typically the wall's loss in dB: the path
+//!   passes between those walls and is charged the larger of their losses,
+//!   once. Walls drawn on top of each other (their arms from the corner
+//!   coincide) are one stack, ranked by the sum of their ranks and charged
+//!   together, as they are crossed together away from the corner. Among
+//!   equal ranks the stack holding the lowest index is reported, which
+//!   changes no loss. Without a rank ([`crossings_brute_force`],
+//!   [`WallIndex::crossings_with`]) every wall ranks equal.
 //! * A wall passing *through* a point in its interior (a T-junction seen from
 //!   the through wall) is an ordinary crossing, separate from any corner of
 //!   walls that end at that point.
 //! * Incidence: `cos_incidence = |u · n|` with `u` the unit path direction
 //!   and `n` the wall's unit normal; 1 means the path meets the wall head on.
+//! * **Junctions.** Where walls meet away from the ends of some of them (a
+//!   T or a "+" drawn with a through wall, two walls crossing, a wall drawn
+//!   as collinear pieces), [`split_at_junctions`] cuts them so that every
+//!   meeting point is an end of each wall there ("junction form"). On a plan
+//!   in junction form every point where walls meet is a corner, so a path
+//!   through it is charged once, by the largest rank, or not at all when all
+//!   the walls lie on one side of it; the answer does not depend on the
+//!   order of the walls, their direction, or how a straight wall is split
+//!   into collinear pieces (property tests). The prediction always works on
+//!   the junction form; the functions here take the walls as given.
 //! * Results are sorted by `t`, then by wall index. Walls with non-finite
 //!   coordinates, and paths with non-finite or (near) coincident end points,
 //!   give no crossings.
@@ -87,13 +105,17 @@
 mod crossing;
 mod grid;
 mod index;
+mod junction;
 mod point;
 mod polygon;
 pub mod shadow;
 pub mod synth;
 
-pub use crossing::{crossings_brute_force, Crossing, EPS_M};
+pub use crossing::{
+    crossings_brute_force, crossings_brute_force_ranked, no_rank, CornerRank, Crossing, EPS_M,
+};
 pub use grid::Grid;
 pub use index::{Scratch, WallIndex};
+pub use junction::{split_at_junctions, JunctionPlan};
 pub use point::{distance_point_segment, segments_intersect_properly, Point2, Segment};
 pub use polygon::{point_in_polygon, polygon_area, polygon_bbox};

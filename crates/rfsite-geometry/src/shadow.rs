@@ -47,7 +47,7 @@
 //! against the brute force on the cut path itself they can differ only for
 //! a crossing within about [`EPS_M`] of a cut.
 
-use crate::crossing::{Collector, Crossing, Ray, EPS_M};
+use crate::crossing::{no_rank, Collector, CornerRank, Crossing, Ray, EPS_M};
 use crate::grid::Grid;
 use crate::point::{Point2, Segment};
 
@@ -281,7 +281,8 @@ fn loss_pass(
             *a += run;
         }
     }
-    resolve(tx, grid, walls, scratch, |i, crossings| {
+    let rank = |w: usize, cos: f64| losses.eval(w, cos);
+    resolve(tx, grid, walls, &rank, scratch, |i, crossings| {
         for c in crossings {
             acc[i] += sign * losses.eval(c.wall, c.cos_incidence);
         }
@@ -323,7 +324,7 @@ pub fn count_crossings_grid(
             out[iy * nx + ix] = run as u32;
         }
     }
-    resolve(tx, grid, walls, scratch, |i, crossings| {
+    resolve(tx, grid, walls, &no_rank, scratch, |i, crossings| {
         out[i] += crossings.len() as u32;
     });
 }
@@ -357,7 +358,7 @@ pub fn for_each_point_crossings(
     });
     let mut exact: Vec<Vec<Crossing>> = Vec::new();
     let mut exact_at: Vec<u32> = Vec::new();
-    resolve(tx, grid, walls, scratch, |i, c| {
+    resolve(tx, grid, walls, &no_rank, scratch, |i, c| {
         if !c.is_empty() {
             exact_at.push(i as u32);
             exact.push(c.to_vec());
@@ -645,11 +646,13 @@ fn cast(
 }
 
 /// Resolve the boundary pairs and in-line walls left by [`cast`] with the
-/// exact classifier: `f(i, crossings)` per resolved point.
+/// exact classifier, corners charged by `rank`: `f(i, crossings)` per
+/// resolved point.
 fn resolve(
     tx: Point2,
     grid: &Grid,
     walls: &[Segment],
+    rank: CornerRank<'_>,
     scratch: &mut ShadowScratch,
     mut f: impl FnMut(usize, &[Crossing]),
 ) {
@@ -672,7 +675,7 @@ fn resolve(
         for w in ws {
             ray.classify(w as usize, &walls[w as usize], collector);
         }
-        collector.finish(&ray, walls, crossings);
+        collector.finish(&ray, walls, rank, crossings);
         if !crossings.is_empty() {
             f(i, crossings);
         }

@@ -4,7 +4,7 @@
 //! `geo` crate's segment intersection.
 
 use crate::index_vs_brute::{random_wall, room_plan};
-use crate::util::{brute, p, seg};
+use crate::util::{brute, brute_loss, brute_ranked, p, seg};
 use geo::algorithm::line_intersection::{line_intersection, LineIntersection};
 use geo::{coord, Line};
 use proptest::prelude::*;
@@ -48,7 +48,8 @@ fn check_grid(tx: Point2, grid: &Grid, walls: &[Segment], scratch: &mut ShadowSc
     let mut on_boundary = 0;
     for (i, q) in grid.points().enumerate() {
         let want = brute(walls, tx, q);
-        let sum: f64 = want.iter().map(|c| loss[c.wall] as f64).sum();
+        // Corners are charged the largest loss of their walls.
+        let sum = brute_loss(walls, tx, q, &loss);
         let ws: Vec<usize> = want.iter().map(|c| c.wall).collect();
         let gs: Vec<usize> = lists[i].iter().map(|c| c.wall).collect();
         assert_eq!(
@@ -245,9 +246,10 @@ proptest! {
         let mut out = vec![0f32; g.len()];
         accumulate_path_part(tx, &g, &walls, &l, (0.0, 1.0), &mut out, &mut ShadowScratch::new());
         for (i, q) in g.points().enumerate() {
-            let want: f64 = brute(&walls, tx, q)
+            let eval = |w: usize, cos: f64| if mask[w] { f(w, cos) as f64 } else { constant[w] as f64 };
+            let want: f64 = brute_ranked(&walls, tx, q, &eval)
                 .iter()
-                .map(|c| if mask[c.wall] { f(c.wall, c.cos_incidence) as f64 } else { constant[c.wall] as f64 })
+                .map(|c| eval(c.wall, c.cos_incidence))
                 .sum();
             prop_assert!((out[i] as f64 - want).abs() <= 1e-3 * (1.0 + want.abs()), "{} {:?}: {} vs {}", i, q, out[i], want);
         }
@@ -276,13 +278,13 @@ proptest! {
                 .map(|w| Segment::new(tx + (w.a - tx) * (1.0 / t1), tx + (w.b - tx) * (1.0 / t1)))
                 .collect();
             for (i, q) in g.points().enumerate() {
-                let want: f64 = brute(&scaled, tx, q).iter().map(|c| loss[c.wall] as f64).sum();
+                let want = brute_loss(&scaled, tx, q, &loss);
                 prop_assert_eq!(out[i], want as f32, "scaled walls at {} {:?}", i, q);
             }
         }
         for (i, q) in g.points().enumerate() {
             let at = |t: f64| tx + (q - tx) * t;
-            let want: f64 = brute(&walls, at(t0), at(t1)).iter().map(|c| loss[c.wall] as f64).sum();
+            let want = brute_loss(&walls, at(t0), at(t1), &loss);
             if out[i] as f64 != want {
                 // Allowed only for a crossing or a wall end at a cut.
                 let cut = brute(&walls, tx, q).iter().any(|c| (c.t - t0).abs() < 1e-6 || (c.t - t1).abs() < 1e-6)

@@ -1,6 +1,9 @@
 //! Shared helpers for the integration tests.
 
-use rfsite_geometry::{crossings_brute_force, Crossing, Point2, Scratch, Segment, WallIndex};
+use rfsite_geometry::{
+    crossings_brute_force, crossings_brute_force_ranked, Crossing, Point2, Scratch, Segment,
+    WallIndex,
+};
 
 pub fn p(x: f64, y: f64) -> Point2 {
     Point2::new(x, y)
@@ -14,6 +17,29 @@ pub fn brute(walls: &[Segment], a: Point2, b: Point2) -> Vec<Crossing> {
     let mut out = Vec::new();
     crossings_brute_force(walls, a, b, &mut out);
     out
+}
+
+/// The brute force with corners charged by `rank` (the loss in dB of a wall
+/// at an incidence).
+pub fn brute_ranked(
+    walls: &[Segment],
+    a: Point2,
+    b: Point2,
+    rank: &dyn Fn(usize, f64) -> f64,
+) -> Vec<Crossing> {
+    let mut out = Vec::new();
+    crossings_brute_force_ranked(walls, a, b, rank, &mut out);
+    out
+}
+
+/// The summed constant loss of the walls on `a → b`, corners charged to the
+/// largest of `loss`.
+pub fn brute_loss(walls: &[Segment], a: Point2, b: Point2, loss: &[f32]) -> f64 {
+    let rank = |w: usize, _: f64| loss[w] as f64;
+    brute_ranked(walls, a, b, &rank)
+        .iter()
+        .map(|c| loss[c.wall] as f64)
+        .sum()
 }
 
 /// Cell sizes that stress the index differently: automatic, finer than the

@@ -56,6 +56,55 @@ impl PathLoss for NoExtra {
     }
 }
 
+/// Whether a plugin table of the site is enabled (`enabled`, default `default`).
+fn table_enabled(site: &Site, id: &str, default: bool) -> bool {
+    site.plugin_options
+        .get(id)
+        .and_then(|t| t.get("enabled"))
+        .and_then(|v| v.as_bool())
+        .unwrap_or(default)
+}
+
+/// The prediction models the site's run reads: the site's graded model, every enabled
+/// plugin's `model` option, and the calibration's base model (`multi-wall` unless its
+/// `model` says otherwise) when the calibration is enabled (it is opt-in).
+pub fn models_read(site: &Site) -> std::collections::BTreeSet<String> {
+    let mut out = std::collections::BTreeSet::from([site.prediction.model.clone()]);
+    for (id, t) in &site.plugin_options {
+        let calibration = id == "calibration";
+        if !table_enabled(site, id, !calibration) {
+            continue;
+        }
+        match t.get("model").and_then(|v| v.as_str()) {
+            Some(m) => out.insert(m.to_string()),
+            None if calibration => out.insert("multi-wall".to_string()),
+            None => false,
+        };
+    }
+    out
+}
+
+/// Whether the run needs the layers of `model` (`"free-space"` or `"multi-wall"`), so that
+/// a model nobody reads is not computed. Free space is also needed wherever a plugin falls
+/// back to it: when a model other than multi-wall is read (a calibrated model that may
+/// not be produced, say), when the multi-wall plugin is disabled, and when the site
+/// declares an external plugin (which may read any layer).
+pub fn model_wanted(site: &Site, model: &str) -> bool {
+    let read = models_read(site);
+    if read.contains(model) {
+        return true;
+    }
+    if model != "free-space" {
+        return false;
+    }
+    let external = site
+        .plugin_options
+        .values()
+        .any(|t| t.contains_key("command"));
+    let fallback = read.iter().any(|m| m != "multi-wall");
+    external || fallback || !table_enabled(site, "multi-wall", true)
+}
+
 /// The grid of a floor: covering its outline's bounding box at the site's step.
 pub fn floor_grid(site: &Site, floor: usize) -> Grid {
     site.floor_grid(floor)
@@ -63,6 +112,10 @@ pub fn floor_grid(site: &Site, floor: usize) -> Grid {
 
 /// Antenna gain towards a point, dBi.
 pub fn gain_towards(tx: &Transmitter, tx3: P3, rx: P3) -> f64 {
+    if tx.pattern == Pattern::Isotropic {
+        // The same in every direction: no angle to compute.
+        return tx.antenna_gain_dbi;
+    }
     let dx = rx.p.x - tx3.p.x;
     let dy = rx.p.y - tx3.p.y;
     let dz = rx.z - tx3.z;
@@ -107,6 +160,7 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
                 Some((t, fi, P3 { p: t.position, z }))
             })
             .collect();
+        let power_sum = site.prediction.combine == Combine::PowerSum;
         for (fi, floor) in site.floors.iter().enumerate() {
             let grid = floor_grid(site, fi);
             let rz = floor.elevation_m + site.prediction.receiver_height_m;
@@ -138,7 +192,9 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
                                     best = level;
                                     best_i = k as u16;
                                 }
-                                sum_mw += 10f64.powf(level / 10.0);
+                                if power_sum {
+                                    sum_mw += 10f64.powf(level / 10.0);
+                                }
                             }
                             if txs.is_empty() {
                                 continue;
@@ -203,8 +259,9 @@ impl Plugin for FreeSpace {
             validity: format!("far field; distances below {MIN_DISTANCE_M} m are evaluated at {MIN_DISTANCE_M} m"),
         }
     }
+    /// Only when some plugin reads the free-space layers ([`model_wanted`]).
     fn applies(&self, site: &Site) -> bool {
-        !site.transmitters.is_empty()
+        !site.transmitters.is_empty() && model_wanted(site, "free-space")
     }
     fn option_keys(&self) -> Option<Vec<&'static str>> {
         Some(Vec::new())
@@ -214,5 +271,82 @@ impl Plugin for FreeSpace {
             layers: predict(ctx.site, self.id(), &NoExtra),
             ..Default::default()
         })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rfsite_model::{load, MaterialLibrary, SourceFile};
+
+    /// A one-floor site with one transmitter, `extra` appended (prediction model and
+    /// plugin tables).
+    fn site(prediction: &str, extra: &str) -> Site {
+        let text = format!(
+            r#"
+[site]
+id = "m"
+name = "model selection"
+units = "metres"
+report_date = "2026-01-15"
+[prediction]
+grid_step = 1.0
+{prediction}
+[[floors]]
+id = "L0"
+elevation = 0.0
+height = 3.0
+outline = [[0, 0], [10, 0], [10, 10], [0, 10]]
+[[services]]
+id = "s"
+freq_mhz = 900.0
+threshold_dbm = -90.0
+[[transmitters]]
+id = "T"
+service = "s"
+floor = "L0"
+position = [2.0, 5.0]
+height = 1.5
+power_dbm = 20.0
+{extra}
+"#
+        );
+        load(
+            &SourceFile::new("m.toml", &text),
+            &MaterialLibrary::builtin(),
+        )
+        .site
+        .expect("valid site")
+    }
+
+    /// The rule of `model_wanted`, case by case: a model runs when the graded model, a
+    /// plugin's `model` option or the enabled calibration's base reads it; free space also
+    /// where a plugin may fall back to it.
+    #[test]
+    fn only_the_models_a_run_reads_are_wanted() {
+        let mw = site("", "");
+        assert!(model_wanted(&mw, "multi-wall"));
+        assert!(
+            !model_wanted(&mw, "free-space"),
+            "multi-wall graded, nothing reads free space"
+        );
+        let fs = site(r#"model = "free-space""#, "");
+        assert!(model_wanted(&fs, "free-space"));
+        assert!(!model_wanted(&fs, "multi-wall"), "free space graded alone");
+        let calibrated = site(
+            r#"model = "free-space""#,
+            "[plugins.calibration]\nenabled = true\n",
+        );
+        assert!(
+            model_wanted(&calibrated, "multi-wall"),
+            "the calibration's default base"
+        );
+        let compared = site("", "[plugins.survey-compare]\nmodel = \"free-space\"\n");
+        assert!(model_wanted(&compared, "free-space"));
+        let off = site("", "[plugins.multi-wall]\nenabled = false\n");
+        assert!(
+            model_wanted(&off, "free-space"),
+            "grading falls back to free space"
+        );
     }
 }

@@ -12,7 +12,7 @@
 
 use rayon::prelude::*;
 use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
-use rfsite_geometry::{Crossing, Grid, Point2, Scratch, Segment, WallIndex};
+use rfsite_geometry::{split_at_junctions, Crossing, Grid, Point2, Scratch, Segment, WallIndex};
 use rfsite_model::{Combine, CrossingLossFn};
 use rfsite_model::{MaterialClass, Site, Transmitter, ZoneKind};
 use rfsite_physics::cost231;
@@ -73,13 +73,24 @@ impl ServiceLosses {
         &self.kinds[self.parts[floor][part]]
     }
 
+    /// The kind of piece `piece` of floor `floor` of `scene`.
+    fn piece(&self, scene: &Scene, floor: usize, piece: usize) -> &CrossingKind {
+        let part = scene.floors[floor].origin[piece];
+        self.part(floor, part)
+    }
+
     fn slab(&self, floor: usize) -> &CrossingKind {
         &self.kinds[self.slabs[floor]]
     }
 }
 
 struct FloorScene {
+    /// The floor's wall parts in junction form (rfsite-geometry `split_at_junctions`):
+    /// every point where parts meet is an end of each, so a path through it is charged
+    /// the same however the parts are ordered, directed or split into collinear pieces.
     index: WallIndex,
+    /// `origin[piece]`: the wall part (index into the floor's `parts`) a piece is cut from.
+    origin: Vec<usize>,
     bottom_m: f64,
     top_m: f64,
 }
@@ -187,13 +198,15 @@ impl Scene {
             .map(|i| {
                 let f = &site.floors[i];
                 let segs: Vec<Segment> = f.parts.iter().map(|p| p.segment).collect();
+                let jf = split_at_junctions(&segs);
                 let top = if i + 1 < n {
                     site.floors[i + 1].elevation_m
                 } else {
                     f.elevation_m + f.height_m
                 };
                 FloorScene {
-                    index: WallIndex::new(&segs),
+                    index: WallIndex::new(&jf.pieces),
+                    origin: jf.origin,
                     bottom_m: f.elevation_m,
                     top_m: top,
                 }
@@ -227,10 +240,14 @@ impl Scene {
         walls_and_floors_db.min(self.max_excess_db)
     }
 
-    /// Calls `f(floor, crossing)` for every wall crossing of the path.
+    /// Calls `f(floor, crossing)` for every wall crossing of the path (`crossing.wall` a
+    /// piece of the floor's junction form), a corner charged to the walls of largest loss
+    /// for service index `service`.
+    #[allow(clippy::too_many_arguments)]
     fn for_each_crossing(
         &self,
         scratch: &mut (Scratch, Vec<Crossing>),
+        service: usize,
         tx: P3,
         tx_floor: usize,
         rx: P3,
@@ -238,11 +255,13 @@ impl Scene {
         mut f: impl FnMut(usize, &Crossing),
     ) {
         let (sc, out) = scratch;
+        let losses = &self.losses[service];
         if tx_floor == rx_floor {
             out.clear();
+            let rank = |w: usize, cos: f64| losses.piece(self, rx_floor, w).eval(cos);
             self.floors[rx_floor]
                 .index
-                .crossings_with(sc, tx.p, rx.p, out);
+                .crossings_ranked(sc, tx.p, rx.p, &rank, out);
             for c in out.iter() {
                 f(rx_floor, c);
             }
@@ -275,7 +294,8 @@ impl Scene {
             // part), not zero times (path endpoints never count as crossings).
             let (a0, a1) = ((t0 - CUT_PAD).max(0.0), (t1 + CUT_PAD).min(1.0));
             out.clear();
-            fs.index.crossings_with(sc, at(a0), at(a1), out);
+            let rank = |w: usize, cos: f64| losses.piece(self, k, w).eval(cos);
+            fs.index.crossings_ranked(sc, at(a0), at(a1), &rank, out);
             for c in out.iter() {
                 let t = a0 + c.t * (a1 - a0);
                 // Half-open [t0, t1) with one tolerance, so a crossing on a cut lands in
@@ -337,12 +357,12 @@ impl Scene {
             p,
             z: site.floors.get(rx_floor)?.elevation_m + site.prediction.receiver_height_m,
         };
+        let service = site.services.iter().position(|s| s.id == t.service)?;
         let mut counts: std::collections::BTreeMap<String, usize> = Default::default();
         let mut scratch = self.scratch();
-        self.for_each_crossing(&mut scratch, tx, tf, rx, rx_floor, |k, c| {
-            *counts
-                .entry(site.floors[k].parts[c.wall].material.clone())
-                .or_default() += 1;
+        self.for_each_crossing(&mut scratch, service, tx, tf, rx, rx_floor, |k, c| {
+            let part = &site.floors[k].parts[self.floors[k].origin[c.wall]];
+            *counts.entry(part.material.clone()).or_default() += 1;
         });
         let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2))
             .sqrt()
@@ -376,8 +396,8 @@ impl Scene {
     ) -> f64 {
         let mut walls = 0.0;
         let losses = &self.losses[service];
-        self.for_each_crossing(scratch, tx, tx_floor, rx, rx_floor, |k, c| {
-            walls += losses.part(k, c.wall).eval(c.cos_incidence);
+        self.for_each_crossing(scratch, service, tx, tx_floor, rx, rx_floor, |k, c| {
+            walls += losses.piece(self, k, c.wall).eval(c.cos_incidence);
         });
         walls
     }
@@ -471,11 +491,13 @@ pub fn breakdown(
     };
     let mut groups: std::collections::BTreeMap<String, (usize, f64)> = Default::default();
     let mut scratch = scene.scratch();
-    scene.for_each_crossing(&mut scratch, tx, tf, rx, rx_floor, |k, c| {
-        let part = &site.floors[k].parts[c.wall];
+    scene.for_each_crossing(&mut scratch, service, tx, tf, rx, rx_floor, |k, c| {
+        let part = &site.floors[k].parts[scene.floors[k].origin[c.wall]];
         let e = groups.entry(part.material.clone()).or_default();
         e.0 += 1;
-        e.1 += scene.losses[service].part(k, c.wall).eval(c.cos_incidence);
+        e.1 += scene.losses[service]
+            .piece(scene, k, c.wall)
+            .eval(c.cos_incidence);
     });
     let (n, fl) = scene.floor_db(service, tx, tf, rx, rx_floor);
     let d = (p.distance(tx.p).powi(2) + (rx.z - tx.z).powi(2))
@@ -600,8 +622,11 @@ impl Plugin for MultiWall {
     fn after(&self) -> Vec<String> {
         vec!["free-space".into()]
     }
+    /// Only when some plugin reads the multi-wall layers
+    /// ([`rfsite_plugin_free_space::model_wanted`]): not for a site graded on free space
+    /// alone.
     fn applies(&self, site: &Site) -> bool {
-        !site.transmitters.is_empty()
+        !site.transmitters.is_empty() && rfsite_plugin_free_space::model_wanted(site, "multi-wall")
     }
     fn option_keys(&self) -> Option<Vec<&'static str>> {
         Some(vec![
@@ -765,7 +790,9 @@ fn combine_at(combine: Combine, per_tx: &[Vec<f32>], i: usize) -> (f32, u16) {
             best = l;
             bi = k as u16;
         }
-        sum_mw += 10f64.powf(l / 10.0);
+        if combine == Combine::PowerSum {
+            sum_mw += 10f64.powf(l / 10.0);
+        }
     }
     let level = match combine {
         Combine::Strongest => best as f32,
@@ -842,9 +869,9 @@ impl Default for FloorScratch {
 
 /// What a [`FloorPredictor`] needs of a known service and floor.
 struct FloorLosses<'a> {
-    /// The crossing kind of each wall part of the floor, for the service.
+    /// The crossing kind of each piece of the floor's junction form, for the service.
     parts: Vec<&'a CrossingKind>,
-    /// The floor's wall parts, as indexed in the scene.
+    /// The pieces of the floor's wall parts in junction form, as indexed in the scene.
     walls: &'a [Segment],
     /// The service's frequency, MHz.
     freq_mhz: f64,
@@ -855,13 +882,14 @@ impl<'a> FloorLosses<'a> {
     /// built from this site (one crossing kind per wall part).
     fn of(site: &Site, scene: &'a Scene, service: usize, floor: usize) -> Option<Self> {
         let losses = scene.losses.get(service)?;
-        let parts: Vec<&CrossingKind> = losses
-            .parts
-            .get(floor)?
+        let kinds = losses.parts.get(floor)?;
+        let fs = scene.floors.get(floor)?;
+        let parts: Vec<&CrossingKind> = fs
+            .origin
             .iter()
-            .map(|&k| losses.kinds.get(k))
+            .map(|&part| kinds.get(part).and_then(|&k| losses.kinds.get(k)))
             .collect::<Option<_>>()?;
-        let walls = scene.floors.get(floor)?.index.walls();
+        let walls = fs.index.walls();
         let freq_mhz = site.services.get(service)?.freq_mhz;
         (parts.len() == walls.len()).then_some(FloorLosses {
             parts,
