@@ -1,5 +1,6 @@
 pub mod util;
 
+mod cad_plans;
 mod calc_cli;
 mod check_broken;
 mod check_limits;
