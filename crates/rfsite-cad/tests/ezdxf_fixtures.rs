@@ -43,7 +43,7 @@ fn pt(v: &serde_json::Value) -> Point2 {
 }
 
 /// The imported wall whose centreline matches `a`–`b` (either way) within 1 mm.
-fn find<'w>(walls: &'w [ImportedWall], a: Point2, b: Point2) -> Option<&'w ImportedWall> {
+fn find(walls: &[ImportedWall], a: Point2, b: Point2) -> Option<&ImportedWall> {
     walls.iter().find(|w| {
         let same = w.seg.a.distance(a) < MM && w.seg.b.distance(b) < MM;
         let flipped = w.seg.a.distance(b) < MM && w.seg.b.distance(a) < MM;
