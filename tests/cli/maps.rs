@@ -1,7 +1,7 @@
 //! The demo's coverage maps read without overlaps: from each map's SVG geometry, no two
 //! text boxes overlap and no text box covers a survey or antenna marker.
 
-use crate::util::demo_report;
+use crate::cli::util::demo_report;
 
 /// An axis-aligned box in SVG pixels.
 #[derive(Debug, Clone, Copy)]

@@ -466,7 +466,7 @@ pub fn coverage_map(
                     .map_err(e)?;
             }
         }
-        draw_scale_and_north(&right, y + 30, px_per_unit, x1 - x0, unit, site.north_deg)?;
+        draw_scale_and_north(&right, y + 52, px_per_unit, x1 - x0, unit, site.north_deg)?;
         root.present().map_err(e)?;
     }
     if let Some(img) = plan_svg {
@@ -493,7 +493,7 @@ fn legend_height(site: &Site, floor: &rfsite_model::Floor, added: bool, measured
     let bins = 34 + 22 * BINS.len() as u32 + 18;
     let walls = 28 + 20 * classes.len() as u32;
     let marks = 8 + 40 + 20 * u32::from(added) + 60 * u32::from(measured);
-    bins + walls + marks + 80
+    bins + walls + marks + 110
 }
 
 /// An antenna an option adds, marked on its after-map apart from the site's own: a white
