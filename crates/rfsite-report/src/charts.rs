@@ -6,6 +6,8 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 use rfsite_model::{MaterialClass, PartKind, Site, ZoneKind};
 use rfsite_plugin::{CoverageLayer, Figure, Measurement};
 
+use crate::labels::{beside, text_size, Placer, PxBox};
+
 /// Font family used in every chart (shipped with the templates, OFL).
 pub const CHART_FONT: &str = "Lato";
 
@@ -18,44 +20,48 @@ pub struct Bin {
     pub rgb: (u8, u8, u8),
 }
 
-/// The rfsite map scale: warm earth tones below the threshold, darker the worse; cool blues
-/// to pale at and above it, lighter the stronger. The jump at the threshold is both a hue
-/// and a lightness step, so it reads in greyscale and for red-green colour-blind readers;
-/// a black contour marks it too.
+/// The rfsite map scale: dark warm browns below the required level, darker the worse;
+/// pale blues at and above it, paler the stronger. Lightness rises bin by bin and jumps at
+/// the required level (a contrast ratio near 4:1 there, against 1.2–1.5:1 between the other
+/// neighbours; `tests::legend_steps_at_the_required_level`), so pass and fail read apart in
+/// greyscale and for red-green colour-blind readers; a black contour marks it too.
 pub const BINS: &[Bin] = &[
     Bin {
         from_db: f64::NEG_INFINITY,
-        rgb: (58, 40, 36),
+        rgb: (32, 18, 14),
     },
     Bin {
         from_db: -20.0,
-        rgb: (118, 78, 58),
+        rgb: (76, 32, 20),
     },
     Bin {
         from_db: -10.0,
-        rgb: (196, 142, 98),
+        rgb: (116, 50, 26),
     },
     Bin {
         from_db: -5.0,
-        rgb: (232, 196, 150),
+        rgb: (150, 68, 30),
     },
     Bin {
         from_db: 0.0,
-        rgb: (30, 70, 120),
+        rgb: (162, 206, 234),
     },
     Bin {
         from_db: 5.0,
-        rgb: (52, 118, 160),
+        rgb: (188, 220, 240),
     },
     Bin {
         from_db: 10.0,
-        rgb: (98, 168, 186),
+        rgb: (214, 234, 246),
     },
     Bin {
         from_db: 20.0,
-        rgb: (196, 226, 214),
+        rgb: (240, 248, 252),
     },
 ];
+
+/// Index of the first bin at or above the required level.
+pub const REQUIRED_BIN: usize = 4;
 
 fn bin_of(rel_db: f64) -> usize {
     let mut b = 0;
@@ -71,22 +77,69 @@ fn rgb(c: (u8, u8, u8)) -> RGBColor {
     RGBColor(c.0, c.1, c.2)
 }
 
-/// Line colour and width of a wall class on the map.
-pub fn wall_style(class: MaterialClass, kind: PartKind) -> (RGBColor, u32) {
-    match kind {
-        PartKind::Door => return (RGBColor(150, 90, 30), 4),
-        PartKind::Window => {}
-        PartKind::Wall => {}
+/// How a wall class is drawn: colour, width in pixels and dash (dash, gap in pixels;
+/// `None` solid). Width and dash differ between every two classes, so walls read apart
+/// without colour too.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WallStyle {
+    /// Line colour.
+    pub rgb: RGBColor,
+    /// Line width, pixels.
+    pub width: u32,
+    /// Dash and gap, pixels; `None` for a solid line.
+    pub dash: Option<(u32, u32)>,
+}
+
+const fn ws(rgb: RGBColor, width: u32, dash: Option<(u32, u32)>) -> WallStyle {
+    WallStyle { rgb, width, dash }
+}
+
+/// The style of a wall class (or of a door) on the map.
+pub fn wall_style(class: MaterialClass, kind: PartKind) -> WallStyle {
+    if kind == PartKind::Door {
+        return ws(RGBColor(150, 90, 30), 5, Some((2, 2)));
     }
     match class {
-        MaterialClass::Metal => (RGBColor(0, 0, 0), 8),
-        MaterialClass::Concrete => (RGBColor(70, 70, 70), 6),
-        MaterialClass::Masonry => (RGBColor(120, 90, 60), 5),
-        MaterialClass::CoatedGlass => (RGBColor(176, 40, 125), 6),
-        MaterialClass::Glass => (RGBColor(60, 170, 200), 4),
-        MaterialClass::Wood => (RGBColor(150, 90, 30), 4),
-        MaterialClass::Light => (RGBColor(140, 140, 150), 3),
-        _ => (RGBColor(110, 110, 110), 3),
+        MaterialClass::Metal => ws(RGBColor(0, 0, 0), 8, None),
+        MaterialClass::Concrete => ws(RGBColor(70, 70, 70), 6, None),
+        MaterialClass::Masonry => ws(RGBColor(120, 90, 60), 5, Some((12, 4))),
+        MaterialClass::CoatedGlass => ws(RGBColor(176, 40, 125), 6, Some((3, 3))),
+        MaterialClass::Glass => ws(RGBColor(60, 170, 200), 4, Some((3, 3))),
+        MaterialClass::Wood => ws(RGBColor(150, 90, 30), 4, Some((10, 4))),
+        MaterialClass::Light => ws(RGBColor(140, 140, 150), 3, None),
+        _ => ws(RGBColor(110, 110, 110), 3, Some((6, 3))),
+    }
+}
+
+/// Draws `pts` in a wall style on the chart, over a white halo when `halo`.
+fn styled_wall(
+    chart: &mut MapChart<'_, '_>,
+    pts: Vec<(f64, f64)>,
+    st: WallStyle,
+) -> DrawResult<()> {
+    chart
+        .draw_series(std::iter::once(PathElement::new(
+            pts.clone(),
+            WHITE.stroke_width(st.width + 2),
+        )))
+        .map_err(e)?;
+    match st.dash {
+        None => chart
+            .draw_series(std::iter::once(PathElement::new(
+                pts,
+                st.rgb.stroke_width(st.width),
+            )))
+            .map(|_| ())
+            .map_err(e),
+        Some((d, g)) => chart
+            .draw_series(DashedLineSeries::new(
+                pts,
+                d,
+                g,
+                st.rgb.stroke_width(st.width),
+            ))
+            .map(|_| ())
+            .map_err(e),
     }
 }
 
@@ -118,13 +171,23 @@ pub fn coverage_map(
     let plot_w = 880.0;
     let plot_h = (plot_w * (y1 - y0) / (x1 - x0)).clamp(200.0, 900.0);
     let legend_w = 190u32;
-    let (w, h) = (plot_w as u32 + 70 + legend_w, plot_h as u32 + 70);
+    let map_h = plot_h as u32 + 70;
+    let (w, h) = (
+        plot_w as u32 + 70 + legend_w,
+        map_h.max(legend_height(
+            site,
+            floor,
+            !added.is_empty(),
+            !measured.is_empty(),
+        )),
+    );
     let mut svg = String::new();
     let mut plan_svg: Option<String> = None;
     {
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
         let (left, right) = root.split_horizontally(w - legend_w);
+        let (left, _) = left.split_vertically(map_h);
         let unit = u.label();
         let mut chart = plan_chart(&left, x0..x1, y0..y1, u.label())?;
         // Background plan image: its pixel rectangle on the chart.
@@ -233,146 +296,26 @@ pub fn coverage_map(
                 .get(&part.material)
                 .map(|m| m.class)
                 .unwrap_or(MaterialClass::Other);
-            let (col, wdt) = wall_style(class, part.kind);
             let seg = vec![
                 (u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)),
                 (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y)),
             ];
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    seg.clone(),
-                    WHITE.stroke_width(wdt + 2),
-                )))
-                .map_err(e)?;
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    seg,
-                    col.stroke_width(wdt),
-                )))
-                .map_err(e)?;
+            styled_wall(&mut chart, seg, wall_style(class, part.kind))?;
         }
-        // Zones.
-        for z in &floor.zones {
-            let mut pts: Vec<(f64, f64)> = z
-                .polygon
-                .iter()
-                .map(|p| (u.from_m(p.x), u.from_m(p.y)))
-                .collect();
-            pts.push(pts[0]);
-            let (col, wdt) = match z.kind {
-                ZoneKind::Critical => (RGBColor(0, 0, 0), 3),
-                ZoneKind::Excluded => (RGBColor(90, 90, 90), 1),
-                ZoneKind::General => (RGBColor(90, 90, 90), 1),
-            };
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    pts.clone(),
-                    WHITE.stroke_width(wdt + 3),
-                )))
-                .map_err(e)?;
-            chart
-                .draw_series(DashedLineSeries::new(
-                    pts.clone(),
-                    9,
-                    5,
-                    col.stroke_width(wdt),
-                ))
-                .map_err(e)?;
-            let cx = pts[..pts.len() - 1].iter().map(|p| p.0).sum::<f64>() / (pts.len() - 1) as f64;
-            let cy = pts[..pts.len() - 1].iter().map(|p| p.1).sum::<f64>() / (pts.len() - 1) as f64;
-            let name = if z.name.is_empty() {
-                z.id.clone()
-            } else {
-                z.name.clone()
-            };
-            let label = if z.kind == ZoneKind::Critical {
-                format!("{name} (critical)")
-            } else {
-                name
-            };
-            let style = TextStyle::from((CHART_FONT, 13).into_font())
-                .color(&BLACK)
-                .pos(Pos::new(HPos::Center, VPos::Center));
-            chart
-                .draw_series(std::iter::once(Text::new(label, (cx, cy), style)))
-                .map_err(e)?;
-        }
-        // Measured points: filled circle = meets the measured required level, cross = below.
-        for m in measured {
-            let p = (u.from_m(m.x_m), u.from_m(m.y_m));
-            if m.level_dbm >= measured_required_dbm {
-                chart
-                    .draw_series(std::iter::once(Circle::new(p, 4, WHITE.filled())))
-                    .map_err(e)?;
-                chart
-                    .draw_series(std::iter::once(Circle::new(p, 4, BLACK.stroke_width(1))))
-                    .map_err(e)?;
-            } else {
-                chart
-                    .draw_series(std::iter::once(Cross::new(p, 5, WHITE.stroke_width(4))))
-                    .map_err(e)?;
-                chart
-                    .draw_series(std::iter::once(Cross::new(p, 5, BLACK.stroke_width(2))))
-                    .map_err(e)?;
-            }
-        }
-        // Transmitters of this service (on this floor), then the ones an option adds.
-        draw_transmitters(&mut chart, site, layer, (x1 - x0) * 0.008)?;
-        draw_added(&mut chart, added, (x1 - x0) * 0.008)?;
-        // Scale bar: a round length near a fifth of the width.
-        let span = x1 - x0;
-        let nice = [1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0, 200.0, 500.0];
-        let bar = nice
-            .iter()
-            .copied()
-            .filter(|n| *n <= span / 4.0)
-            .fold(1.0, f64::max);
-        let bx = x0 + span * 0.03;
-        let by = y0 + (y1 - y0) * 0.045;
-        chart
-            .draw_series(std::iter::once(Rectangle::new(
-                [(bx, by), (bx + bar, by + (y1 - y0) * 0.008)],
-                BLACK.filled(),
-            )))
-            .map_err(e)?;
-        let style = TextStyle::from((CHART_FONT, 13).into_font())
-            .color(&BLACK)
-            .pos(Pos::new(HPos::Left, VPos::Bottom));
-        chart
-            .draw_series(std::iter::once(Text::new(
-                format!("{bar} {unit}"),
-                (bx, by + (y1 - y0) * 0.015),
-                style,
-            )))
-            .map_err(e)?;
-        // North arrow.
-        if let Some(n) = site.north_deg {
-            let r = (x1 - x0).min(y1 - y0) * 0.05;
-            let cx = x1 - r * 1.6;
-            let cy = y1 - r * 1.6;
-            let a = n.to_radians();
-            let tip = (cx + r * a.cos(), cy + r * a.sin());
-            let tail = (cx - r * a.cos(), cy - r * a.sin());
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    vec![tail, tip],
-                    BLACK.stroke_width(3),
-                )))
-                .map_err(e)?;
-            chart
-                .draw_series(std::iter::once(Circle::new(tip, 4, BLACK.filled())))
-                .map_err(e)?;
-            let style = TextStyle::from((CHART_FONT, 15).into_font().style(FontStyle::Bold))
-                .color(&BLACK)
-                .pos(Pos::new(HPos::Center, VPos::Center));
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    "N",
-                    (cx + 1.45 * r * a.cos(), cy + 1.45 * r * a.sin()),
-                    style,
-                )))
-                .map_err(e)?;
-        }
+        draw_zone_outlines(&mut chart, site, floor)?;
+        let mut placer = Placer::new(plot_bounds(&chart));
+        let groups = survey_groups(&chart, u, measured, measured_required_dbm);
+        draw_survey_markers(&left, &groups, &mut placer)?;
+        let antennas = antenna_marks(&chart, site, layer, added);
+        draw_antenna_markers(&left, &antennas, &mut placer)?;
+        draw_antenna_labels(&left, &antennas, &mut placer)?;
+        draw_survey_counts(&left, &groups, &mut placer)?;
+        draw_zone_labels(&left, &chart, site, floor, &mut placer)?;
+        let px_per_unit = {
+            let a = chart.backend_coord(&(x0, y0));
+            let b = chart.backend_coord(&(x1, y0));
+            (b.0 - a.0) as f64 / (x1 - x0)
+        };
         // Legend.
         let font = (CHART_FONT, 14).into_font();
         right
@@ -404,7 +347,7 @@ pub fn coverage_map(
             right
                 .draw(&Text::new(label, (40, y + 3), font.clone()))
                 .map_err(e)?;
-            if i == 4 {
+            if i == REQUIRED_BIN {
                 right
                     .draw(&PathElement::new(
                         vec![(4, y + 19), (180, y + 19)],
@@ -454,13 +397,7 @@ pub fn coverage_map(
         classes.sort_by_key(|(c, k)| (*k as u8, *c));
         classes.dedup();
         for (c, k) in classes {
-            let (col, wdt) = wall_style(c, k);
-            right
-                .draw(&PathElement::new(
-                    vec![(8, y + 8), (34, y + 8)],
-                    col.stroke_width(wdt),
-                ))
-                .map_err(e)?;
+            legend_wall(&right, y + 8, wall_style(c, k))?;
             let label = if k == PartKind::Door {
                 "door".to_string()
             } else {
@@ -517,7 +454,19 @@ pub fn coverage_map(
             right
                 .draw(&Text::new("measured, below", (40, y), font.clone()))
                 .map_err(e)?;
+            let usual = usual_count(&groups);
+            if usual > 1 || groups.iter().any(|g| g.count != usual) {
+                y += 20;
+                let text = match usual {
+                    1 => "×n: n points at one place".to_string(),
+                    n => format!("{n} points a marker, ×n: n"),
+                };
+                right
+                    .draw(&Text::new(text, (8, y), font.clone()))
+                    .map_err(e)?;
+            }
         }
+        draw_scale_and_north(&right, y + 52, px_per_unit, x1 - x0, unit, site.north_deg)?;
         root.present().map_err(e)?;
     }
     if let Some(img) = plan_svg {
@@ -529,6 +478,22 @@ pub fn coverage_map(
         }
     }
     Ok(svg)
+}
+
+/// Height in pixels the legend column needs: bins, wall classes, markers, scale and north.
+fn legend_height(site: &Site, floor: &rfsite_model::Floor, added: bool, measured: bool) -> u32 {
+    let classes: std::collections::BTreeSet<(u8, MaterialClass)> = floor
+        .parts
+        .iter()
+        .map(|p| {
+            let c = site.materials.get(&p.material).map(|m| m.class);
+            (p.kind as u8, c.unwrap_or(MaterialClass::Other))
+        })
+        .collect();
+    let bins = 34 + 22 * BINS.len() as u32 + 18;
+    let walls = 28 + 20 * classes.len() as u32;
+    let marks = 8 + 40 + 20 * u32::from(added) + 60 * u32::from(measured);
+    bins + walls + marks + 110
 }
 
 /// An antenna an option adds, marked on its after-map apart from the site's own: a white
@@ -574,69 +539,417 @@ pub(crate) type MapChart<'a, 'b> = ChartContext<
     Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
 >;
 
-/// The label of an antenna, in bold, just up and right of its marker.
-fn antenna_label(
+/// The pixel area of a map's drawing (its whole left part).
+type Area<'b> = DrawingArea<SVGBackend<'b>, plotters::coord::Shift>;
+
+/// The plotting area of a chart, in pixels.
+fn plot_bounds(chart: &MapChart<'_, '_>) -> PxBox {
+    let (xr, yr) = chart.plotting_area().get_pixel_range();
+    PxBox {
+        x0: xr.start as f64,
+        y0: yr.start as f64,
+        x1: xr.end as f64,
+        y1: yr.end as f64,
+    }
+}
+
+/// A zone's polygon in site units, closed.
+fn zone_points(site: &Site, z: &rfsite_model::Zone) -> Vec<(f64, f64)> {
+    let u = site.units;
+    let mut pts: Vec<(f64, f64)> = z
+        .polygon
+        .iter()
+        .map(|p| (u.from_m(p.x), u.from_m(p.y)))
+        .collect();
+    if let Some(f) = pts.first().copied() {
+        pts.push(f);
+    }
+    pts
+}
+
+/// Zone outlines: dashed, thick black for critical zones, over a white halo.
+fn draw_zone_outlines(
     chart: &mut MapChart<'_, '_>,
-    text: String,
-    p: (f64, f64),
-    off: f64,
+    site: &Site,
+    floor: &rfsite_model::Floor,
 ) -> DrawResult<()> {
-    let style = TextStyle::from((CHART_FONT, 14).into_font().style(FontStyle::Bold))
-        .color(&BLACK)
-        .pos(Pos::new(HPos::Left, VPos::Bottom));
-    chart
-        .draw_series(std::iter::once(Text::new(
-            text,
-            (p.0 + off, p.1 + off),
-            style,
-        )))
-        .map_err(e)?;
+    for z in &floor.zones {
+        let pts = zone_points(site, z);
+        let (col, wdt) = match z.kind {
+            ZoneKind::Critical => (RGBColor(0, 0, 0), 3),
+            ZoneKind::Excluded | ZoneKind::General => (RGBColor(90, 90, 90), 1),
+        };
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                pts.clone(),
+                WHITE.stroke_width(wdt + 3),
+            )))
+            .map_err(e)?;
+        chart
+            .draw_series(DashedLineSeries::new(pts, 9, 5, col.stroke_width(wdt)))
+            .map_err(e)?;
+    }
     Ok(())
 }
 
-/// The site's transmitters of the layer's service on its floor: black triangles.
-fn draw_transmitters(
-    chart: &mut MapChart<'_, '_>,
+/// Survey points at one place on the map (within a marker's size): one marker, a count.
+#[derive(Debug, Clone, PartialEq)]
+struct SurveyGroup {
+    /// Pixel position of the first point.
+    px: (i32, i32),
+    /// Points in the group.
+    count: usize,
+    /// Points below the measured required level.
+    below: usize,
+}
+
+/// Half size in pixels of a survey marker; points closer than twice this share one marker.
+const SURVEY_R: i32 = 5;
+
+/// Groups the survey points by place, in input order.
+fn survey_groups(
+    chart: &MapChart<'_, '_>,
+    u: rfsite_model::Units,
+    measured: &[&Measurement],
+    required_dbm: f64,
+) -> Vec<SurveyGroup> {
+    let mut out: Vec<SurveyGroup> = Vec::new();
+    for m in measured {
+        let px = chart.backend_coord(&(u.from_m(m.x_m), u.from_m(m.y_m)));
+        let below = usize::from(m.level_dbm < required_dbm);
+        let near = |g: &SurveyGroup| {
+            (g.px.0 - px.0).abs() < 2 * SURVEY_R && (g.px.1 - px.1).abs() < 2 * SURVEY_R
+        };
+        match out.iter_mut().find(|g| near(g)) {
+            Some(g) => {
+                g.count += 1;
+                g.below += below;
+            }
+            None => out.push(SurveyGroup {
+                px,
+                count: 1,
+                below,
+            }),
+        }
+    }
+    out
+}
+
+/// Survey markers: a circle where every point of the place meets the measured required
+/// level, a cross where any is below.
+fn draw_survey_markers(
+    area: &Area<'_>,
+    groups: &[SurveyGroup],
+    placer: &mut Placer,
+) -> DrawResult<()> {
+    for g in groups {
+        let p = g.px;
+        if g.below == 0 {
+            area.draw(&Circle::new(p, 4, WHITE.filled())).map_err(e)?;
+            area.draw(&Circle::new(p, 4, BLACK.stroke_width(1)))
+                .map_err(e)?;
+        } else {
+            area.draw(&Cross::new(p, 5, WHITE.stroke_width(4)))
+                .map_err(e)?;
+            area.draw(&Cross::new(p, 5, BLACK.stroke_width(2)))
+                .map_err(e)?;
+        }
+        placer.block(PxBox::around(
+            (p.0 as f64, p.1 as f64),
+            SURVEY_R as f64 + 1.0,
+        ));
+    }
+    Ok(())
+}
+
+/// The most common number of survey points at one place (the smaller on a tie): a marker
+/// without a count stands for this many.
+fn usual_count(groups: &[SurveyGroup]) -> usize {
+    let mut n: std::collections::BTreeMap<usize, usize> = std::collections::BTreeMap::new();
+    for g in groups {
+        *n.entry(g.count).or_default() += 1;
+    }
+    n.iter()
+        .max_by(|a, b| a.1.cmp(b.1).then(b.0.cmp(a.0)))
+        .map_or(1, |(c, _)| *c)
+}
+
+/// "×n" beside each place whose number of survey points differs from the usual one.
+fn draw_survey_counts(
+    area: &Area<'_>,
+    groups: &[SurveyGroup],
+    placer: &mut Placer,
+) -> DrawResult<()> {
+    let usual = usual_count(groups);
+    for g in groups.iter().filter(|g| g.count != usual) {
+        let text = format!("×{}", g.count);
+        let size = text_size(&text, 12.0);
+        let p = (g.px.0 as f64, g.px.1 as f64);
+        if let Some(b) = placer.place(size, beside(p, SURVEY_R as f64, size), None) {
+            draw_label(area, &text, b, 12.0, false)?;
+        }
+    }
+    Ok(())
+}
+
+/// An antenna on the map: the site's (triangle) or an option's new one (square).
+#[derive(Debug, Clone, PartialEq)]
+struct AntennaMark {
+    /// Label text.
+    label: String,
+    /// Pixel position.
+    px: (i32, i32),
+    /// Whether an option adds it.
+    new: bool,
+}
+
+/// Half size in pixels of an antenna marker.
+const ANTENNA_R: f64 = 9.0;
+
+/// The layer's transmitters on its floor, then the antennas an option adds.
+fn antenna_marks(
+    chart: &MapChart<'_, '_>,
     site: &Site,
     layer: &CoverageLayer,
-    off: f64,
-) -> DrawResult<()> {
+    added: &[AddedAntenna],
+) -> Vec<AntennaMark> {
     let u = site.units;
-    for t in site
+    let own = site
         .transmitters
         .iter()
         .filter(|t| t.service == layer.service && t.floor == layer.floor)
-    {
-        let p = (u.from_m(t.position.x), u.from_m(t.position.y));
-        chart
-            .draw_series(std::iter::once(TriangleMarker::new(p, 9, WHITE.filled())))
-            .map_err(e)?;
-        chart
-            .draw_series(std::iter::once(TriangleMarker::new(p, 7, BLACK.filled())))
-            .map_err(e)?;
-        antenna_label(chart, t.id.clone(), p, off)?;
+        .map(|t| AntennaMark {
+            label: t.id.clone(),
+            px: chart.backend_coord(&(u.from_m(t.position.x), u.from_m(t.position.y))),
+            new: false,
+        });
+    let new = added.iter().map(|a| AntennaMark {
+        label: format!("{} (new)", a.id),
+        px: chart.backend_coord(&(a.x, a.y)),
+        new: true,
+    });
+    own.chain(new).collect()
+}
+
+/// Antenna markers: black triangles, or the white-centred squares of new antennas.
+fn draw_antenna_markers(
+    area: &Area<'_>,
+    marks: &[AntennaMark],
+    placer: &mut Placer,
+) -> DrawResult<()> {
+    for m in marks {
+        let p = m.px;
+        if m.new {
+            for (h, c) in NEW_MARKER {
+                area.draw(&Rectangle::new(
+                    [(p.0 - h, p.1 - h), (p.0 + h, p.1 + h)],
+                    c.filled(),
+                ))
+                .map_err(e)?;
+            }
+        } else {
+            area.draw(&TriangleMarker::new(p, 9, WHITE.filled()))
+                .map_err(e)?;
+            area.draw(&TriangleMarker::new(p, 7, BLACK.filled()))
+                .map_err(e)?;
+        }
+        placer.block(PxBox::around((p.0 as f64, p.1 as f64), ANTENNA_R));
     }
     Ok(())
+}
+
+/// Antenna labels in bold beside their markers, at the first free side; with a leader line
+/// from a free place nearby when every side is taken.
+fn draw_antenna_labels(
+    area: &Area<'_>,
+    marks: &[AntennaMark],
+    placer: &mut Placer,
+) -> DrawResult<()> {
+    for m in marks {
+        let size = text_size(&m.label, 14.0);
+        let p = (m.px.0 as f64, m.px.1 as f64);
+        if let Some(b) = placer.place(size, beside(p, ANTENNA_R, size), None) {
+            draw_label(area, &m.label, b, 14.0, true)?;
+        } else if let Some(b) = placer.place(size, placer.grid_near(size, p, 6.0), None) {
+            leader(area, p, b)?;
+            draw_label(area, &m.label, b, 14.0, true)?;
+        }
+    }
+    Ok(())
+}
+
+/// Label of a zone: its name, "(critical)" added for a critical zone.
+fn zone_label(z: &rfsite_model::Zone) -> (String, String) {
+    let name = if z.name.is_empty() {
+        z.id.clone()
+    } else {
+        z.name.clone()
+    };
+    match z.kind {
+        ZoneKind::Critical => (format!("{name} (critical)"), name),
+        _ => (name.clone(), name),
+    }
+}
+
+/// Zone labels: inside the zone's box near its centre when one fits (the long form, then
+/// the name alone), else at the nearest free place with a leader line to the zone.
+fn draw_zone_labels(
+    area: &Area<'_>,
+    chart: &MapChart<'_, '_>,
+    site: &Site,
+    floor: &rfsite_model::Floor,
+    placer: &mut Placer,
+) -> DrawResult<()> {
+    for z in &floor.zones {
+        let pts = zone_points(site, z);
+        let px: Vec<(f64, f64)> = pts
+            .iter()
+            .map(|p| {
+                let b = chart.backend_coord(p);
+                (b.0 as f64, b.1 as f64)
+            })
+            .collect();
+        let Some(zb) = bbox(&px[..px.len().saturating_sub(1)]) else {
+            continue;
+        };
+        let inner = PxBox {
+            x0: zb.x0 + 3.0,
+            y0: zb.y0 + 3.0,
+            x1: zb.x1 - 3.0,
+            y1: zb.y1 - 3.0,
+        };
+        let c = zb.centre();
+        let (long, short) = zone_label(z);
+        let mut done = false;
+        for text in [&long, &short] {
+            let size = text_size(text, 13.0);
+            if let Some(b) = placer.place(size, placer.grid_near(size, c, 4.0), Some(&inner)) {
+                draw_label(area, text, b, 13.0, false)?;
+                done = true;
+                break;
+            }
+        }
+        if !done {
+            let size = text_size(&short, 13.0);
+            if let Some(b) = placer.place(size, placer.grid_near(size, c, 6.0), None) {
+                leader(area, c, b)?;
+                draw_label(area, &short, b, 13.0, false)?;
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Bounding box of pixel points.
+fn bbox(pts: &[(f64, f64)]) -> Option<PxBox> {
+    let first = pts.first()?;
+    let mut b = PxBox::around(*first, 0.0);
+    for p in pts {
+        b.x0 = b.x0.min(p.0);
+        b.y0 = b.y0.min(p.1);
+        b.x1 = b.x1.max(p.0);
+        b.y1 = b.y1.max(p.1);
+    }
+    Some(b)
+}
+
+/// Text with its top left at the box's, on a white ground so lines under it do not cut it.
+fn draw_label(area: &Area<'_>, text: &str, b: PxBox, size: f64, bold: bool) -> DrawResult<()> {
+    let font = (CHART_FONT, size).into_font();
+    let font = if bold {
+        font.style(FontStyle::Bold)
+    } else {
+        font
+    };
+    let style = TextStyle::from(font)
+        .color(&BLACK)
+        .pos(Pos::new(HPos::Left, VPos::Top));
+    let (x0, y0) = (b.x0.round() as i32, b.y0.round() as i32);
+    let (x1, y1) = (b.x1.round() as i32, b.y1.round() as i32);
+    area.draw(&Rectangle::new(
+        [(x0 - 1, y0), (x1 + 1, y1)],
+        WHITE.mix(0.8).filled(),
+    ))
+    .map_err(e)?;
+    area.draw(&Text::new(text.to_string(), (x0, y0), style))
+        .map_err(e)
+}
+
+/// A thin leader line from `p` to the nearest point of the label box.
+fn leader(area: &Area<'_>, p: (f64, f64), b: PxBox) -> DrawResult<()> {
+    let q = (p.0.clamp(b.x0, b.x1), p.1.clamp(b.y0, b.y1));
+    area.draw(&PathElement::new(
+        vec![(p.0 as i32, p.1 as i32), (q.0 as i32, q.1 as i32)],
+        RGBColor(60, 60, 60).stroke_width(1),
+    ))
+    .map_err(e)
+}
+
+/// A wall style's sample line in the legend at height `y`.
+fn legend_wall(area: &Area<'_>, y: i32, st: WallStyle) -> DrawResult<()> {
+    let pts = vec![(8, y), (34, y)];
+    match st.dash {
+        None => area
+            .draw(&PathElement::new(pts, st.rgb.stroke_width(st.width)))
+            .map_err(e),
+        Some((d, g)) => area
+            .draw(&plotters::element::DashedPathElement::new(
+                pts,
+                d,
+                g,
+                st.rgb.stroke_width(st.width),
+            ))
+            .map_err(e),
+    }
+}
+
+/// The scale bar (a round length of at most 120 px) and the north arrow, in the legend
+/// column below its entries, so that neither covers the plan.
+fn draw_scale_and_north(
+    area: &Area<'_>,
+    y: i32,
+    px_per_unit: f64,
+    span: f64,
+    unit: &str,
+    north_deg: Option<f64>,
+) -> DrawResult<()> {
+    let nice = [1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0, 200.0, 500.0];
+    let bar = nice
+        .iter()
+        .copied()
+        .filter(|n| *n * px_per_unit <= 120.0 && *n <= span)
+        .fold(1.0, f64::max);
+    let len = (bar * px_per_unit).round() as i32;
+    area.draw(&Rectangle::new(
+        [(8, y + 16), (8 + len, y + 22)],
+        BLACK.filled(),
+    ))
+    .map_err(e)?;
+    let font = (CHART_FONT, 14).into_font();
+    area.draw(&Text::new(format!("{bar} {unit}"), (8, y), font))
+        .map_err(e)?;
+    let Some(n) = north_deg else { return Ok(()) };
+    let (cx, cy, r) = (160.0, y as f64 + 10.0, 14.0);
+    // Plan y grows upwards, pixels downwards: the arrow's pixel direction flips y.
+    let a = n.to_radians();
+    let tip = ((cx + r * a.cos()) as i32, (cy - r * a.sin()) as i32);
+    let tail = ((cx - r * a.cos()) as i32, (cy + r * a.sin()) as i32);
+    area.draw(&PathElement::new(vec![tail, tip], BLACK.stroke_width(3)))
+        .map_err(e)?;
+    area.draw(&Circle::new(tip, 4, BLACK.filled())).map_err(e)?;
+    let style = TextStyle::from((CHART_FONT, 15).into_font().style(FontStyle::Bold))
+        .color(&BLACK)
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    let lab = (
+        (cx + 2.0 * r * a.cos()) as i32,
+        (cy - 2.0 * r * a.sin()) as i32,
+    );
+    area.draw(&Text::new("N", lab, style)).map_err(e)
 }
 
 /// The layers of an added antenna's marker, outermost first: half side in pixels and
 /// colour (white halo, black square, white centre).
 const NEW_MARKER: [(i32, RGBColor); 3] = [(9, WHITE), (7, BLACK), (4, WHITE)];
-
-/// The antennas an option adds: squares labelled "<id> (new)".
-fn draw_added(chart: &mut MapChart<'_, '_>, added: &[AddedAntenna], off: f64) -> DrawResult<()> {
-    for a in added {
-        let p = (a.x, a.y);
-        for (h, c) in NEW_MARKER {
-            let sq = Rectangle::new([(-h, -h), (h, h)], c.filled());
-            chart
-                .draw_series(std::iter::once(EmptyElement::at(p) + sq))
-                .map_err(e)?;
-        }
-        antenna_label(chart, format!("{} (new)", a.id), p, off)?;
-    }
-    Ok(())
-}
 
 /// Draws a line or scatter figure.
 pub fn figure(f: &Figure) -> DrawResult<String> {
@@ -771,6 +1084,90 @@ pub fn base64(data: &[u8]) -> String {
 
 #[cfg(test)]
 mod tests {
+    use super::*;
+
+    /// Relative luminance of an sRGB colour: the sRGB transfer function (IEC 61966-2-1)
+    /// and the Rec. 709 weights, as WCAG 2.1 defines "relative luminance".
+    fn luminance(c: (u8, u8, u8)) -> f64 {
+        let lin = |v: u8| {
+            let v = v as f64 / 255.0;
+            if v <= 0.04045 {
+                v / 12.92
+            } else {
+                ((v + 0.055) / 1.055).powf(2.4)
+            }
+        };
+        0.2126 * lin(c.0) + 0.7152 * lin(c.1) + 0.0722 * lin(c.2)
+    }
+
+    /// Grey level of a colour printed or rendered in greyscale: the Rec. 601 luma weights
+    /// (0.299, 0.587, 0.114), which greyscale conversion commonly uses (common practice).
+    fn luma(c: (u8, u8, u8)) -> f64 {
+        (0.299 * c.0 as f64 + 0.587 * c.1 as f64 + 0.114 * c.2 as f64) / 255.0
+    }
+
+    /// WCAG 2.1 contrast ratio of two relative luminances.
+    fn contrast(a: f64, b: f64) -> f64 {
+        (a.max(b) + 0.05) / (a.min(b) + 0.05)
+    }
+
+    #[test]
+    fn legend_steps_at_the_required_level() {
+        let lum: Vec<f64> = BINS.iter().map(|b| luminance(b.rgb)).collect();
+        let grey: Vec<f64> = BINS.iter().map(|b| luma(b.rgb)).collect();
+        assert_eq!(BINS[REQUIRED_BIN].from_db, 0.0);
+        // Lightness alone orders the scale: every bin lighter than the one below it.
+        for i in 1..BINS.len() {
+            assert!(lum[i] > lum[i - 1], "bin {i} not lighter: {lum:?}");
+            assert!(
+                grey[i] > grey[i - 1],
+                "bin {i} not lighter in grey: {grey:?}"
+            );
+        }
+        // The bins either side of the required level: at least 3:1, the WCAG 2.1 minimum
+        // contrast for graphical objects (success criterion 1.4.11, non-text contrast).
+        let (fail, pass) = (lum[REQUIRED_BIN - 1], lum[REQUIRED_BIN]);
+        assert!(contrast(fail, pass) >= 3.0, "{fail} vs {pass}");
+        // And the step there is the one that stands out: at least twice any other
+        // neighbour step, in contrast ratio and in grey level.
+        let step = |v: &[f64], i: usize| v[i] - v[i - 1];
+        for i in (1..BINS.len()).filter(|i| *i != REQUIRED_BIN) {
+            let c = contrast(lum[i], lum[i - 1]);
+            assert!(contrast(fail, pass) >= 2.0 * c, "step {i}: {c}");
+            assert!(
+                step(&grey, REQUIRED_BIN) >= 2.0 * step(&grey, i),
+                "grey step {i}"
+            );
+        }
+    }
+
+    #[test]
+    fn wall_classes_differ_in_width_or_dash() {
+        // Greyscale loses the colour: every two classes (and doors) must still differ in
+        // line width or dash.
+        use MaterialClass::*;
+        let mut seen: Vec<(u32, Option<(u32, u32)>)> = Vec::new();
+        let walls = [
+            Metal,
+            Concrete,
+            Masonry,
+            CoatedGlass,
+            Glass,
+            Wood,
+            Light,
+            Other,
+        ];
+        let styles = walls
+            .iter()
+            .map(|c| wall_style(*c, PartKind::Wall))
+            .chain([wall_style(Wood, PartKind::Door)]);
+        for st in styles {
+            let key = (st.width, st.dash);
+            assert!(!seen.contains(&key), "{key:?} used twice");
+            seen.push(key);
+        }
+    }
+
     #[test]
     fn base64_matches_rfc4648_vectors() {
         // RFC 4648 section 10 test vectors.

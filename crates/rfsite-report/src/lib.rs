@@ -25,6 +25,7 @@ pub mod charts;
 pub mod envelope_map;
 pub mod grading_map;
 pub mod installer;
+pub mod labels;
 pub mod options;
 pub mod portfolio;
 pub mod uplink;
