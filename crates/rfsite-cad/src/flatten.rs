@@ -12,6 +12,9 @@ use std::collections::{BTreeMap, HashMap};
 pub const MAX_NESTING: usize = 16;
 /// Most straight pieces one drawing may expand to (inserts multiply their blocks).
 pub const MAX_PIECES: usize = 4_000_000;
+/// Most entities visited, inserts counted once per instance (an array of empty blocks
+/// draws nothing but would otherwise loop without bound).
+pub const MAX_VISITS: usize = 5_000_000;
 /// Most chords one arc is cut into.
 const MAX_ARC_CHORDS: usize = 1024;
 
@@ -48,6 +51,8 @@ pub struct Flat {
     pub ignored: BTreeMap<String, usize>,
     /// Straight pieces so far (bounded by [`MAX_PIECES`]).
     pub pieces: usize,
+    /// Entities visited so far (bounded by [`MAX_VISITS`]).
+    pub visits: usize,
 }
 
 /// What the walk needs to know about layers and tolerances.
@@ -106,6 +111,10 @@ impl<'a> Walk<'a> {
         depth: usize,
         sink: Option<&mut Vec<Point2>>,
     ) -> Result<(), CadError> {
+        self.out.visits += 1;
+        if self.out.visits > MAX_VISITS {
+            return Err(CadError::too_many_visits(MAX_VISITS));
+        }
         let own = e.common.layer.as_str();
         let layer = if own == "0" || own.is_empty() {
             parent
@@ -340,6 +349,33 @@ fn kind_name(e: &EntityType) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn an_array_of_empty_blocks_stops_at_the_visit_bound() {
+        // 30 000 x 30 000 instances of a block holding only text: nothing is drawn, and
+        // without a bound on visits the walk would take 9e8 steps per nesting level.
+        let mut d = Drawing::new();
+        let mut b = dxf::Block {
+            name: "EMPTY".into(),
+            ..Default::default()
+        };
+        b.entities
+            .push(Entity::new(EntityType::Text(Default::default())));
+        d.add_block(b);
+        let mut i = Insert {
+            name: "EMPTY".into(),
+            ..Default::default()
+        };
+        (i.column_count, i.row_count) = (30_000, 30_000);
+        d.add_entity(Entity::new(EntityType::Insert(i)));
+        let never = |_: &str| false;
+        let spec = FlattenSpec {
+            placement: Affine::IDENTITY,
+            chord_tolerance: 0.01,
+            is_opening: &never,
+        };
+        assert!(flatten(&d, &spec).is_err());
+    }
 
     #[test]
     fn sagitta_rule_counts_chords() {

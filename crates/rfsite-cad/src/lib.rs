@@ -52,6 +52,12 @@ impl CadError {
             message: format!("the drawing expands to more than {max} straight pieces (block inserts multiply their blocks)"),
         }
     }
+    fn too_many_visits(max: usize) -> CadError {
+        CadError {
+            line: None,
+            message: format!("the drawing's block inserts expand to more than {max} entities (an array insert of a large count?)"),
+        }
+    }
     fn nesting(block: &str, max: usize) -> CadError {
         CadError {
             line: None,
