@@ -32,7 +32,7 @@ pub struct Stroke {
 pub struct OpeningInsert {
     /// Index into [`Flat::layers`].
     pub layer: usize,
-    /// The insertion point (a door block's hinge, by the usual drafting convention).
+    /// The insertion point (a door block's hinge: common practice in drafting).
     pub at: Point2,
     /// Every vertex the block draws, in output coordinates.
     pub points: Vec<Point2>,

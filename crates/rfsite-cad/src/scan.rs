@@ -1,6 +1,6 @@
 //! A first pass over an ASCII DXF that finds a malformed group exactly: every group is a
 //! code line (an integer) and a value line, and the value of a numeric code must be a
-//! number of its kind (group-code ranges of the DXF reference: 10–59, 110–149, 210–239,
+//! number of its kind (group-code ranges from memory of the DXF reference's table: 10–59, 110–149, 210–239,
 //! 460–469 and 1010–1059 real; 60–99, 160–179, 270–289, 370–389, 400–409, 420–429,
 //! 440–459 and 1060–1071 integer).
 
