@@ -189,7 +189,7 @@ pub fn run_site(
         &assessment,
         &settings.template,
         &loaded.surveys.points,
-        &loaded.plan_images,
+        &backdrops(loaded),
     )
     .map_err(|e| SiteError::Failed(e.to_string()))?;
     let findings = findings_json(&assessment);
@@ -211,6 +211,11 @@ pub fn run_site(
             .into_bytes(),
         ),
     ];
+    for (name, bytes) in
+        rfsite_report::exports::exports(&loaded.site, &assessment).map_err(SiteError::Failed)?
+    {
+        files.push((name, bytes));
+    }
     let figures = rendered.figures.len();
     for (name, svg) in rendered.figures {
         files.push((format!("figures/{name}"), svg.into_bytes()));
@@ -224,6 +229,18 @@ pub fn run_site(
         predict,
         render: t0.elapsed() - predict,
     })
+}
+
+/// The maps' backdrops: each floor's plan image and DXF linework.
+fn backdrops(loaded: &LoadedSite) -> rfsite_report::Backdrops<'_> {
+    let mut b = rfsite_report::Backdrops::default();
+    for (floor, bytes) in &loaded.plan_images {
+        b = b.image(floor, bytes);
+    }
+    for (floor, plan) in &loaded.plans {
+        b = b.linework(floor, &plan.linework);
+    }
+    b
 }
 
 /// The errors of a set of diagnostics as `file:line:column: message` lines.

@@ -25,6 +25,7 @@
 #![deny(missing_docs)]
 
 pub mod affine;
+pub mod export;
 pub mod flatten;
 mod index;
 pub mod lines;

@@ -102,6 +102,7 @@
 //! ```
 #![deny(missing_docs)]
 
+mod contour;
 mod crossing;
 mod grid;
 mod index;
@@ -111,6 +112,7 @@ mod polygon;
 pub mod shadow;
 pub mod synth;
 
+pub use contour::{cell_regions, level_contours, CellRegion};
 pub use crossing::{
     crossings_brute_force, crossings_brute_force_ranked, no_rank, CornerRank, Crossing, EPS_M,
 };

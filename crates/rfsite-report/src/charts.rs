@@ -3,8 +3,10 @@
 
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
-use rfsite_model::{MaterialClass, PartKind, Site, ZoneKind};
+use rfsite_geometry::{Point2, Segment};
+use rfsite_model::{MaterialClass, PartKind, Site, Units, ZoneKind};
 use rfsite_plugin::{CoverageLayer, Figure, Measurement};
+use std::fmt::Write as _;
 
 use crate::labels::{beside, text_size, Placer, PxBox};
 
@@ -158,9 +160,10 @@ pub fn coverage_map(
     threshold_dbm: f64,
     measured_required_dbm: f64,
     measured: &[&Measurement],
-    plan: Option<&[u8]>,
+    backdrop: crate::Backdrop<'_>,
     added: &[AddedAntenna],
 ) -> DrawResult<String> {
+    let plan = backdrop.image;
     let floor = site.floor(&layer.floor).ok_or("floor not found")?;
     let u = site.units;
     let g = layer.grid.to_grid();
@@ -183,6 +186,7 @@ pub fn coverage_map(
     );
     let mut svg = String::new();
     let mut plan_svg: Option<String> = None;
+    let mut linework_svg: Option<String> = None;
     {
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(e)?;
@@ -237,6 +241,15 @@ pub fn coverage_map(
             }
         }
         chart.draw_series(rects).map_err(e)?;
+        if !backdrop.linework.is_empty() {
+            linework_svg = Some(linework_path(&chart, u, backdrop.linework));
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(x0, y0), (x0, y0)],
+                    LINEWORK_MARK.filled(),
+                )))
+                .map_err(e)?;
+        }
         // Threshold contour: cell edges where one side meets the threshold and the other not.
         let mut edges = Vec::new();
         let ok = |ix: usize, iy: usize| -> Option<bool> {
@@ -469,6 +482,9 @@ pub fn coverage_map(
         draw_scale_and_north(&right, y + 52, px_per_unit, x1 - x0, unit, site.north_deg)?;
         root.present().map_err(e)?;
     }
+    if let Some(lines) = linework_svg {
+        splice_at_mark(&mut svg, &lines);
+    }
     if let Some(img) = plan_svg {
         // Right after the white background, under everything else.
         if let Some(r) = svg.find("<rect") {
@@ -478,6 +494,53 @@ pub fn coverage_map(
         }
     }
     Ok(svg)
+}
+
+/// The colour of the placeholder rectangle drawn where the linework goes (replaced after
+/// drawing; plotters has no raw-SVG element). No bin or wall colour uses it.
+const LINEWORK_MARK: RGBColor = RGBColor(1, 2, 3);
+
+/// Replaces the placeholder rectangle of [`LINEWORK_MARK`] with `insert`.
+fn splice_at_mark(svg: &mut String, insert: &str) {
+    let Some(fill) = svg.find("fill=\"#010203\"") else {
+        return;
+    };
+    let (Some(start), Some(len)) = (svg[..fill].rfind("<rect"), svg[fill..].find("/>")) else {
+        return;
+    };
+    svg.replace_range(start..fill + len + 2, insert);
+}
+
+/// The drawing's linework as one thin grey SVG path clipped to the plot area, in the
+/// chart's pixels; segments that round to the same pixels are drawn once.
+fn linework_path(chart: &MapChart<'_, '_>, u: Units, lines: &[Segment]) -> String {
+    let px = |p: Point2| chart.backend_coord(&(u.from_m(p.x), u.from_m(p.y)));
+    let mut seen = std::collections::HashSet::new();
+    let mut d = String::new();
+    let mut last = None;
+    for s in lines {
+        let (a, b) = (px(s.a), px(s.b));
+        let key = if a <= b { (a, b) } else { (b, a) };
+        if a == b || !seen.insert(key) {
+            continue;
+        }
+        if last != Some(a) {
+            let _ = write!(d, "M{} {}", a.0, a.1);
+        }
+        let _ = write!(d, "L{} {}", b.0, b.1);
+        last = Some(b);
+    }
+    let PxBox {
+        x0: l,
+        y0: t,
+        x1: r,
+        y1: bt,
+    } = plot_bounds(chart);
+    format!(
+        "<clipPath id=\"plan-clip\"><rect x=\"{l}\" y=\"{t}\" width=\"{}\" height=\"{}\"/></clipPath><path clip-path=\"url(#plan-clip)\" fill=\"none\" stroke=\"#8c8c8c\" stroke-width=\"0.6\" d=\"{d}\"/>",
+        r - l,
+        bt - t
+    )
 }
 
 /// Height in pixels the legend column needs: bins, wall classes, markers, scale and north.

@@ -87,15 +87,15 @@ fn after_layers(r: &Remediation) -> Vec<(&CoverageLayer, f64, f64)> {
 pub fn after_maps(
     site: &Site,
     a: &Assessment,
-    plans: &BTreeMap<String, Vec<u8>>,
+    backdrops: &crate::Backdrops<'_>,
 ) -> Result<Vec<(String, String)>, String> {
     let mut out = Vec::new();
     for r in a.remediation.iter().filter(|r| r.recommended) {
         let drawn = drawn_site(site, r);
         for (l, req, req_m) in after_layers(r) {
             let added = added_on(r, &l.floor, &l.service);
-            let plan = plans.get(&l.floor).map(|v| v.as_slice());
-            let svg = charts::coverage_map(&drawn, l, req, req_m, &[], plan, &added)?;
+            let backdrop = backdrops.floor(&l.floor);
+            let svg = charts::coverage_map(&drawn, l, req, req_m, &[], backdrop, &added)?;
             out.push((after_figure_name(&r.id, &l.floor, &l.service), svg));
         }
     }

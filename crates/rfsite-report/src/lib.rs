@@ -23,6 +23,7 @@ use typst_as_lib::TypstEngine;
 pub mod booster;
 pub mod charts;
 pub mod envelope_map;
+pub mod exports;
 pub mod grading_map;
 pub mod installer;
 pub mod labels;
@@ -164,6 +165,44 @@ impl Template {
     }
 }
 
+/// What a floor's maps draw under the coverage: the plan image and the drawing's linework.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Backdrop<'a> {
+    /// The plan image (PNG or JPEG bytes), if the floor names one.
+    pub image: Option<&'a [u8]>,
+    /// Every line of the floor's DXF drawing, site metres (empty without one).
+    pub linework: &'a [rfsite_geometry::Segment],
+}
+
+/// Every floor's backdrop, by floor id.
+#[derive(Debug, Clone, Default)]
+pub struct Backdrops<'a> {
+    images: BTreeMap<&'a str, &'a [u8]>,
+    linework: BTreeMap<&'a str, &'a [rfsite_geometry::Segment]>,
+}
+
+impl<'a> Backdrops<'a> {
+    /// Adds a floor's plan image.
+    pub fn image(mut self, floor: &'a str, bytes: &'a [u8]) -> Self {
+        self.images.insert(floor, bytes);
+        self
+    }
+
+    /// Adds a floor's drawing linework.
+    pub fn linework(mut self, floor: &'a str, lines: &'a [rfsite_geometry::Segment]) -> Self {
+        self.linework.insert(floor, lines);
+        self
+    }
+
+    /// The backdrop of `floor` (empty when it has none).
+    pub fn floor(&self, floor: &str) -> Backdrop<'a> {
+        Backdrop {
+            image: self.images.get(floor).copied(),
+            linework: self.linework.get(floor).copied().unwrap_or(&[]),
+        }
+    }
+}
+
 /// The rendered outputs.
 pub struct Rendered {
     /// The PDF.
@@ -221,7 +260,7 @@ pub fn figures(
     site: &Site,
     a: &Assessment,
     measured: &[Measurement],
-    plans: &BTreeMap<String, Vec<u8>>,
+    backdrops: &Backdrops<'_>,
 ) -> Result<BTreeMap<String, String>, ReportError> {
     use rayon::prelude::*;
     // Each chart is independent: draw them in parallel, collect into a sorted map.
@@ -249,7 +288,7 @@ pub fn figures(
                 *required,
                 *measured_required,
                 &pts,
-                plans.get(&l.floor).map(|v| v.as_slice()),
+                backdrops.floor(&l.floor),
                 &[],
             )
             .map_err(ReportError)?;
@@ -273,7 +312,7 @@ pub fn figures(
     for (k, v) in envelope_map::envelope_maps(site, a).map_err(ReportError)? {
         add_figure(&mut out, k, v)?;
     }
-    for (k, v) in installer::after_maps(site, a, plans).map_err(ReportError)? {
+    for (k, v) in installer::after_maps(site, a, backdrops).map_err(ReportError)? {
         add_figure(&mut out, k, v)?;
     }
     Ok(out)
@@ -529,11 +568,11 @@ pub fn render(
     a: &Assessment,
     template: &Template,
     measured: &[Measurement],
-    plans: &BTreeMap<String, Vec<u8>>,
+    backdrops: &Backdrops<'_>,
 ) -> Result<Rendered, ReportError> {
     let timing = std::env::var_os("RFSITE_TIMING").is_some();
     let t0 = std::time::Instant::now();
-    let figs = figures(site, a, measured, plans)?;
+    let figs = figures(site, a, measured, backdrops)?;
     if timing {
         eprintln!("timing: charts {:.3} s", t0.elapsed().as_secs_f64());
     }
