@@ -142,3 +142,40 @@ fn plan_import_prints_walls_that_load_as_the_same_wall_parts() {
     };
     assert_eq!(parts(&out1), parts(&out2), "{out1}\n{out2}");
 }
+
+#[test]
+fn exported_contours_read_back_with_ezdxf_on_the_required_level_crossings() {
+    // A required level the depot's ground floor partly misses, so the exports carry both a
+    // contour and a failing area. The check is ezdxf's reading (PyPI, installed by tests/run):
+    // tests/reference/cad/check_export.py.
+    let dir = example_copy();
+    let toml = dir.path().join("site.toml");
+    let text = std::fs::read_to_string(&toml).unwrap();
+    assert!(text.contains("threshold_dbm = -100.0"), "example changed");
+    std::fs::write(
+        &toml,
+        text.replace("threshold_dbm = -100.0", "threshold_dbm = -58.0"),
+    )
+    .unwrap();
+    let out_dir = dir.path().join("out");
+    let out = run(&[
+        "report",
+        dir.path().to_str().unwrap(),
+        "--out",
+        out_dir.to_str().unwrap(),
+    ]);
+    let (_o, e) = texts(&out);
+    assert_eq!(out.status.code(), Some(0), "{e}");
+    let script = root().join("tests/reference/cad/check_export.py");
+    let py = std::process::Command::new("python3")
+        .arg(&script)
+        .arg(&out_dir)
+        .output()
+        .expect("python3 with ezdxf (tests/run installs it)");
+    let (so, se) = texts(&py);
+    assert!(py.status.success(), "{so}{se}");
+    let counts: serde_json::Value = serde_json::from_str(so.trim()).unwrap();
+    assert!(counts["layers"].as_u64().unwrap() >= 2, "{so}");
+    assert!(counts["vertices"].as_u64().unwrap() > 50, "{so}");
+    assert!(counts["failing_cells"].as_u64().unwrap() > 100, "{so}");
+}

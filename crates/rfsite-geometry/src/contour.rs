@@ -18,6 +18,10 @@ use crate::polygon::point_in_polygon;
 /// A grid edge between two neighbouring samples: `(ix, iy, vertical)`, from sample
 /// `(ix, iy)` to `(ix + 1, iy)` (horizontal) or to `(ix, iy + 1)` (vertical).
 type EdgeKey = (usize, usize, bool);
+/// A lattice corner (column, row) of the cell edges.
+type Corner = (usize, usize);
+/// A directed cell edge, from corner to corner.
+type LatticeEdge = (Corner, Corner);
 
 /// One contour piece inside a square, from one crossed edge to another, the side at or
 /// above the level on its left.
@@ -230,7 +234,7 @@ struct LatticeRing {
 
 /// The boundary edges of the masked cells, each directed with its cell on the left:
 /// start corner -> end corner.
-fn boundary_edges(grid: &Grid, mask: &[bool]) -> Vec<((usize, usize), (usize, usize))> {
+fn boundary_edges(grid: &Grid, mask: &[bool]) -> Vec<LatticeEdge> {
     let (nx, ny) = (grid.nx, grid.ny);
     let on = |ix: isize, iy: isize| -> bool {
         ix >= 0
@@ -297,15 +301,8 @@ fn trace_rings(grid: &Grid, mask: &[bool]) -> Vec<LatticeRing> {
 
 /// Of the unused edges `candidates` leaving the end of edge `i`, the one turning most to
 /// the left.
-fn leftmost(
-    edges: &[((usize, usize), (usize, usize))],
-    i: usize,
-    candidates: &[usize],
-    used: &[bool],
-) -> Option<usize> {
-    let dir = |e: &((usize, usize), (usize, usize))| {
-        (e.1 .0 as i64 - e.0 .0 as i64, e.1 .1 as i64 - e.0 .1 as i64)
-    };
+fn leftmost(edges: &[LatticeEdge], i: usize, candidates: &[usize], used: &[bool]) -> Option<usize> {
+    let dir = |e: &LatticeEdge| (e.1 .0 as i64 - e.0 .0 as i64, e.1 .1 as i64 - e.0 .1 as i64);
     let (dx, dy) = dir(&edges[i]);
     let turn = |c: usize| {
         let (ex, ey) = dir(&edges[c]);
@@ -335,11 +332,11 @@ fn lattice_ring(path: Vec<(usize, usize)>) -> LatticeRing {
         (x as i64, y as i64)
     };
     let mut corners = Vec::with_capacity(n + 1);
-    for k in 0..n {
+    for (k, &corner) in path.iter().enumerate().take(n) {
         let (a, b, c) = (p(k + n - 1), p(k), p(k + 1));
         let cross = (b.0 - a.0) * (c.1 - b.1) - (b.1 - a.1) * (c.0 - b.0);
         if cross != 0 {
-            corners.push(path[k]);
+            corners.push(corner);
         }
     }
     if let Some(&first) = corners.first() {

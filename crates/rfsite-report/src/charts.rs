@@ -182,6 +182,7 @@ pub fn coverage_map(
             floor,
             !added.is_empty(),
             !measured.is_empty(),
+            !backdrop.linework.is_empty(),
         )),
     );
     let mut svg = String::new();
@@ -421,6 +422,18 @@ pub fn coverage_map(
                 .map_err(e)?;
             y += 20;
         }
+        if !backdrop.linework.is_empty() {
+            right
+                .draw(&PathElement::new(
+                    vec![(8, y + 8), (34, y + 8)],
+                    RGBColor(0x8c, 0x8c, 0x8c).stroke_width(1),
+                ))
+                .map_err(e)?;
+            right
+                .draw(&Text::new("plan drawing (DXF)", (40, y), font.clone()))
+                .map_err(e)?;
+            y += 20;
+        }
         y += 8;
         right
             .draw(&TriangleMarker::new((20, y + 8), 7, BLACK.filled()))
@@ -544,7 +557,13 @@ fn linework_path(chart: &MapChart<'_, '_>, u: Units, lines: &[Segment]) -> Strin
 }
 
 /// Height in pixels the legend column needs: bins, wall classes, markers, scale and north.
-fn legend_height(site: &Site, floor: &rfsite_model::Floor, added: bool, measured: bool) -> u32 {
+fn legend_height(
+    site: &Site,
+    floor: &rfsite_model::Floor,
+    added: bool,
+    measured: bool,
+    linework: bool,
+) -> u32 {
     let classes: std::collections::BTreeSet<(u8, MaterialClass)> = floor
         .parts
         .iter()
@@ -554,7 +573,7 @@ fn legend_height(site: &Site, floor: &rfsite_model::Floor, added: bool, measured
         })
         .collect();
     let bins = 34 + 22 * BINS.len() as u32 + 18;
-    let walls = 28 + 20 * classes.len() as u32;
+    let walls = 28 + 20 * (classes.len() as u32 + u32::from(linework));
     let marks = 8 + 40 + 20 * u32::from(added) + 60 * u32::from(measured);
     bins + walls + marks + 110
 }
