@@ -41,7 +41,8 @@ impl LoadError {
                 .unwrap_or_default(),
             LoadError::BadInput(d, _) => d
                 .iter()
-                .map(|x| format!("{}:{}:{}: {}", x.file, x.line, x.column, x.message))
+                .filter(|x| x.severity == rfsite_model::Severity::Error)
+                .map(crate::report::located_line)
                 .collect(),
             LoadError::Failed(m) => m
                 .lines()

@@ -243,20 +243,24 @@ fn backdrops(loaded: &LoadedSite) -> rfsite_report::Backdrops<'_> {
     b
 }
 
-/// The errors of a set of diagnostics as `file:line:column: message` lines.
+/// The errors of a set of diagnostics as `file:line:column: message` lines, each followed
+/// by its hint as `check` prints it.
 pub fn located_errors(d: &rfsite_model::Diagnostics) -> Vec<String> {
     d.items
         .iter()
         .filter(|x| x.severity == rfsite_model::Severity::Error)
-        .map(|x| {
-            let hint = x
-                .hint
-                .as_deref()
-                .map(|h| format!(" ({h})"))
-                .unwrap_or_default();
-            format!("{}:{}:{}: {}{hint}", x.file, x.line, x.column, x.message)
-        })
+        .map(located_line)
         .collect()
+}
+
+/// One diagnostic as `file:line:column: message`, then `  = hint: ...` on its own line.
+pub fn located_line(x: &rfsite_model::Diagnostic) -> String {
+    let hint = x
+        .hint
+        .as_deref()
+        .map(|h| format!("\n  = hint: {h}"))
+        .unwrap_or_default();
+    format!("{}:{}:{}: {}{hint}", x.file, x.line, x.column, x.message)
 }
 
 /// Runs `report`.

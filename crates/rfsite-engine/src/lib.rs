@@ -373,10 +373,7 @@ fn collect(
             name: "rfsite".into(),
             version: VERSION.into(),
         },
-        site: SiteRef {
-            id: site.meta.id.clone(),
-            name: site.meta.name.clone(),
-        },
+        site: site_ref(site),
         inputs: Vec::new(),
         plugins,
         services: Vec::new(),
@@ -597,6 +594,28 @@ fn probe_applies(site: &Site, material: &str, freq_mhz: f64) -> bool {
     };
     let tol = rfsite_model::material::PROBE_FREQ_TOLERANCE * freq_mhz;
     freq_mhz >= lo - tol && freq_mhz <= hi + tol
+}
+
+/// The site's identification in findings.json: meta, report date and floors by elevation.
+fn site_ref(site: &Site) -> SiteRef {
+    let mut floors: Vec<rfsite_plugin::FloorRef> = site
+        .floors
+        .iter()
+        .map(|f| rfsite_plugin::FloorRef {
+            id: f.id.clone(),
+            name: f.name.clone(),
+            elevation_m: f.elevation_m,
+        })
+        .collect();
+    floors.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m).then_with(|| a.id.cmp(&b.id)));
+    SiteRef {
+        id: site.meta.id.clone(),
+        name: site.meta.name.clone(),
+        client: site.meta.client.clone(),
+        report_date: site.meta.report_date.clone(),
+        revision: site.meta.revision.clone(),
+        floors,
+    }
 }
 
 /// findings.json: the contract fields first, then the rest of the assessment.

@@ -90,6 +90,29 @@ pub struct SiteRef {
     pub id: String,
     /// Name.
     pub name: String,
+    /// Client (the building owner or whoever commissioned the assessment).
+    #[serde(default)]
+    pub client: String,
+    /// The report's date, from the project file (`[site] report_date`), never the clock.
+    #[serde(default)]
+    pub report_date: String,
+    /// The report's revision.
+    #[serde(default)]
+    pub revision: String,
+    /// The floors, lowest first (by elevation, then id).
+    #[serde(default)]
+    pub floors: Vec<FloorRef>,
+}
+
+/// A floor's identification, so that readers of findings.json can print its name.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FloorRef {
+    /// Id.
+    pub id: String,
+    /// Name.
+    pub name: String,
+    /// Elevation of the finished floor, m.
+    pub elevation_m: f64,
 }
 
 /// The whole result of one site's run.
