@@ -20,8 +20,11 @@ use crate::check::{load_quiet, LoadError};
 use crate::report::{self, Settings, SiteError, OUTPUT_MARKER};
 use crate::{isolate, Outcome};
 
+mod meta;
 mod summary;
+mod views;
 pub use summary::*;
+use views::{read_portfolio, write_summary};
 
 /// Arguments of `portfolio`.
 #[derive(clap::Args)]
@@ -281,6 +284,13 @@ pub fn run(a: Args) -> Outcome {
         eprintln!("error: {}: not a folder\n  = hint: DIR is a folder holding site projects (each a folder with a site.toml)", dir.display());
         return Outcome::BadInput;
     }
+    let meta = match meta::read(&dir) {
+        Ok(m) => m,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return Outcome::BadInput;
+        }
+    };
     // Checked here so a bad template or plugin folder stops the run before any site.
     if let Err(e) = report::load_settings(a.template.as_deref(), a.plugins.as_deref()) {
         eprintln!("error: {e}");
@@ -414,7 +424,7 @@ pub fn run(a: Args) -> Outcome {
     });
     progress.clear();
     entries.extend(ran);
-    let p = Portfolio::new(entries, a.shard);
+    let p = Portfolio::new(entries, a.shard, meta);
     if let Err(e) = write_summary(&out, &p) {
         eprintln!("error: {e}");
         return Outcome::Failed;
@@ -641,6 +651,7 @@ fn merge(m: MergeArgs) -> Outcome {
     let mut sites: Vec<SiteEntry> = Vec::new();
     let mut from: BTreeMap<String, PathBuf> = BTreeMap::new();
     let mut version: Option<String> = None;
+    let mut meta: Option<meta::PortfolioMeta> = None;
     for dir in &m.outs {
         let p = match read_portfolio(dir) {
             Ok(p) => p,
@@ -655,6 +666,12 @@ fn merge(m: MergeArgs) -> Outcome {
                 "warning: {} was written by rfsite {v}, another shard by {}",
                 dir.display(),
                 version.as_deref().unwrap_or_default()
+            );
+        }
+        if meta.get_or_insert(p.meta.clone()) != &p.meta {
+            eprintln!(
+                "warning: {} has another portfolio.toml name or owner than the first shard; the summary keeps the first",
+                dir.display()
             );
         }
         for s in p.sites {
@@ -701,7 +718,7 @@ fn merge(m: MergeArgs) -> Outcome {
             return Outcome::Failed;
         }
     }
-    let p = Portfolio::new(sites, None);
+    let p = Portfolio::new(sites, None, meta.unwrap_or_default());
     if let Err(e) = write_summary(&m.out, &p) {
         eprintln!("error: {e}");
         return Outcome::Failed;

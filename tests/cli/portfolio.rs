@@ -61,7 +61,7 @@ fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
     let where_ = "examples/portfolio/larkspur-annex/site.toml:21:12: unknown material `plasterbord-partition`";
     assert!(se.contains(where_), "{se}");
     let p = json(&out.path().join("portfolio.json"));
-    assert_eq!(p["schema"], "rfsite-portfolio/1");
+    assert_eq!(p["schema"], "rfsite-portfolio/2");
     assert_eq!(p["totals"]["sites"], 5);
     assert_eq!(p["totals"]["bad_input"], 1);
     let broken = p["sites"]
@@ -71,7 +71,13 @@ fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
         .find(|s| s["path"] == "larkspur-annex")
         .unwrap();
     assert_eq!(broken["status"], "bad-input");
-    assert_eq!(broken["problems"][0], where_);
+    // The problem keeps the hint line `check` prints.
+    let problem = broken["problems"][0].as_str().unwrap();
+    assert!(
+        problem.starts_with(where_)
+            && problem.contains("\n  = hint: did you mean `plasterboard-partition`"),
+        "{problem}"
+    );
     // Verdicts per site and service, and the ranking (the demo is built to fail here).
     let clinic = p["sites"]
         .as_array()
@@ -87,14 +93,30 @@ fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
         .unwrap();
     assert_eq!(ps["pass"], false);
     assert_eq!(ps["worst_floor"], "L1");
+    // Life-safety floors first (the IoT gap needs more margin but ranks after them), then
+    // the largest margin needed.
     let rank = p["shortfall_ranking"].as_array().unwrap();
     assert!(rank.len() >= 3);
+    assert_eq!(rank[0]["service_name"], "Public-safety 700 MHz");
+    assert_eq!(rank[0]["floor_name"], "First floor");
+    assert!(rank.windows(2).all(|w| {
+        let key =
+            |r: &serde_json::Value| (r["life_safety"].as_bool(), r["margin_needed_db"].as_f64());
+        key(&w[0]) >= key(&w[1])
+    }));
+    assert!(rank.iter().any(|r| r["service"] == "iot900"
+        && r["margin_needed_db"].as_f64() > rank[0]["margin_needed_db"].as_f64()));
     assert!(rank
-        .windows(2)
-        .all(|w| w[0]["margin_needed_db"].as_f64() >= w[1]["margin_needed_db"].as_f64()));
+        .iter()
+        .all(|r| !r["reason"].as_str().unwrap().is_empty()));
+    assert_eq!(
+        p["date"], "2026-10-09",
+        "the latest of the sites' report dates"
+    );
+    assert_eq!(p["meta"]["owner"], "Thornwick Asset Services (invented)");
     let csv = std::fs::read_to_string(out.path().join("portfolio.csv")).unwrap();
     assert!(
-        csv.starts_with("path,site_id,site_name,status,site_verdict,service,"),
+        csv.starts_with("path,site_id,site_name,client,report_date,status,site_verdict,service,service_name,life_safety,"),
         "{csv}"
     );
     assert!(
@@ -105,13 +127,16 @@ fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
     );
     assert!(
         csv.lines().any(|l| l.starts_with(
-            "fenwick-clinic,fenwick-clinic,Fenwick Street Clinic,ok,fail,ps700,fail,L1,"
+            "fenwick-clinic,fenwick-clinic,Fenwick Street Clinic,Ouse Valley Health,2026-10-02,ok,fail,ps700,Public-safety 700 MHz,true,fail,0.95,0.99,L1,First floor,"
         )),
         "{csv}"
     );
+    per_service_counts_agree_with_each_sites_findings(out.path(), &p, &csv);
     let text = pdf_text(&out.path().join("portfolio.pdf"));
     for s in [
-        "Portfolio coverage summary",
+        "Marbury district portfolio",
+        "For Thornwick Asset Services (invented)",
+        "dated 2026-10-09",
         "Verdict per site and service",
         "Shortfall ranking",
         "Sites that did not run",
@@ -124,6 +149,75 @@ fn demo_portfolio_writes_every_good_report_and_names_the_broken_site() {
     ] {
         assert!(text.contains(s), "summary PDF lacks `{s}`");
     }
+}
+
+/// Counts by severity of the findings about `service` (None: about no service) in a
+/// site's findings.json.
+fn counted(findings: &serde_json::Value, service: Option<&str>) -> [usize; 3] {
+    let mut c = [0; 3];
+    for f in findings["findings"].as_array().unwrap() {
+        if f["service"].as_str() != service {
+            continue;
+        }
+        match f["severity"].as_str() {
+            Some("critical") => c[0] += 1,
+            Some("major") => c[1] += 1,
+            Some("minor") => c[2] += 1,
+            _ => {}
+        }
+    }
+    c
+}
+
+/// portfolio.json's and portfolio.csv's per-service finding counts, against each site's
+/// own findings.json.
+fn per_service_counts_agree_with_each_sites_findings(out: &Path, p: &serde_json::Value, csv: &str) {
+    let mut rows = csv::Reader::from_reader(csv.as_bytes());
+    let head = rows.headers().unwrap().clone();
+    let col = |name: &str| head.iter().position(|h| h == name).unwrap();
+    let records: Vec<csv::StringRecord> = rows.records().map(Result::unwrap).collect();
+    let mut checked = 0;
+    for site in p["sites"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|s| s["status"] == "ok")
+    {
+        let id = site["id"].as_str().unwrap();
+        let f = json(&out.join(id).join("findings.json"));
+        for sv in site["services"].as_array().unwrap() {
+            let sid = sv["id"].as_str().unwrap();
+            let want = counted(&f, Some(sid));
+            let c = &sv["findings"];
+            let got =
+                [&c["critical"], &c["major"], &c["minor"]].map(|v| v.as_u64().unwrap() as usize);
+            assert_eq!(got, want, "{id} {sid} in portfolio.json");
+            let row = records
+                .iter()
+                .find(|r| &r[col("site_id")] == id && &r[col("service")] == sid)
+                .unwrap_or_else(|| panic!("no CSV row for {id} {sid}"));
+            let csv_counts =
+                ["critical", "major", "minor"].map(|k| row[col(k)].parse::<usize>().unwrap());
+            assert_eq!(csv_counts, want, "{id} {sid} in portfolio.csv");
+            checked += 1;
+        }
+        let wide = counted(&f, None);
+        let wide_row = records
+            .iter()
+            .find(|r| &r[col("site_id")] == id && r[col("service")].is_empty());
+        match wide_row {
+            Some(r) => assert_eq!(
+                ["critical", "major", "minor"].map(|k| r[col(k)].parse::<usize>().unwrap()),
+                wide
+            ),
+            None => assert_eq!(
+                wide,
+                [0, 0, 0],
+                "{id}: site-wide findings need their own row"
+            ),
+        }
+    }
+    assert_eq!(checked, 6, "the demo's six site services");
 }
 
 #[test]
@@ -387,4 +481,30 @@ fn a_hanging_site_is_stopped_at_the_site_time_limit() {
         "{b}"
     );
     assert!(out.join("harrow-lane-office/report.pdf").is_file());
+}
+
+#[test]
+fn a_misspelt_portfolio_toml_key_stops_the_run_at_its_line() {
+    let dir = tempfile::tempdir().unwrap();
+    copy_dir(
+        &root().join("examples/portfolio/harrow-lane-office"),
+        &dir.path().join("office"),
+    );
+    std::fs::write(
+        dir.path().join("portfolio.toml"),
+        "[portfolio]\nname = \"Test\"\nowenr = \"Someone\"\n",
+    )
+    .unwrap();
+    let out = tempfile::tempdir().unwrap();
+    let (code, _so, se) = portfolio(dir.path(), out.path(), &[]);
+    assert_eq!(code, 2, "{se}");
+    assert!(
+        se.contains("portfolio.toml:3:1: unknown field `owenr`"),
+        "{se}"
+    );
+    assert!(
+        se.contains("= hint: portfolio.toml holds one table"),
+        "{se}"
+    );
+    assert!(!out.path().join("portfolio.json").exists());
 }

@@ -607,7 +607,11 @@ fn site_ref(site: &Site) -> SiteRef {
             elevation_m: f.elevation_m,
         })
         .collect();
-    floors.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m).then_with(|| a.id.cmp(&b.id)));
+    floors.sort_by(|a, b| {
+        a.elevation_m
+            .total_cmp(&b.elevation_m)
+            .then_with(|| a.id.cmp(&b.id))
+    });
     SiteRef {
         id: site.meta.id.clone(),
         name: site.meta.name.clone(),
