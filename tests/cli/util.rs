@@ -32,6 +32,9 @@ pub fn pdf_text(pdf: &Path) -> String {
         "pdftotext failed on {}",
         pdf.display()
     );
+    // poppler reports any structure it cannot read on stderr; rfsite's PDFs give none.
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.trim().is_empty(), "poppler on {}: {err}", pdf.display());
     String::from_utf8_lossy(&out.stdout).to_string()
 }
 

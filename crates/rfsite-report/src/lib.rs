@@ -625,11 +625,27 @@ pub fn render(
     };
     let t2 = std::time::Instant::now();
     let pdf = typst_pdf::pdf(&doc, &opts)
+        .map(without_default_suspects)
         .map_err(|e| ReportError(format!("PDF export failed: {e:?}")))?;
     if timing {
         eprintln!("timing: pdf export {:.3} s", t2.elapsed().as_secs_f64());
     }
     Ok(Rendered { pdf, figures: figs })
+}
+
+/// The catalog's `/MarkInfo <</Marked true /Suspects false>>`, as Typst writes it, is valid
+/// (ISO 32000-1 section 14.7.1, Table 321: `Suspects` is a boolean, default false), but
+/// poppler (pdftotext, pdfinfo, the viewers built on it) prints "Syntax Error: Suspects
+/// object is wrong type (boolean)" for it: its catalog reader accepts only `true`. The entry
+/// says nothing the default does not, so it is blanked with spaces of the same length,
+/// which leaves every byte offset (the cross-reference table) as it was.
+pub fn without_default_suspects(mut pdf: Vec<u8>) -> Vec<u8> {
+    const ENTRY: &[u8] = b"/MarkInfo<</Marked true/Suspects false>>";
+    if let Some(at) = pdf.windows(ENTRY.len()).position(|w| w == ENTRY) {
+        let suspects = at + b"/MarkInfo<</Marked true".len();
+        pdf[suspects..suspects + b"/Suspects false".len()].fill(b' ');
+    }
+    pdf
 }
 
 fn parse_date(s: &str) -> (i32, u8, u8) {

@@ -36,7 +36,9 @@ pub fn render_portfolio(view: &serde_json::Value) -> Result<Vec<u8>, ReportError
         timestamp: None,
         ..Default::default()
     };
-    typst_pdf::pdf(&doc, &opts).map_err(|e| ReportError(format!("PDF export failed: {e:?}")))
+    typst_pdf::pdf(&doc, &opts)
+        .map(crate::without_default_suspects)
+        .map_err(|e| ReportError(format!("PDF export failed: {e:?}")))
 }
 
 /// Drops Typst's memoised results that have not been used for a while, so that a process
