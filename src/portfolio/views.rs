@@ -206,6 +206,10 @@ fn failed_rows(p: &Portfolio) -> Vec<Vec<String>> {
         .collect()
 }
 
+fn sites(n: usize) -> String {
+    rfsite_plugin::words::count(n, "site", "sites")
+}
+
 /// The line under the title: owner, count, shard, date.
 fn subtitle(p: &Portfolio) -> String {
     let mut parts = Vec::new();
@@ -213,8 +217,8 @@ fn subtitle(p: &Portfolio) -> String {
         parts.push(format!("For {o}"));
     }
     parts.push(match &p.shard {
-        Some(s) => format!("{} site(s), shard {s}", p.totals.sites),
-        None => format!("{} site(s)", p.totals.sites),
+        Some(s) => format!("{}, shard {s}", sites(p.totals.sites)),
+        None => sites(p.totals.sites),
     });
     match (&p.earliest_date, &p.date) {
         (Some(a), Some(b)) if a != b => {

@@ -22,6 +22,7 @@ pub mod check;
 pub mod shift;
 pub mod verdict;
 pub mod wire;
+pub mod words;
 pub use assessment::*;
 pub use check::{InputProblem, Place};
 pub use verdict::*;

@@ -47,9 +47,9 @@ fn measures(site: &Site, b: &BoosterDesign) -> Vec<[String; 2]> {
         [
             "Composite output (P_ch + 10·log10 N)".into(),
             format!(
-                "{} dBm for {} channel(s); allowed {} dBm (rating less back-off){}",
+                "{} dBm for {}; allowed {} dBm (rating less back-off){}",
                 f1(b.composite_dbm),
-                b.channels,
+                rfsite_plugin::words::count(b.channels as usize, "channel", "channels"),
                 f1(b.allowed_composite_dbm),
                 if b.exceeded { " — EXCEEDED" } else { "" }
             ),

@@ -371,7 +371,11 @@ pub fn view_model(
             "id": f.id, "severity": f.severity.label(), "title": f.title, "detail": f.detail,
             "floor": f.floor.as_ref().and_then(|x| site.floor(x)).map(|x| x.name.clone()).unwrap_or_default(),
             "service": f.service.as_ref().and_then(|x| site.service(x)).map(|x| x.name.clone()).unwrap_or_default(),
-            "causes": f.causes, "remedies": f.remedies,
+            "causes": f.causes,
+            "remedies": f.remedies.iter().map(|id| {
+                let option = a.remediation.iter().find(|r| &r.id == id);
+                json!({"label": format!("option-{id}"), "title": option.map(|r| r.title.clone()).unwrap_or_else(|| id.clone()), "known": option.is_some()})
+            }).collect::<Vec<_>>(),
             "shortfall": f.shortfall_db.map(f1).unwrap_or_default(),
             "location": f.location_m.map(|p| format!("({}, {}) {ul}", f1(u.from_m(p[0])), f1(u.from_m(p[1])))).unwrap_or_default(),
         })
@@ -467,6 +471,20 @@ pub fn view_model(
                 f1(l.cable_loss_db + l.connector_loss_db),
                 f1(l.antenna_gain_dbi),
                 f1(l.eirp_dbm),
+            ]
+        })
+        .collect();
+    // For the appendix: an owner reads nothing from a range beyond the building.
+    let tx_ranges: Vec<Vec<String>> = a
+        .link_budgets
+        .iter()
+        .map(|l| {
+            vec![
+                l.transmitter.clone(),
+                site.service(&l.service)
+                    .map(|s| s.name.clone())
+                    .unwrap_or_default(),
+                f1(l.fspl_10m_db),
                 if l.free_space_range_m > 1000.0 {
                     "> 1 km".to_string()
                 } else {
@@ -554,6 +572,7 @@ pub fn view_model(
                 "files": a.surveys.rows_per_file.iter().map(|(r, n)| vec![r.clone(), n.to_string()]).collect::<Vec<_>>(),
                 "rows": a.surveys.rejected_rows.iter().take(20).map(|r| vec![r.file.clone(), r.line.to_string(), r.reason.clone(), r.detail.clone()]).collect::<Vec<_>>(),
             },
+            "tx_ranges": tx_ranges,
             "revisions": site.revisions.iter().map(|r| vec![r.revision.clone(), r.date.clone(), r.note.clone()]).collect::<Vec<_>>(),
             "version": a.tool.version,
             "inputs": a.inputs.iter().map(|i| vec![i.path.clone(), i.sha256.clone()]).collect::<Vec<_>>(),

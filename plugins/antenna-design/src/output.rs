@@ -143,9 +143,9 @@ fn floor_line(site: &Site, f: &FloorDesign) -> String {
         "not proven the fewest (the exact search's budget ran out)"
     };
     format!(
-        "{name}: {} candidate positions, {} antenna(s) placed, {}; {} rule-set evaluations{}",
+        "{name}: {} candidate positions, {} placed, {}; {} rule-set evaluations{}",
         f.candidates,
-        f.placed,
+        rfsite_plugin::words::count(f.placed, "antenna", "antennas"),
         proof,
         f.evaluations,
         if f.passes {
@@ -262,7 +262,7 @@ fn round3(x: f64) -> f64 {
 fn caveats(svc: &Service, o: &DesignOptions, net: &Network) -> Vec<String> {
     let mut c = vec![
         "predicted, not measured: the calibration fitted on today's survey is kept; an acceptance survey after installation decides".to_string(),
-        format!("antenna gain {:.1} dBi, {} channel(s) at {:.1} dBm per antenna port, head end rated {:.1} dBm composite with {:.1} dB back-off: rfsite defaults unless set in [plugins.antenna-design] (from memory); take them from the equipment data sheets", o.gain_dbi, o.channels, o.port_dbm, o.max_composite_dbm, o.back_off_db),
+        format!("antenna gain {:.1} dBi, {} at {:.1} dBm per antenna port, head end rated {:.1} dBm composite with {:.1} dB back-off: rfsite defaults unless set in [plugins.antenna-design] (from memory); take them from the equipment data sheets", o.gain_dbi, rfsite_plugin::words::count(o.channels as usize, "channel", "channels"), o.port_dbm, o.max_composite_dbm, o.back_off_db),
         "cable routes follow the plan rectilinearly with a slack allowance; the installer confirms routes, and every penetration of a fire-rated wall or floor is fire-stopped with a listed system".into(),
         "ceiling and riser work is work at height: follow the work-at-height rules and use licensed trades for electrical work".into(),
         "the downlink only: the uplink (handset to head end) is not balanced here".into(),
@@ -293,7 +293,7 @@ fn booster_quantities(
         note: note.into(),
     };
     vec![
-        q(format!("off-air signal booster (bi-directional amplifier), {} channel(s), downlink gain {:.1} dB, uplink gain {:.1} dB", b.channels, b.downlink_gain_db, b.uplink_gain_db), "listed for the service where the code requires it"),
+        q(format!("off-air signal booster (bi-directional amplifier), {}, downlink gain {:.1} dB, uplink gain {:.1} dB", rfsite_plugin::words::count(b.channels as usize, "channel", "channels"), b.downlink_gain_db, b.uplink_gain_db), "listed for the service where the code requires it"),
         q(format!("donor antenna, directional, {antenna_gain:.1} dBi, on the roof at ({:.2}, {:.2}) {}", b.donor_position[0], b.donor_position[1], site.units.label()), "with its mount, surge protection and earthing (common practice)"),
     ]
 }

@@ -459,19 +459,26 @@ impl Plugin for BuildingEntry {
                     fmt1(need)
                 );
                 let facade_text = match &facade {
-                    Some(f) => format!(
-                        "The facade's own materials ({} part{}, {:.1} m: {}) cost {}–{} dB at normal incidence, {} dB length-weighted mean (power mean {} dB, which the most transparent parts dominate): about {} dBm inside (range {} to {} dBm).",
+                    Some(f) if fmt1(f.min_db) == fmt1(f.max_db) => format!(
+                        "The facade's own materials ({} part{}, {:.1} m: {}) cost {} dB at normal incidence: about {} dBm inside.",
                         f.parts,
                         if f.parts == 1 { "" } else { "s" },
                         f.length_m,
                         f.materials.iter().take(4).map(|m| format!("{} {:.1} m at {} dB", m.material, m.length_m, fmt1(m.loss_db))).collect::<Vec<_>>().join(", "),
                         fmt1(f.min_db),
-                        fmt1(f.max_db),
+                        fmt1(d.level_dbm - f.mean_db),
+                    ),
+                    Some(f) => format!(
+                        "The facade's own materials ({} part{}, {:.1} m: {}) cost {} at normal incidence, {} dB length-weighted mean (power mean {} dB, which the most transparent parts dominate): about {} dBm inside (range {}).",
+                        f.parts,
+                        if f.parts == 1 { "" } else { "s" },
+                        f.length_m,
+                        f.materials.iter().take(4).map(|m| format!("{} {:.1} m at {} dB", m.material, m.length_m, fmt1(m.loss_db))).collect::<Vec<_>>().join(", "),
+                        rfsite_plugin::words::span(&fmt1(f.min_db), &fmt1(f.max_db), "dB"),
                         fmt1(f.mean_db),
                         fmt1(f.power_mean_db),
                         fmt1(d.level_dbm - f.mean_db),
-                        fmt1(d.level_dbm - f.max_db),
-                        fmt1(d.level_dbm - f.min_db)
+                        rfsite_plugin::words::span(&fmt1(d.level_dbm - f.max_db), &fmt1(d.level_dbm - f.min_db), "dBm"),
                     ),
                     None => "No exterior wall parts were found for the facade estimate.".into(),
                 };

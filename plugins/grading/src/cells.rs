@@ -287,8 +287,10 @@ fn verdict_of(
             adjacent as f64,
             0.0,
             format!(
-            "{adjacent} pair(s) of failed test cells are adjacent, which the rule does not allow"
-        ),
+                "{} of failed test cells {} adjacent, which the rule does not allow",
+                rfsite_plugin::words::count(adjacent, "pair", "pairs"),
+                rfsite_plugin::words::noun(adjacent, "is", "are")
+            ),
         ));
     }
     let judged = count("general") + count("critical");

@@ -172,9 +172,9 @@ fn zone_finding(inp: &FloorInput<'_>, o: &FloorOutcome, z: &ZoneResult) -> Findi
     }
     if let Some(c) = z.cell_fraction {
         parts.push(format!(
-            "{} of its {} own test cell(s) pass",
+            "{} of its {} pass",
             pct(c),
-            z.cells
+            rfsite_plugin::words::count(z.cells, "own test cell", "own test cells")
         ));
     }
     if z.measured_points > 0 {
@@ -247,8 +247,8 @@ fn measured_finding(
         floor: Some(floor_id.to_string()),
         service: Some(inp.svc.id.clone()),
         title: format!(
-            "{} measured point(s) below the required level in {} areas of {} ({})",
-            f.len(),
+            "{} below the required level in {} areas of {} ({})",
+            rfsite_plugin::words::count(f.len(), "measured point", "measured points"),
             kind,
             floor_name,
             inp.svc.name

@@ -307,7 +307,7 @@ impl Explain<'_> {
             .collect();
         Some(Remediation {
             id: rid,
-            title: format!("Raise the power of the {} antenna(s) on {} for {} by {} dB", on_floor.len(), self.floor_name, svc.name, fmt1(raise)),
+            title: format!("Raise the power of the {} on {} for {} by {} dB", rfsite_plugin::words::count(on_floor.len(), "antenna", "antennas"), self.floor_name, svc.name, fmt1(raise)),
             service: Some(svc.id.clone()),
             floors: vec![fr.id.clone()],
             detail: format!("The floor needs about {} dB more at the required level; the antennas already on it are raised by {} dB.", fmt1(fr.margin_needed_db), fmt1(raise)),
@@ -333,8 +333,8 @@ fn causes_of(w: &WorstPoint) -> Vec<String> {
         .collect();
     if w.floors_crossed > 0 {
         parts.push(format!(
-            "{} floor slab(s) ({} dB)",
-            w.floors_crossed,
+            "{} ({} dB)",
+            rfsite_plugin::words::count(w.floors_crossed as usize, "floor slab", "floor slabs"),
             fmt1(w.floor_loss_db)
         ));
     }

@@ -758,7 +758,8 @@ impl Plugin for ReflectionNulls {
                     service: Some(c.service.clone()),
                     title: format!("{} of {} survey points on {} lie in a standing-wave null", c.near_null, c.points, fname),
                     detail: format!(
-                        "These points are within the null tolerance of strongly reflecting wall(s) {}; their readings may be up to {:.1} dB below the level a few centimetres away. Treat them as local fades rather than coverage holes, or re-measure them a quarter wavelength further from the wall.",
+                        "These points are within the null tolerance of the strongly reflecting {} {}; their readings may be up to {:.1} dB below the level a few centimetres away. Treat them as local fades rather than coverage holes, or re-measure them a quarter wavelength further from the wall.",
+                        rfsite_plugin::words::noun(c.walls.len(), "wall", "walls"),
                         fmt_walls(&c.walls),
                         c.worst_fade_db.unwrap_or(0.0)
                     ),
