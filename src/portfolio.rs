@@ -268,7 +268,7 @@ impl Progress {
 /// What phase one learns of a site: its id, or why it cannot run.
 enum Probe {
     Id(String, String),
-    Bad(SiteEntry),
+    Bad(Box<SiteEntry>),
 }
 
 /// Runs `portfolio` (or `portfolio merge`).
@@ -332,7 +332,7 @@ pub fn run(a: Args) -> Outcome {
         let args = isolate::child_args("probe", rel, folder, None, None, None, (false, false));
         match isolate::in_child(args, limits) {
             Ok(v) => probe_from(rel, &v),
-            Err(e) => Probe::Bad(failed_entry(rel, None, None, "failed", vec![e])),
+            Err(e) => Probe::Bad(Box::new(failed_entry(rel, None, None, "failed", vec![e]))),
         }
     });
     let mut owner: BTreeMap<String, String> = BTreeMap::new();
@@ -340,7 +340,7 @@ pub fn run(a: Args) -> Outcome {
     let mut todo: Vec<(String, PathBuf, String)> = Vec::new();
     for ((rel, folder), p) in sites.iter().zip(probes) {
         match p {
-            Probe::Bad(e) => entries.push(e),
+            Probe::Bad(e) => entries.push(*e),
             Probe::Id(id, name) => match owner.get(&id) {
                 Some(first) => entries.push(failed_entry(
                     rel,
@@ -474,14 +474,14 @@ fn probe_from(rel: &str, v: &Value) -> Probe {
         return Probe::Id(id.to_string(), name.to_string());
     }
     match serde_json::from_value::<SiteEntry>(v["entry"].clone()) {
-        Ok(e) => Probe::Bad(e),
-        Err(_) => Probe::Bad(failed_entry(
+        Ok(e) => Probe::Bad(Box::new(e)),
+        Err(_) => Probe::Bad(Box::new(failed_entry(
             rel,
             None,
             None,
             "failed",
             vec![answer_error(v)],
-        )),
+        ))),
     }
 }
 

@@ -75,7 +75,7 @@ pub fn parse(shown: &str, text: &str) -> Result<PortfolioMeta, String> {
         let bad =
             v.chars().count() > MAX_CHARS || v.chars().any(char::is_control) || v.trim().is_empty();
         if bad {
-            let offset = text.find(&format!("{key}")).unwrap_or(0);
+            let offset = text.find(key).unwrap_or(0);
             return Err(format!(
                 "{}: `{key}` must be 1 to {MAX_CHARS} printable characters\n  = hint: {HINT}",
                 at(offset)
