@@ -602,7 +602,7 @@ fn donor_table(site: &Site, probability: f64, entries: &[DonorEntry]) -> Table {
                         fmt1(e.outdoor_dbm),
                         fmt1(e.bel_p50_db),
                         fmt1(e.bel_p90_db),
-                        e.facade.as_ref().map(|f| format!("{}/{}/{}", fmt1(f.min_db), fmt1(f.mean_db), fmt1(f.max_db))).unwrap_or_else(|| "–".into()),
+                        e.facade.as_ref().map(|f| format!("{} / {} / {}", fmt1(f.min_db), fmt1(f.mean_db), fmt1(f.max_db))).unwrap_or_else(|| "–".into()),
                         fmt1(e.indoor_p2109_dbm),
                         e.indoor_facade_dbm.map(fmt1).unwrap_or_else(|| "–".into()),
                         fmt1(e.needed_dbm),
