@@ -12,6 +12,7 @@ use crate::raw::*;
 use crate::site::*;
 
 pub(crate) mod cad;
+mod floors;
 mod materials;
 mod meta;
 mod refs;
@@ -1065,119 +1066,8 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let mut lib = materials::site_materials(v, &raw, library);
 
     // ---- floors
-    let mut floors: Vec<Floor> = Vec::new();
-    let mut floor_ids = BTreeSet::new();
-    if raw.floors.is_empty() {
-        v.error(
-            whole.clone(),
-            "the site has no `[[floors]]`",
-            Some(
-                "add at least one `[[floors]]` with `id`, `elevation`, `height` and `outline`"
-                    .into(),
-            ),
-        );
-    }
     let mut used_materials: BTreeSet<String> = BTreeSet::new();
-    for rf in &raw.floors {
-        let span = rf.span();
-        let f = rf.get_ref();
-        let Some(idv) = &f.id else {
-            v.error(
-                span,
-                "`[[floors]]` entry is missing `id`",
-                Some("add `id = \"L1\"`".into()),
-            );
-            continue;
-        };
-        v.unique(&mut floor_ids, idv, "floor");
-        let what = format!("floor `{}`", idv.get_ref());
-        let elevation_m = f.elevation.as_ref().and_then(|e| v.coord(e));
-        if f.elevation.is_none() {
-            v.error(
-                span.clone(),
-                format!("{what} is missing `elevation`"),
-                Some("add `elevation = 0.0` (site units, finished floor level)".into()),
-            );
-        }
-        let height_m = match &f.height {
-            Some(h) => v.length(h, "height", false),
-            None => {
-                v.error(
-                    span.clone(),
-                    format!("{what} is missing `height`"),
-                    Some("add the floor-to-floor `height` in site units".into()),
-                );
-                None
-            }
-        };
-        let slab_material = match &f.slab_material {
-            Some(sm) => {
-                check_material(v, &lib, sm);
-                used_materials.insert(sm.get_ref().clone());
-                sm.get_ref().clone()
-            }
-            None => {
-                used_materials.insert("concrete-floor-slab".into());
-                "concrete-floor-slab".into()
-            }
-        };
-        let slab_thickness_m = match &f.slab_thickness {
-            Some(t) => v.length(t, "slab_thickness", false).unwrap_or(0.2),
-            None => 0.2,
-        };
-        let outline = match &f.outline {
-            Some(o) => {
-                let pts = v.points(o);
-                if let Some(p) = &pts {
-                    if p.len() < 3 || rfsite_geometry::polygon_area(p) <= 0.0 {
-                        v.error(
-                            o.span(),
-                            format!(
-                                "{what}: the outline needs at least 3 points enclosing an area"
-                            ),
-                            None,
-                        );
-                    }
-                }
-                pts.unwrap_or_default()
-            }
-            None => {
-                v.error(
-                    span.clone(),
-                    format!("{what} is missing `outline`"),
-                    Some("add `outline = [[0, 0], [40, 0], [40, 25], [0, 25]]`".into()),
-                );
-                Vec::new()
-            }
-        };
-        let plan_m_per_px = f
-            .plan_scale
-            .as_ref()
-            .and_then(|s| v.length(s, "plan_scale", false));
-        let plan_offset = f.plan_offset.as_ref().and_then(|p| v.point(p));
-        if f.plan_image.is_some() && f.plan_scale.is_none() {
-            v.error(span.clone(), format!("{what} names a `plan_image` but no `plan_scale`"), Some("add `plan_scale` (site units per image pixel) and `plan_offset = [x, y]` (the image's lower-left corner)".into()));
-        }
-        floors.push(Floor {
-            id: idv.get_ref().clone(),
-            name: f
-                .name
-                .as_ref()
-                .map(|n| n.get_ref().clone())
-                .unwrap_or_else(|| idv.get_ref().clone()),
-            elevation_m: elevation_m.unwrap_or(0.0),
-            height_m: height_m.unwrap_or(3.0),
-            slab_material,
-            slab_thickness_m,
-            outline,
-            parts: Vec::new(),
-            zones: Vec::new(),
-            plan_image: f.plan_image.as_ref().map(|p| p.get_ref().clone()),
-            plan_m_per_px: plan_m_per_px.unwrap_or(0.05),
-            plan_offset: plan_offset.unwrap_or_default(),
-            cad: f.cad.as_ref().and_then(|c| cad::cad_ref(v, c, &what)),
-        });
-    }
+    let mut floors = floors::floors(v, &raw, &lib, &mut used_materials);
     storey_warnings(v, &raw.floors, &floors);
     let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();
     let floor_of = |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| {
