@@ -16,8 +16,10 @@ mod floors;
 mod materials;
 mod meta;
 mod refs;
-mod walls;
+mod services;
+mod signals;
 mod twoway;
+mod walls;
 mod whatif;
 use refs::{floor_ref, service_ref, transmitter, Names};
 
@@ -1042,7 +1044,6 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let raw = parse_raw(v)?;
     plausible_numbers(v, &raw);
     count_limits(v, &raw);
-    let whole = 0..1;
 
     // ---- [site] and units first: every length depends on them.
     let (meta, units, north_deg) = meta::site_meta(v, &raw);
@@ -1071,9 +1072,6 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let mut floors = floors::floors(v, &raw, &lib, &mut used_materials);
     storey_warnings(v, &raw.floors, &floors);
     let floor_names: Vec<String> = floors.iter().map(|f| f.id.clone()).collect();
-    let floor_of = |v: &mut V<'_>, fid: &Option<S<String>>, span: Range<usize>, what: &str| {
-        floor_ref(v, &floor_names, fid, span, what)
-    };
 
     // ---- openings grouped by wall id (opening and donor ids are optional)
     let mut seen = BTreeSet::new();
@@ -1092,182 +1090,15 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     walls::walls(v, &raw, &known_walls, &mut floors, &mut used_materials);
 
     // ---- zones
-    let mut zone_ids = BTreeSet::new();
-    for rz in &raw.zones {
-        let span = rz.span();
-        let z = rz.get_ref();
-        let zid =
-            z.id.as_ref()
-                .map(|i| i.get_ref().clone())
-                .unwrap_or_default();
-        if let Some(i) = &z.id {
-            v.unique(&mut zone_ids, i, "zone");
-        } else {
-            v.error(span.clone(), "`[[zones]]` entry is missing `id`", None);
-        }
-        let what = format!("zone `{zid}`");
-        let fi = floor_of(v, &z.floor, span.clone(), &what);
-        let kind = match &z.kind {
-            Some(k) => match k.get_ref().as_str() {
-                "general" => Some(ZoneKind::General),
-                "critical" => Some(ZoneKind::Critical),
-                "excluded" => Some(ZoneKind::Excluded),
-                other => {
-                    v.error(
-                        k.span(),
-                        format!("unknown zone kind `{other}`"),
-                        Some("write `general`, `critical` or `excluded`".into()),
-                    );
-                    None
-                }
-            },
-            None => Some(ZoneKind::General),
-        };
-        let poly = match &z.polygon {
-            Some(p) => {
-                let pts = v.points(p);
-                if let Some(q) = &pts {
-                    if q.len() < 3 {
-                        v.error(
-                            p.span(),
-                            format!("{what}: a polygon needs at least 3 points"),
-                            None,
-                        );
-                        None
-                    } else {
-                        pts
-                    }
-                } else {
-                    None
-                }
-            }
-            None => {
-                v.error(span.clone(), format!("{what} is missing `polygon`"), None);
-                None
-            }
-        };
-        if let (Some(fi), Some(kind), Some(polygon)) = (fi, kind, poly) {
-            floors[fi].zones.push(Zone {
-                id: zid,
-                name: z
-                    .name
-                    .as_ref()
-                    .map(|n| n.get_ref().clone())
-                    .unwrap_or_default(),
-                kind,
-                polygon,
-            });
-        }
-    }
+    floors::zones(v, &raw, &floor_names, &mut floors);
 
     // ---- services
-    let mut services = Vec::new();
-    let mut service_ids = BTreeSet::new();
-    if raw.services.is_empty() {
-        v.error(
-            whole.clone(),
-            "the site has no `[[services]]`",
-            Some("add a `[[services]]` with `id`, `freq_mhz` and `threshold_dbm`".into()),
-        );
-    }
-    for rs in &raw.services {
-        let span = rs.span();
-        let s = rs.get_ref();
-        let Some(idv) = &s.id else {
-            v.error(span, "`[[services]]` entry is missing `id`", None);
-            continue;
-        };
-        v.unique(&mut service_ids, idv, "service");
-        let what = format!("service `{}`", idv.get_ref());
-        let freq = v
-            .req(
-                &s.freq_mhz,
-                span.clone(),
-                &what,
-                "freq_mhz",
-                "add the centre frequency, e.g. `freq_mhz = 770.0`",
-            )
-            .copied();
-        if let (Some(f), Some(fs)) = (freq, &s.freq_mhz) {
-            if !(1.0..=100_000.0).contains(&f) {
-                v.error(
-                    fs.span(),
-                    format!("frequency {f} MHz is outside 1 MHz to 100 GHz"),
-                    Some("`freq_mhz` is in MHz: 2.4 GHz is 2400".into()),
-                );
-            }
-        }
-        let thr = v
-            .req(
-                &s.threshold_dbm,
-                span.clone(),
-                &what,
-                "threshold_dbm",
-                "add e.g. `threshold_dbm = -95.0`",
-            )
-            .copied();
-        let tg = s
-            .target_general
-            .as_ref()
-            .and_then(|t| v.fraction(t, "target_general"))
-            .unwrap_or(0.95);
-        let tc = s
-            .target_critical
-            .as_ref()
-            .and_then(|t| v.fraction(t, "target_critical"))
-            .unwrap_or(0.99);
-        let metric = s
-            .metric
-            .as_ref()
-            .map(|m| m.get_ref().clone())
-            .unwrap_or_else(|| "rssi-dbm".into());
-        if metric != "rssi-dbm" {
-            if let Some(ms) = &s.metric {
-                v.error(
-                    ms.span(),
-                    format!("unknown metric `{metric}`"),
-                    Some(
-                        "this version grades `rssi-dbm` (received power at an isotropic antenna)"
-                            .into(),
-                    ),
-                );
-            }
-        }
-        let life_safety = s
-            .life_safety
-            .as_ref()
-            .map(|d| *d.get_ref())
-            .unwrap_or(false);
-        let (bandwidth_khz, noise_figure_db, receiver_floor_dbm) =
-            receiver_floor(v, s, life_safety);
-        services.push(Service {
-            id: idv.get_ref().clone(),
-            name: s
-                .name
-                .as_ref()
-                .map(|n| n.get_ref().clone())
-                .unwrap_or_else(|| idv.get_ref().clone()),
-            freq_mhz: freq.unwrap_or(1000.0),
-            metric,
-            threshold_dbm: thr.unwrap_or(-95.0),
-            target_general: tg,
-            target_critical: tc,
-            design_margin_db: s
-                .design_margin_db
-                .as_ref()
-                .map(|d| *d.get_ref())
-                .unwrap_or(0.0),
-            life_safety,
-            rules: s.rules.as_ref().map(|r| r.get_ref().clone()),
-            bandwidth_khz,
-            noise_figure_db,
-            receiver_floor_dbm,
-            uplink: twoway::uplink(v, &s.uplink, life_safety, idv.get_ref()),
-        });
-    }
+    let services = services::services(v, &raw);
     let svc_names: Vec<String> = services.iter().map(|s| s.id.clone()).collect();
-    let service_of = |v: &mut V<'_>, sid: &Option<S<String>>, span: Range<usize>, what: &str| {
-        service_ref(v, &svc_names, sid, span, what)
+
+    let names = Names {
+        floors: &floor_names,
+        services: &svc_names,
     };
 
     // ---- transmitters
@@ -1277,223 +1108,20 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         if let Some(idv) = &rt.get_ref().id {
             v.unique(&mut tx_ids, idv, "transmitter");
         }
-        let names = Names {
-            floors: &floor_names,
-            services: &svc_names,
-        };
         transmitters.extend(transmitter(v, rt, &floors, &names));
     }
 
     // ---- donors
-    let mut donors = Vec::new();
-    for rd in &raw.donors {
-        let span = rd.span();
-        let d = rd.get_ref();
-        let id =
-            d.id.as_ref()
-                .map(|i| i.get_ref().clone())
-                .unwrap_or_default();
-        let what = format!("donor `{id}`");
-        let svc = service_of(v, &d.service, span.clone(), &what);
-        let level = v
-            .req(
-                &d.level_dbm,
-                span.clone(),
-                &what,
-                "level_dbm",
-                "add the level measured outside the facade, e.g. `level_dbm = -70.0`",
-            )
-            .copied();
-        let mut dfloors = Vec::new();
-        match &d.floors {
-            Some(fs) => {
-                for f in fs.get_ref() {
-                    if let Some(i) = floor_of(v, &Some(f.clone()), f.span(), &what) {
-                        dfloors.push(floors[i].id.clone());
-                    }
-                }
-            }
-            None => dfloors = floor_names.clone(),
-        }
-        let facade = d
-            .facade
-            .as_ref()
-            .map(|f| f.get_ref().iter().map(|x| x.get_ref().clone()).collect())
-            .unwrap_or_default();
-        donor_angles(v, d, &what);
-        let serving_site = twoway::serving_site(v, d, &what);
-        let antenna = twoway::donor_antenna(v, d, &floor_names, &what);
-        let booster = twoway::booster(v, d, &what);
-        if let (Some(service), Some(level_dbm)) = (svc, level) {
-            donors.push(Donor {
-                id,
-                service,
-                level_dbm,
-                floors: dfloors,
-                facade,
-                elevation_deg: d
-                    .elevation_deg
-                    .as_ref()
-                    .map(|e| *e.get_ref())
-                    .unwrap_or(0.0),
-                direction_deg: d.direction_deg.as_ref().map(|e| *e.get_ref()),
-                serving_site,
-                antenna,
-                booster,
-            });
-        }
-    }
+    let donors = signals::donors(v, &raw, &names);
 
     // ---- surveys
-    let mut surveys = Vec::new();
-    for rs in &raw.surveys {
-        let s = rs.get_ref();
-        let Some(file) = &s.file else {
-            v.error(
-                rs.span(),
-                "`[[surveys]]` entry is missing `file`",
-                Some("add `file = \"survey/L1.csv\"` (relative to the site folder)".into()),
-            );
-            continue;
-        };
-        let floor = match &s.floor {
-            Some(_) => floor_of(v, &s.floor, rs.span(), "survey").map(|i| floors[i].id.clone()),
-            None => None,
-        };
-        let service = match &s.service {
-            Some(_) => service_of(v, &s.service, rs.span(), "survey"),
-            None => None,
-        };
-        let mut columns = BTreeMap::new();
-        if let Some(c) = &s.columns {
-            for (k, val) in c.get_ref() {
-                match val.as_str() {
-                    Some(x) => {
-                        columns.insert(k.clone(), x.to_string());
-                    }
-                    None => v.error(
-                        c.span(),
-                        format!("survey column `{k}` must name a CSV header as a string"),
-                        None,
-                    ),
-                }
-            }
-        }
-        let position_units = match &s.position_units {
-            Some(u) => Units::parse(u.get_ref()).unwrap_or_else(|| {
-                v.error(
-                    u.span(),
-                    format!("unknown units `{}`", u.get_ref()),
-                    Some("write `metres` or `feet`".into()),
-                );
-                units
-            }),
-            None => units,
-        };
-        surveys.push(Survey {
-            file: file.get_ref().clone(),
-            floor,
-            service,
-            columns,
-            position_units,
-        });
-    }
+    let surveys = signals::surveys(v, &raw, &names, units);
 
     grid_limits(v, &raw, &prediction, units, &floors, &transmitters);
 
-    // ---- probes
-    let mut probes = Vec::new();
-    let mut probe_spans: Vec<(String, Range<usize>)> = Vec::new();
-    for rp in &raw.probes {
-        let p = rp.get_ref();
-        let span = rp.span();
-        if let Some(m) = &p.material {
-            probe_spans.push((m.get_ref().clone(), span.clone()));
-        }
-        let Some(m) = &p.material else {
-            v.error(span, "`[[probes]]` entry is missing `material`", None);
-            continue;
-        };
-        if !check_material(v, &lib, m) {
-            continue;
-        }
-        let f = v
-            .req(
-                &p.freq_mhz,
-                span.clone(),
-                "probe",
-                "freq_mhz",
-                "add the probe frequency in MHz",
-            )
-            .copied();
-        let c = v
-            .req(
-                &p.clear_dbm,
-                span.clone(),
-                "probe",
-                "clear_dbm",
-                "add the level with a clear path",
-            )
-            .copied();
-        let t = v
-            .req(
-                &p.through_dbm,
-                span.clone(),
-                "probe",
-                "through_dbm",
-                "add the level through the material",
-            )
-            .copied();
-        if let (Some(freq_mhz), Some(clear_dbm), Some(through_dbm)) = (f, c, t) {
-            probes.push(Probe {
-                material: m.get_ref().clone(),
-                freq_mhz,
-                clear_dbm,
-                through_dbm,
-                distance_m: p
-                    .distance
-                    .as_ref()
-                    .and_then(|d| v.length(d, "distance", false)),
-                angle_deg: p.angle_deg.as_ref().map(|a| *a.get_ref()),
-                note: v.text(&p.note),
-            });
-        }
-    }
-
-    // ---- probe overrides: a probed material becomes a site measured-loss table at the
-    // probe frequencies (the library entry is kept for display).
-    if !probes.is_empty() {
-        let mut thickness: BTreeMap<String, f64> = BTreeMap::new();
-        for f in &floors {
-            thickness
-                .entry(f.slab_material.clone())
-                .or_insert(f.slab_thickness_m);
-            for p in &f.parts {
-                thickness.entry(p.material.clone()).or_insert(p.thickness_m);
-            }
-        }
-        let pts: Vec<crate::material::ProbePoint> = probes
-            .iter()
-            .map(|p| crate::material::ProbePoint {
-                material: p.material.clone(),
-                freq_mhz: p.freq_mhz,
-                loss_db: crate::material::probe_loss_db(p.clear_dbm, p.through_dbm),
-            })
-            .collect();
-        let freqs: Vec<f64> = services.iter().map(|s| s.freq_mhz).collect();
-        for note in lib.apply_probes(&pts, &freqs, &thickness) {
-            let span = probe_spans
-                .iter()
-                .find(|(m, _)| note.contains(&format!("`{m}`")))
-                .map(|(_, s)| s.clone())
-                .unwrap_or(whole.clone());
-            v.warn(
-                span,
-                note,
-                Some("add a probe at that frequency to override the library there too".into()),
-            );
-        }
-    }
+    // ---- probes, and their overrides of the library
+    let (probes, probe_spans) = signals::probes(v, &raw, &lib);
+    signals::apply_probes(v, &mut lib, &probes, &probe_spans, &floors, &services);
 
     // ---- what-if options
     let known = whatif::Known {
@@ -1508,21 +1136,7 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
     let what_ifs = whatif::what_ifs(v, &raw.what_if, &known);
 
     // ---- plugin tables
-    let mut plugin_options = BTreeMap::new();
-    if let Some(p) = &raw.plugins {
-        for (k, val) in p.get_ref() {
-            match val.as_table() {
-                Some(t) => {
-                    plugin_options.insert(k.clone(), t.clone());
-                }
-                None => v.error(
-                    p.span(),
-                    format!("`plugins.{k}` must be a table"),
-                    Some(format!("write `[plugins.{k}]` with its options below")),
-                ),
-            }
-        }
-    }
+    let plugin_options = plugin_tables(v, &raw);
 
     floors.sort_by(|a, b| {
         a.elevation_m
@@ -1554,6 +1168,26 @@ fn load_inner(v: &mut V<'_>, library: &MaterialLibrary) -> Option<Site> {
         load_warnings,
         what_ifs,
     })
+}
+
+/// `[plugins.<id>]` tables, kept as TOML for each plugin's own check.
+fn plugin_tables(v: &mut V<'_>, raw: &RawProject) -> BTreeMap<String, toml::Table> {
+    let mut plugin_options = BTreeMap::new();
+    if let Some(p) = &raw.plugins {
+        for (k, val) in p.get_ref() {
+            match val.as_table() {
+                Some(t) => {
+                    plugin_options.insert(k.clone(), t.clone());
+                }
+                None => v.error(
+                    p.span(),
+                    format!("`plugins.{k}` must be a table"),
+                    Some(format!("write `[plugins.{k}]` with its options below")),
+                ),
+            }
+        }
+    }
+    plugin_options
 }
 
 fn check_material(v: &mut V<'_>, lib: &MaterialLibrary, m: &S<String>) -> bool {

@@ -6,7 +6,7 @@ use std::ops::Range;
 
 use rfsite_geometry::Point2;
 
-use super::{cad, check_material, V};
+use super::{cad, check_material, floor_ref, V};
 use crate::material::MaterialLibrary;
 use crate::raw::*;
 use crate::site::*;
@@ -132,9 +132,7 @@ fn outline(v: &mut V<'_>, f: &RawFloor, span: Range<usize>, what: &str) -> Vec<P
                 if p.len() < 3 || rfsite_geometry::polygon_area(p) <= 0.0 {
                     v.error(
                         o.span(),
-                        format!(
-                            "{what}: the outline needs at least 3 points enclosing an area"
-                        ),
+                        format!("{what}: the outline needs at least 3 points enclosing an area"),
                         None,
                     );
                 }
@@ -150,4 +148,91 @@ fn outline(v: &mut V<'_>, f: &RawFloor, span: Range<usize>, what: &str) -> Vec<P
             Vec::new()
         }
     }
+}
+
+/// Every `[[zones]]` entry onto its floor.
+pub(super) fn zones(v: &mut V<'_>, raw: &RawProject, floor_names: &[String], floors: &mut [Floor]) {
+    let mut zone_ids = BTreeSet::new();
+    for rz in &raw.zones {
+        if let Some((fi, z)) = zone(v, rz, floor_names, &mut zone_ids) {
+            floors[fi].zones.push(z);
+        }
+    }
+}
+
+/// One zone and the index of its floor; None when it has an error (reported).
+fn zone(
+    v: &mut V<'_>,
+    rz: &S<RawZone>,
+    floor_names: &[String],
+    zone_ids: &mut BTreeSet<String>,
+) -> Option<(usize, Zone)> {
+    let span = rz.span();
+    let z = rz.get_ref();
+    let zid =
+        z.id.as_ref()
+            .map(|i| i.get_ref().clone())
+            .unwrap_or_default();
+    if let Some(i) = &z.id {
+        v.unique(zone_ids, i, "zone");
+    } else {
+        v.error(span.clone(), "`[[zones]]` entry is missing `id`", None);
+    }
+    let what = format!("zone `{zid}`");
+    let fi = floor_ref(v, floor_names, &z.floor, span.clone(), &what);
+    let kind = match &z.kind {
+        Some(k) => match k.get_ref().as_str() {
+            "general" => Some(ZoneKind::General),
+            "critical" => Some(ZoneKind::Critical),
+            "excluded" => Some(ZoneKind::Excluded),
+            other => {
+                v.error(
+                    k.span(),
+                    format!("unknown zone kind `{other}`"),
+                    Some("write `general`, `critical` or `excluded`".into()),
+                );
+                None
+            }
+        },
+        None => Some(ZoneKind::General),
+    };
+    let poly = match &z.polygon {
+        Some(p) => {
+            let pts = v.points(p);
+            if let Some(q) = &pts {
+                if q.len() < 3 {
+                    v.error(
+                        p.span(),
+                        format!("{what}: a polygon needs at least 3 points"),
+                        None,
+                    );
+                    None
+                } else {
+                    pts
+                }
+            } else {
+                None
+            }
+        }
+        None => {
+            v.error(span.clone(), format!("{what} is missing `polygon`"), None);
+            None
+        }
+    };
+    let (Some(fi), Some(kind), Some(polygon)) = (fi, kind, poly) else {
+        return None;
+    };
+    Some((
+        fi,
+        Zone {
+            id: zid,
+            name: z
+                .name
+                .as_ref()
+                .map(|n| n.get_ref().clone())
+                .unwrap_or_default(),
+            kind,
+            polygon,
+        },
+    ))
 }

@@ -8,7 +8,11 @@ use crate::material::{Material, MaterialClass, MaterialLibrary, MaterialModel};
 use crate::raw::*;
 
 /// The library with the site's materials added, each checked.
-pub(super) fn site_materials(v: &mut V<'_>, raw: &RawProject, library: &MaterialLibrary) -> MaterialLibrary {
+pub(super) fn site_materials(
+    v: &mut V<'_>,
+    raw: &RawProject,
+    library: &MaterialLibrary,
+) -> MaterialLibrary {
     let mut lib = library.clone();
     let mut seen = BTreeSet::new();
     for rm in &raw.materials {
@@ -64,7 +68,9 @@ fn site_material(
     if kinds.iter().filter(|k| **k).count() != 1 {
         v.error(
             idv.span(),
-            format!("material `{id}` needs exactly one of `loss_db`, `permittivity`, `itu` or `layers`"),
+            format!(
+                "material `{id}` needs exactly one of `loss_db`, `permittivity`, `itu` or `layers`"
+            ),
             Some("`loss_db = [[900, 4.0], [2400, 5.0]]` gives measured dB at MHz points".into()),
         );
         return None;
@@ -81,14 +87,14 @@ fn site_material(
         .map(|n| n.get_ref().clone())
         .unwrap_or_else(|| "site definition".into());
     Some(Material {
-            id,
-            name,
-            class,
-            source,
-            confidence: "site".into(),
-            model,
-            origin: "site".into(),
-            reference: None,
+        id,
+        name,
+        class,
+        source,
+        confidence: "site".into(),
+        model,
+        origin: "site".into(),
+        reference: None,
     })
 }
 
@@ -153,11 +159,18 @@ fn material_model(v: &mut V<'_>, r: &RawMaterial, lib: &MaterialLibrary) -> Opti
                 Some(_) => v.error(
                     mid.span(),
                     format!("layer material `{}` is not a slab material", mid.get_ref()),
-                    Some("layers need ITU-R P.2040 materials or site materials with `permittivity`".into()),
+                    Some(
+                        "layers need ITU-R P.2040 materials or site materials with `permittivity`"
+                            .into(),
+                    ),
                 ),
                 None => {
                     let hint = unknown_name_hint("material", mid.get_ref(), lib.ids());
-                    v.error(mid.span(), format!("unknown material `{}`", mid.get_ref()), Some(hint));
+                    v.error(
+                        mid.span(),
+                        format!("unknown material `{}`", mid.get_ref()),
+                        Some(hint),
+                    );
                 }
             }
         }

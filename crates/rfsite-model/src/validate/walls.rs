@@ -85,7 +85,6 @@ pub(super) fn walls(
             );
         }
     }
-
 }
 
 /// Openings by the wall id they name.
@@ -116,7 +115,14 @@ fn wall(
     let material = match &w.material {
         Some(m) => check_material(v, c.lib, m).then(|| m.get_ref().clone()),
         None => {
-            v.error(span.clone(), format!("{what} is missing `material`"), Some("add `material = \"plasterboard-partition\"`; `rfsite materials` lists them".into()));
+            v.error(
+                span.clone(),
+                format!("{what} is missing `material`"),
+                Some(
+                    "add `material = \"plasterboard-partition\"`; `rfsite materials` lists them"
+                        .into(),
+                ),
+            );
             None
         }
     };
@@ -257,22 +263,25 @@ fn opening(
     let (Some(off), Some(wd)) = (&or.offset, &or.width) else {
         v.error(
             o.span(),
-            format!(
-                "opening `{oid}` needs `offset` (from the wall's first point) and `width`"
-            ),
+            format!("opening `{oid}` needs `offset` (from the wall's first point) and `width`"),
             None,
         );
         return None;
     };
-    let (Some(off_m), Some(w_m)) =
-        (v.length(off, "offset", true), v.length(wd, "width", false))
+    let (Some(off_m), Some(w_m)) = (v.length(off, "offset", true), v.length(wd, "width", false))
     else {
         return None;
     };
     if off_m + w_m > polyline_len + 1e-9 {
         v.error(
             wd.span(),
-            format!("opening `{oid}` ends {:.2} {} along wall `{wid}`, which is only {:.2} {} long", c.units.from_m(off_m + w_m), c.units.label(), c.units.from_m(polyline_len), c.units.label()),
+            format!(
+                "opening `{oid}` ends {:.2} {} along wall `{wid}`, which is only {:.2} {} long",
+                c.units.from_m(off_m + w_m),
+                c.units.label(),
+                c.units.from_m(polyline_len),
+                c.units.label()
+            ),
             Some("reduce `offset` or `width`".into()),
         );
         return None;
