@@ -208,6 +208,17 @@ pub fn report(case: &Case, reps: usize, brute_sample: usize) {
     tower(reps);
 }
 
+/// Only the free-space and multi-wall timings of the target case (for profiling).
+pub fn floor_only(case: &Case, reps: usize) {
+    let site = site_of("bench.toml", &site_text(case));
+    let ((fs, fs_cpu), (mw, mw_cpu)) = time_both(&site, reps);
+    println!(
+        "free space only {fs:.3} s (cpu {fs_cpu:.2} s), multi-wall {mw:.3} s (cpu {mw_cpu:.2} s) = {:.2}x (cpu {:.2}x)",
+        mw / fs,
+        mw_cpu / fs_cpu
+    );
+}
+
 /// The 20-storey example: multi-wall (storey shadows) against free space only and against
 /// the same prediction with every path between storeys traced ray by ray (rfsite's own
 /// reference for those paths), whose layers it must equal.

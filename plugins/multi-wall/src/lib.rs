@@ -18,10 +18,9 @@ use rfsite_geometry::{split_at_junctions, Crossing, Grid, Point2, Scratch, Segme
 use rfsite_model::{Combine, CrossingLossFn};
 use rfsite_model::{MaterialClass, Site, Transmitter, ZoneKind};
 use rfsite_physics::cost231;
-use rfsite_physics::fspl;
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
-use rfsite_plugin_free_space::{floor_grid, gain_towards, PathLoss, MIN_DISTANCE_M, P3};
+use rfsite_plugin_free_space::{floor_grid, pair_terms, PathLoss, P3};
 use serde::Serialize;
 
 mod incremental;
@@ -1362,12 +1361,8 @@ impl<'a> FloorPredictor<'a> {
         let (t, t3) = (src.t, src.p3);
         let p = self.grid.point(i);
         let rx = P3 { p, z: self.rz };
-        let d = (p.distance(t3.p).powi(2) + (self.rz - t3.z).powi(2))
-            .sqrt()
-            .max(MIN_DISTANCE_M);
-        let free = t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
-            - fspl::fspl_db(losses.freq_mhz, d)
-            - (self.adjust)(self.service, d);
+        let (d, free) = pair_terms(t, t3, rx, losses.freq_mhz);
+        let free = free - (self.adjust)(self.service, d);
         let floor_db = self
             .scene
             .floor_db(self.service, t3, src.floor, rx, self.floor);
