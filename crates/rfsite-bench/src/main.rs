@@ -7,6 +7,7 @@
 //! cargo run --release -p rfsite-bench -- --profile-shadow # per-call shadow cost and counters
 //! cargo run --release -p rfsite-bench -- --slabs   # only the P.2040 slab-loss timings
 //! cargo run --release -p rfsite-bench -- --plugins # only the plugin-level prediction
+//! cargo run --release -p rfsite-bench -- --plugins-floor # only its 4 000-wall floor timings
 //! ```
 //!
 //! A synthetic office floor (`synth::office_floor`, fixed seeds) with one
@@ -414,6 +415,10 @@ fn main() {
     let quick = std::env::args().any(|a| a == "--quick");
     if std::env::args().any(|a| a == "--tower") {
         tower_estimate(if quick { 1 } else { 3 });
+        return;
+    }
+    if std::env::args().any(|a| a == "--plugins-floor") {
+        plugins::floor_only(&Case::new(4000, 0.25, 30), if quick { 1 } else { 3 });
         return;
     }
     if std::env::args().any(|a| a == "--plugins") {

@@ -22,7 +22,10 @@ use rfsite_geometry::{crossings_brute_force_ranked, split_at_junctions, Point2, 
 use rfsite_model::{load, MaterialLibrary, Site, SourceFile};
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin_free_space::{predict, NoExtra};
-use rfsite_plugin_multi_wall::{predict_grid, FloorPredictor, Scene, DEFAULT_MAX_CROSSING_LOSS_DB};
+use rfsite_plugin_multi_wall::{
+    predict_grid, predict_grid_traced, FloorPredictor, Scene, StoreyTrace,
+    DEFAULT_MAX_CROSSING_LOSS_DB,
+};
 use std::fmt::Write;
 use std::time::Instant;
 
@@ -205,7 +208,20 @@ pub fn report(case: &Case, reps: usize, brute_sample: usize) {
     tower(reps);
 }
 
-/// The 20-storey example: multi-wall against free space only.
+/// Only the free-space and multi-wall timings of the target case (for profiling).
+pub fn floor_only(case: &Case, reps: usize) {
+    let site = site_of("bench.toml", &site_text(case));
+    let ((fs, fs_cpu), (mw, mw_cpu)) = time_both(&site, reps);
+    println!(
+        "free space only {fs:.3} s (cpu {fs_cpu:.2} s), multi-wall {mw:.3} s (cpu {mw_cpu:.2} s) = {:.2}x (cpu {:.2}x)",
+        mw / fs,
+        mw_cpu / fs_cpu
+    );
+}
+
+/// The 20-storey example: multi-wall (storey shadows) against free space only and against
+/// the same prediction with every path between storeys traced ray by ray (rfsite's own
+/// reference for those paths), whose layers it must equal.
 fn tower(reps: usize) {
     let path = concat!(
         env!("CARGO_MANIFEST_DIR"),
@@ -216,9 +232,32 @@ fn tower(reps: usize) {
         return;
     };
     let site = site_of("tower-20-floors/site.toml", &text);
-    let ((fs, _), (mw, mw_cpu)) = time_both(&site, reps);
+    let ((fs, fs_cpu), (mw, mw_cpu)) = time_both(&site, reps);
+    let zero = |_: usize, _: f64| 0.0;
+    let mut per_ray = Vec::new();
+    let ray_s = best_of(reps.min(2), || {
+        let scene = Scene::new(&site, FLOOR_B, DEFAULT_MAX_CROSSING_LOSS_DB);
+        per_ray = predict_grid_traced(&site, "multi-wall", &scene, &zero, StoreyTrace::PerRay);
+    });
+    let ray_cpu = last_cpu();
+    let scene = Scene::new(&site, FLOOR_B, DEFAULT_MAX_CROSSING_LOSS_DB);
+    let layers = predict_grid(&site, "multi-wall", &scene);
+    let (mut max_diff, mut server_diff) = (0.0f64, 0usize);
+    for (a, b) in layers.iter().zip(&per_ray) {
+        for (x, y) in a.level_dbm.iter().zip(&b.level_dbm) {
+            if x.is_finite() || y.is_finite() {
+                max_diff = max_diff.max((*x as f64 - *y as f64).abs());
+            }
+        }
+        let servers = a.best_server.iter().zip(&b.best_server);
+        server_diff += servers.filter(|(x, y)| x != y).count();
+    }
     println!(
-        "  20-storey example: free space only {fs:.3} s, multi-wall {mw:.3} s (cpu {mw_cpu:.2} s) = {:.2}x free space only\n",
+        "  20-storey example: free space only {fs:.3} s (cpu {fs_cpu:.2} s), multi-wall {mw:.3} s (cpu {mw_cpu:.2} s) = {:.2}x free space only",
         mw / fs
+    );
+    println!(
+        "  20-storey example, paths between storeys ray by ray: {ray_s:.3} s (cpu {ray_cpu:.2} s) = {:.2}x the storey shadows; max level difference {max_diff:.1e} dB, best server differs at {server_diff} points\n",
+        ray_s / mw
     );
 }

@@ -114,22 +114,29 @@ impl ShadowScratch {
 }
 
 /// Loss of an angle-dependent wall, `f(wall, cos_incidence)` in dB.
-pub type AngleLoss<'a> = &'a (dyn Fn(usize, f64) -> f32 + Sync);
+pub type AngleLoss<'a, L = f32> = &'a (dyn Fn(usize, f64) -> L + Sync);
+
+/// A wall loss in dB: `f32`, or `f64` where the sums must match a per-ray sum
+/// of the same `f64` losses to rounding.
+pub trait Loss: Copy + Into<f64> + Send + Sync {}
+
+impl Loss for f32 {}
+impl Loss for f64 {}
 
 /// Losses of the walls for [`accumulate_path_part`].
 #[derive(Clone, Copy)]
-pub struct WallLosses<'a> {
+pub struct WallLosses<'a, L: Loss = f32> {
     /// Loss of each wall, dB, used at every incidence for walls that are not
     /// angle dependent. One entry per wall.
-    pub constant_db: &'a [f32],
+    pub constant_db: &'a [L],
     /// For angle-dependent walls: which walls (one flag per wall) and their
     /// loss `f(wall, cos_incidence)` in dB, `cos_incidence` as in
     /// [`Crossing::cos_incidence`](crate::Crossing). These walls cost one
     /// call per crossed grid point instead of one per row.
-    pub by_angle: Option<(&'a [bool], AngleLoss<'a>)>,
+    pub by_angle: Option<(&'a [bool], AngleLoss<'a, L>)>,
 }
 
-impl std::fmt::Debug for WallLosses<'_> {
+impl<L: Loss> std::fmt::Debug for WallLosses<'_, L> {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         f.debug_struct("WallLosses")
             .field("constant_db", &self.constant_db.len())
@@ -138,15 +145,15 @@ impl std::fmt::Debug for WallLosses<'_> {
     }
 }
 
-impl WallLosses<'_> {
+impl<L: Loss> WallLosses<'_, L> {
     fn angle_dependent(&self, wall: usize) -> bool {
         matches!(self.by_angle, Some((m, _)) if m[wall])
     }
 
     fn eval(&self, wall: usize, cos: f64) -> f64 {
         match self.by_angle {
-            Some((m, f)) if m[wall] => f(wall, cos) as f64,
-            _ => self.constant_db[wall] as f64,
+            Some((m, f)) if m[wall] => f(wall, cos).into(),
+            _ => self.constant_db[wall].into(),
         }
     }
 }
@@ -189,19 +196,60 @@ pub fn accumulate_path_part(
     grid: &Grid,
     walls: &[Segment],
     losses: &WallLosses<'_>,
-    (t0, t1): (f64, f64),
+    part: (f64, f64),
     out: &mut [f32],
     scratch: &mut ShadowScratch,
 ) {
+    assert_eq!(out.len(), grid.len(), "one output value per grid point");
+    if path_part(tx, grid, walls, losses, part, scratch) {
+        for (o, a) in out.iter_mut().zip(&scratch.acc) {
+            *o += *a as f32;
+        }
+    }
+}
+
+/// As [`accumulate_path_part`], adding to `f64` values and with `f32` or
+/// `f64` losses: with `f64` losses the sums of several parts (the storeys of a
+/// path between floors) equal a per-ray sum of the same crossings to
+/// rounding.
+///
+/// # Panics
+/// As [`accumulate_path_part`].
+pub fn accumulate_path_part_f64<L: Loss>(
+    tx: Point2,
+    grid: &Grid,
+    walls: &[Segment],
+    losses: &WallLosses<'_, L>,
+    part: (f64, f64),
+    out: &mut [f64],
+    scratch: &mut ShadowScratch,
+) {
+    assert_eq!(out.len(), grid.len(), "one output value per grid point");
+    if path_part(tx, grid, walls, losses, part, scratch) {
+        for (o, a) in out.iter_mut().zip(&scratch.acc) {
+            *o += *a;
+        }
+    }
+}
+
+/// The losses of the part `t0 < t < t1` of every path into `scratch.acc`;
+/// false if nothing was added (an empty part, grid or transmitter).
+fn path_part<L: Loss>(
+    tx: Point2,
+    grid: &Grid,
+    walls: &[Segment],
+    losses: &WallLosses<'_, L>,
+    (t0, t1): (f64, f64),
+    scratch: &mut ShadowScratch,
+) -> bool {
     assert_eq!(losses.constant_db.len(), walls.len(), "one loss per wall");
     if let Some((m, _)) = losses.by_angle {
         assert_eq!(m.len(), walls.len(), "one angle flag per wall");
     }
-    assert_eq!(out.len(), grid.len(), "one output value per grid point");
     scratch.stats = ShadowStats::default();
     let ok = t0.is_finite() && t1.is_finite() && t0 >= 0.0 && t1 <= 1.0 && t0 < t1;
     if !ok || grid.is_empty() || !tx.is_finite() {
-        return;
+        return false;
     }
     let n = grid.len();
     let mut acc = std::mem::take(&mut scratch.acc);
@@ -226,19 +274,17 @@ pub fn accumulate_path_part(
         };
         loss_pass(tx, grid, ws, losses, sign, &mut acc, scratch);
     }
-    for (o, a) in out.iter_mut().zip(&acc) {
-        *o += *a as f32;
-    }
     scratch.acc = acc;
     scratch.scaled = scaled;
+    true
 }
 
 /// One shadow pass adding `sign ×` the losses of the crossed walls to `acc`.
-fn loss_pass(
+fn loss_pass<L: Loss>(
     tx: Point2,
     grid: &Grid,
     walls: &[Segment],
-    losses: &WallLosses<'_>,
+    losses: &WallLosses<'_, L>,
     sign: f64,
     acc: &mut [f64],
     scratch: &mut ShadowScratch,
@@ -265,10 +311,10 @@ fn loss_pass(
                 let dx = grid.origin.x + (ix as f64 + 0.5) * step - tx.x;
                 let cos =
                     ((dx * e.y - dy * e.x).abs() * inv_e / (dx * dx + dy * dy).sqrt()).min(1.0);
-                *v += sign * f(wall, cos) as f64;
+                *v += sign * f(wall, cos).into();
             }
         } else {
-            let l = sign * losses.constant_db[wall] as f64;
+            let l = sign * losses.constant_db[wall].into();
             diff[iy * stride + ix0] += l;
             diff[iy * stride + ix1 + 1] -= l;
         }

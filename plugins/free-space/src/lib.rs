@@ -146,6 +146,20 @@ pub fn gain_towards(tx: &Transmitter, tx3: P3, rx: P3) -> f64 {
     }
 }
 
+/// The pair terms of one transmitter-receiver path, shared by every model that needs them
+/// (free space, multi-wall): the 3D distance (m, at least [`MIN_DISTANCE_M`]) and the
+/// free-space level in dBm, EIRP with the pattern's gain towards the receiver less the
+/// P.525 loss over that distance at `freq_mhz`.
+#[inline]
+pub fn pair_terms(t: &Transmitter, tx3: P3, rx: P3, freq_mhz: f64) -> (f64, f64) {
+    let d = (rx.p.distance(tx3.p).powi(2) + (rx.z - tx3.z).powi(2))
+        .sqrt()
+        .max(MIN_DISTANCE_M);
+    let level =
+        t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, tx3, rx) - fspl::fspl_db(freq_mhz, d);
+    (d, level)
+}
+
 /// Predicts one layer per floor and service with free space plus `extra`.
 pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<CoverageLayer> {
     let mut layers = Vec::new();
@@ -181,13 +195,8 @@ pub fn predict<L: PathLoss>(site: &Site, model: &str, extra: &L) -> Vec<Coverage
                             let mut best_i = u16::MAX;
                             let mut sum_mw = 0.0;
                             for (k, (t, tfi, t3)) in txs.iter().enumerate() {
-                                let d = (p.distance(t3.p).powi(2) + (rz - t3.z).powi(2))
-                                    .sqrt()
-                                    .max(MIN_DISTANCE_M);
-                                let level = t.eirp_dbm() - t.antenna_gain_dbi
-                                    + gain_towards(t, *t3, rx)
-                                    - fspl::fspl_db(svc.freq_mhz, d)
-                                    - extra.extra_db(scratch, si, *t3, *tfi, rx, fi);
+                                let (_, free) = pair_terms(t, *t3, rx, svc.freq_mhz);
+                                let level = free - extra.extra_db(scratch, si, *t3, *tfi, rx, fi);
                                 if level > best {
                                     best = level;
                                     best_i = k as u16;

@@ -11,15 +11,16 @@
 //! inside each storey is tested against that storey's walls only.
 
 use rayon::prelude::*;
-use rfsite_geometry::shadow::{accumulate_path_part, ShadowScratch, WallLosses};
+use rfsite_geometry::shadow::{
+    accumulate_path_part, accumulate_path_part_f64, ShadowScratch, WallLosses,
+};
 use rfsite_geometry::{split_at_junctions, Crossing, Grid, Point2, Scratch, Segment, WallIndex};
 use rfsite_model::{Combine, CrossingLossFn};
 use rfsite_model::{MaterialClass, Site, Transmitter, ZoneKind};
 use rfsite_physics::cost231;
-use rfsite_physics::fspl;
 use rfsite_physics::p2040::Polarization;
 use rfsite_plugin::*;
-use rfsite_plugin_free_space::{floor_grid, gain_towards, PathLoss, MIN_DISTANCE_M, P3};
+use rfsite_plugin_free_space::{floor_grid, pair_terms, PathLoss, P3};
 use serde::Serialize;
 
 mod incremental;
@@ -271,18 +272,9 @@ impl Scene {
         let dz = rx.z - tx.z;
         for k in lo..=hi {
             let fs = &self.floors[k];
-            let (mut t0, mut t1) = if dz.abs() < 1e-12 {
-                (0.0, 1.0)
-            } else {
-                ((fs.bottom_m - tx.z) / dz, (fs.top_m - tx.z) / dz)
-            };
-            if t0 > t1 {
-                std::mem::swap(&mut t0, &mut t1);
-            }
-            let (t0, t1) = (t0.max(0.0), t1.min(1.0));
-            if t1 <= t0 {
+            let Some((t0, t1)) = storey_range(fs, tx.z, dz) else {
                 continue;
-            }
+            };
             let at = |t: f64| {
                 Point2::new(
                     tx.p.x + t * (rx.p.x - tx.p.x),
@@ -732,6 +724,18 @@ pub fn predict_grid_adjusted(
     scene: &Scene,
     adjust: &(dyn Fn(usize, f64) -> f64 + Sync),
 ) -> Vec<CoverageLayer> {
+    predict_grid_traced(site, model, scene, adjust, StoreyTrace::Auto)
+}
+
+/// As [`predict_grid_adjusted`], the walls of paths between storeys found by `trace` (for
+/// benchmarks and tests: every choice gives the same layers).
+pub fn predict_grid_traced(
+    site: &Site,
+    model: &str,
+    scene: &Scene,
+    adjust: &(dyn Fn(usize, f64) -> f64 + Sync),
+    trace: StoreyTrace,
+) -> Vec<CoverageLayer> {
     let mut layers = Vec::new();
     for (si, svc) in site.services.iter().enumerate() {
         // The service's transmitters on a known floor, in site order: the server order.
@@ -741,7 +745,7 @@ pub fn predict_grid_adjusted(
             .filter(|t| t.service == svc.id && site.floor_index(&t.floor).is_some())
             .collect();
         for (fi, floor) in site.floors.iter().enumerate() {
-            let fp = FloorPredictor::new(site, scene, si, fi, adjust);
+            let fp = FloorPredictor::new(site, scene, si, fi, adjust).with_storey_trace(trace);
             let (level_dbm, best_server) = floor_levels(&fp, &txs);
             layers.push(CoverageLayer {
                 floor: floor.id.clone(),
@@ -765,7 +769,10 @@ fn floor_levels(fp: &FloorPredictor<'_>, txs: &[&Transmitter]) -> (Vec<f32>, Vec
         return (vec![f32::NAN; n], vec![u16::MAX; n]);
     }
     let combine = fp.site.prediction.combine;
-    let per_tx = levels_of_all(fp, txs, combine == Combine::Strongest);
+    if combine == Combine::Strongest {
+        return strongest_of_all(fp, txs);
+    }
+    let per_tx = levels_of_all(fp, txs, false);
     let mut level_dbm = vec![f32::NAN; n];
     let mut best_server = vec![u16::MAX; n];
     let points = level_dbm.iter_mut().zip(best_server.iter_mut());
@@ -775,6 +782,74 @@ fn floor_levels(fp: &FloorPredictor<'_>, txs: &[&Transmitter]) -> (Vec<f32>, Vec
         }
     }
     (level_dbm, best_server)
+}
+
+/// The strongest level and server at every point, as [`combine_at`] picks them from
+/// [`levels_of_all`] (the same-floor transmitters first, the others bounded by their best),
+/// each transmitter's levels folded into the best so far as soon as they are computed
+/// instead of being kept. The fold keeps the larger level and, of equal finite levels,
+/// the lower server index, so the result does not depend on the order of the folds.
+fn strongest_of_all(fp: &FloorPredictor<'_>, txs: &[&Transmitter]) -> (Vec<f32>, Vec<u16>) {
+    let (same, other): (Vec<usize>, Vec<usize>) = (0..txs.len())
+        .partition(|&k| txs.get(k).and_then(|t| fp.site.floor_index(&t.floor)) == Some(fp.floor));
+    let (mut level, mut server) = fold_best(fp, txs, &same, None);
+    let (l2, s2) = fold_best(fp, txs, &other, Some(&level));
+    merge_best((&mut level, &mut server), (&l2, &s2));
+    for ((l, s), &inside) in level.iter_mut().zip(server.iter_mut()).zip(fp.inside()) {
+        if !inside {
+            (*l, *s) = (f32::NAN, u16::MAX);
+        }
+    }
+    (level, server)
+}
+
+/// The best level and server (index into `txs`) over the transmitters `txs[k]`, `k` in
+/// `ks`: -inf and no server where none gives a finite level.
+fn fold_best(
+    fp: &FloorPredictor<'_>,
+    txs: &[&Transmitter],
+    ks: &[usize],
+    bound: Option<&[f32]>,
+) -> (Vec<f32>, Vec<u16>) {
+    let n = fp.grid().len();
+    let empty = || (vec![f32::NEG_INFINITY; n], vec![u16::MAX; n]);
+    ks.par_iter()
+        .fold(
+            || (FloorScratch::new(), empty()),
+            |(mut sc, (mut bl, mut bs)), &k| {
+                if let Some(t) = txs.get(k) {
+                    let lv = fp.levels_with(t, bound, &mut sc);
+                    for ((b, s), &l) in bl.iter_mut().zip(bs.iter_mut()).zip(&lv) {
+                        if better(l, k as u16, *b, *s) {
+                            (*b, *s) = (l, k as u16);
+                        }
+                    }
+                }
+                (sc, (bl, bs))
+            },
+        )
+        .map(|(_, best)| best)
+        .reduce(empty, |(mut l1, mut s1), (l2, s2)| {
+            merge_best((&mut l1, &mut s1), (&l2, &s2));
+            (l1, s1)
+        })
+}
+
+/// Whether level `l` of server `k` beats the best `b` of server `s`: larger, or equal,
+/// finite and of a lower index (the first of equals, as [`combine_at`] picks it).
+#[inline]
+fn better(l: f32, k: u16, b: f32, s: u16) -> bool {
+    l > b || (l == b && l > f32::NEG_INFINITY && k < s)
+}
+
+/// Folds the best levels and servers `other` into `best`.
+fn merge_best(best: (&mut [f32], &mut [u16]), other: (&[f32], &[u16])) {
+    let pairs = best.0.iter_mut().zip(best.1.iter_mut());
+    for ((b, s), (&l, &k)) in pairs.zip(other.0.iter().zip(other.1)) {
+        if better(l, k, *b, *s) {
+            (*b, *s) = (l, k);
+        }
+    }
 }
 
 /// The level of point `i` from the levels of each transmitter: the strongest server's, or
@@ -842,11 +917,48 @@ fn par_levels(
         .collect()
 }
 
+/// How [`FloorPredictor::levels_traced`] finds the walls of paths between storeys. All
+/// three give the same walls (tested on the demo and the tower).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StoreyTrace {
+    /// Storey shadows when at least one point in 16 of the grid is left to trace (the
+    /// strongest-server bound prunes the rest), else ray by ray.
+    Auto,
+    /// Ray by ray through each storey's wall index: the reference.
+    PerRay,
+    /// Each storey's wall shadows over the part of the paths inside it, for the whole grid.
+    Shadows,
+}
+
+/// [`StoreyTrace::Auto`] uses storey shadows when at least one grid point in this many is
+/// left to trace:
+/// a shadow pass over a storey costs about as much as tracing a few per cent of the grid
+/// ray by ray (measured on `examples/tower-20-floors`).
+const STOREY_SHADOW_MIN_SHARE: usize = 16;
+
+/// The range `[t0, t1]` of the path parameter (0 at the transmitter at height `tz`, 1 at
+/// the receiver `dz` higher) inside storey `fs`, clipped to the path; None if the path
+/// does not pass through it.
+fn storey_range(fs: &FloorScene, tz: f64, dz: f64) -> Option<(f64, f64)> {
+    let (mut t0, mut t1) = if dz.abs() < 1e-12 {
+        (0.0, 1.0)
+    } else {
+        ((fs.bottom_m - tz) / dz, (fs.top_m - tz) / dz)
+    };
+    if t0 > t1 {
+        std::mem::swap(&mut t0, &mut t1);
+    }
+    let (t0, t1) = (t0.max(0.0), t1.min(1.0));
+    (t1 > t0).then_some((t0, t1))
+}
+
 /// Reusable buffers for [`FloorPredictor::levels_with`]. Their contents never change the
 /// levels.
 pub struct FloorScratch {
     shadow: ShadowScratch,
     loss: Vec<f32>,
+    /// Wall losses of paths between storeys, summed over the storeys, dB.
+    storey_loss: Vec<f64>,
     rays: (Scratch, Vec<Crossing>),
 }
 
@@ -856,6 +968,7 @@ impl FloorScratch {
         FloorScratch {
             shadow: ShadowScratch::default(),
             loss: Vec::new(),
+            storey_loss: Vec::new(),
             rays: (Scratch::new(), Vec::new()),
         }
     }
@@ -899,6 +1012,56 @@ impl<'a> FloorLosses<'a> {
     }
 }
 
+/// The walls of one storey for a service, as the shadow functions take them.
+struct StoreyWalls<'a> {
+    losses: FloorLosses<'a>,
+    /// Loss of each piece that costs the same at every angle (0 for the others), dB, in
+    /// double precision as the per-ray trace charges it.
+    constant_db: Vec<f64>,
+    /// Which pieces' loss depends on the angle.
+    by_angle: Vec<bool>,
+}
+
+impl<'a> StoreyWalls<'a> {
+    fn of(site: &Site, scene: &'a Scene, service: usize, floor: usize) -> Option<Self> {
+        let losses = FloorLosses::of(site, scene, service, floor)?;
+        let constant_db = (losses.parts.iter())
+            .map(|k| k.constant_db().unwrap_or(0.0))
+            .collect();
+        let by_angle = (losses.parts.iter())
+            .map(|k| k.constant_db().is_none())
+            .collect();
+        Some(StoreyWalls {
+            losses,
+            constant_db,
+            by_angle,
+        })
+    }
+
+    /// Adds the losses of the storey's walls crossed by the part `part` of every path from
+    /// `tx` to the points of `grid`.
+    fn add_part(
+        &self,
+        tx: Point2,
+        grid: &Grid,
+        part: (f64, f64),
+        out: &mut [f64],
+        shadow: &mut ShadowScratch,
+    ) {
+        let parts = &self.losses.parts;
+        let f = |w: usize, c: f64| parts.get(w).map_or(0.0, |k| k.eval(c));
+        let wl = WallLosses {
+            constant_db: &self.constant_db[..],
+            by_angle: if self.by_angle.iter().any(|m| *m) {
+                Some((&self.by_angle[..], &f))
+            } else {
+                None
+            },
+        };
+        accumulate_path_part_f64(tx, grid, self.losses.walls, &wl, part, out, shadow);
+    }
+}
+
 /// A transmitter placed in the building: its floor index and antenna position.
 #[derive(Clone, Copy)]
 struct Source<'t> {
@@ -926,6 +1089,11 @@ pub struct FloorPredictor<'a> {
     by_angle: Vec<bool>,
     /// Receiver height above the datum, m.
     rz: f64,
+    /// The walls of each storey for the service, built on first use by a path between
+    /// storeys (None if the scene was not built from the site).
+    storeys: Vec<std::sync::OnceLock<Option<StoreyWalls<'a>>>>,
+    /// How paths between storeys are traced.
+    trace: StoreyTrace,
 }
 
 impl<'a> FloorPredictor<'a> {
@@ -958,7 +1126,18 @@ impl<'a> FloorPredictor<'a> {
             grid,
             inside,
             rz,
+            storeys: (0..scene.floors.len())
+                .map(|_| Default::default())
+                .collect(),
+            trace: StoreyTrace::Auto,
         }
+    }
+
+    /// The same predictor, paths between storeys traced by `trace` (default
+    /// [`StoreyTrace::Auto`]).
+    pub fn with_storey_trace(mut self, trace: StoreyTrace) -> Self {
+        self.trace = trace;
+        self
     }
 
     /// The floor's prediction grid.
@@ -994,7 +1173,24 @@ impl<'a> FloorPredictor<'a> {
         if src.floor == self.floor {
             self.same_floor_levels(losses, src, scratch)
         } else {
-            self.other_floor_levels(losses, src, bound, &mut scratch.rays)
+            self.other_floor_levels(losses, src, bound, scratch, self.trace)
+        }
+    }
+
+    /// As [`FloorPredictor::levels`], the walls of paths between storeys found by `trace`
+    /// (to compare the methods; [`StoreyTrace::PerRay`] is the reference).
+    pub fn levels_traced(
+        &self,
+        t: &Transmitter,
+        bound: Option<&[f32]>,
+        trace: StoreyTrace,
+    ) -> Vec<f32> {
+        let scratch = &mut FloorScratch::new();
+        match (&self.losses, self.source(t)) {
+            (Some(losses), Some(src)) if src.floor != self.floor => {
+                self.other_floor_levels(losses, src, bound, scratch, trace)
+            }
+            _ => self.levels_with(t, bound, scratch),
         }
     }
 
@@ -1048,33 +1244,115 @@ impl<'a> FloorPredictor<'a> {
             .collect()
     }
 
-    /// Transmitter on another floor: per ray. With a `bound`, a point where the wall-free
-    /// level cannot beat it gets -inf, its walls not traced (exact for the strongest server).
+    /// Transmitter on another floor. With a `bound`, a point where the wall-free level
+    /// cannot beat it gets -inf, its walls not traced (exact for the strongest server). The
+    /// other points' walls come from the storey shadows ([`FloorPredictor::storey_walls`])
+    /// when enough of them are left, else ray by ray: the same walls either way (tested on
+    /// the examples).
     fn other_floor_levels(
         &self,
         losses: &FloorLosses<'_>,
         src: Source<'_>,
         bound: Option<&[f32]>,
-        sc: &mut (Scratch, Vec<Crossing>),
+        sc: &mut FloorScratch,
+        trace: StoreyTrace,
     ) -> Vec<f32> {
-        let ray_level = |i: usize, sc: &mut (Scratch, Vec<Crossing>)| -> f32 {
-            if !self.inside.get(i).copied().unwrap_or(false) {
-                return f32::NAN;
-            }
-            let b = self.base(losses, src, i);
-            if let Some(&best) = bound.and_then(|bd| bd.get(i)) {
-                if (self.level(b, 0.0) as f32) <= best {
-                    return f32::NEG_INFINITY;
+        let n = self.grid.len();
+        // Free-space level and floor loss of each point left to trace; None outside the
+        // outline and where the bound already wins.
+        let bases: Vec<Option<(f64, f64)>> = (0..n)
+            .map(|i| {
+                if !self.inside.get(i).copied().unwrap_or(false) {
+                    return None;
                 }
-            }
-            let rx = P3 {
-                p: self.grid.point(i),
-                z: self.rz,
-            };
-            let walls = (self.scene).walls_db(sc, self.service, src.p3, src.floor, rx, self.floor);
-            self.level(b, walls) as f32
+                let b = self.base(losses, src, i);
+                match bound.and_then(|bd| bd.get(i)) {
+                    Some(&best) if (self.level(b, 0.0) as f32) <= best => None,
+                    _ => Some(b),
+                }
+            })
+            .collect();
+        let traced = bases.iter().filter(|b| b.is_some()).count();
+        let outside = |i: usize| match self.inside.get(i).copied().unwrap_or(false) {
+            true => f32::NEG_INFINITY,
+            false => f32::NAN,
         };
-        (0..self.grid.len()).map(|i| ray_level(i, sc)).collect()
+        let shadows = match trace {
+            StoreyTrace::PerRay => false,
+            StoreyTrace::Shadows => traced > 0 && self.storey_walls(src, sc),
+            StoreyTrace::Auto => {
+                traced > 0 && traced * STOREY_SHADOW_MIN_SHARE >= n && self.storey_walls(src, sc)
+            }
+        };
+        if shadows {
+            return (bases.iter().zip(&sc.storey_loss).enumerate())
+                .map(|(i, (b, &walls))| {
+                    b.map_or_else(|| outside(i), |b| self.level(b, walls) as f32)
+                })
+                .collect();
+        }
+        let rays = &mut sc.rays;
+        (bases.iter().enumerate())
+            .map(|(i, b)| match b {
+                None => outside(i),
+                Some(b) => {
+                    let rx = P3 {
+                        p: self.grid.point(i),
+                        z: self.rz,
+                    };
+                    let walls = (self.scene).walls_db(
+                        rays,
+                        self.service,
+                        src.p3,
+                        src.floor,
+                        rx,
+                        self.floor,
+                    );
+                    self.level(*b, walls) as f32
+                }
+            })
+            .collect()
+    }
+
+    /// The wall losses of the paths from `src` (on another floor) to every grid point, into
+    /// `sc.storey_loss`: each storey between them adds its walls' shadows over the part of
+    /// the paths inside it. The receiver height is the same at every point, so each part
+    /// is one range of the path parameter for the whole grid, and the crossings kept are
+    /// exactly those of the per-ray trace (`Scene::for_each_crossing`): the half-open range
+    /// `[t0 - CUT_TOL, t1 - CUT_TOL)` of each storey. False if a storey's walls are
+    /// unknown (a scene not built from the site).
+    fn storey_walls(&self, src: Source<'_>, sc: &mut FloorScratch) -> bool {
+        let (lo, hi) = (src.floor.min(self.floor), src.floor.max(self.floor));
+        sc.storey_loss.clear();
+        sc.storey_loss.resize(self.grid.len(), 0.0);
+        let (tz, dz) = (src.p3.z, self.rz - src.p3.z);
+        for k in lo..=hi {
+            let Some(fs) = self.scene.floors.get(k) else {
+                return false;
+            };
+            let cell = self
+                .storeys
+                .get(k)
+                .map(|c| c.get_or_init(|| StoreyWalls::of(self.site, self.scene, self.service, k)));
+            let Some(Some(walls)) = cell else {
+                return false;
+            };
+            let Some((t0, t1)) = storey_range(fs, tz, dz) else {
+                continue;
+            };
+            // The per-ray trace keeps t in [t0 - CUT_TOL, t1 - CUT_TOL); the shadows count
+            // the open range (p0, p1), and no crossing lies exactly on p0 or p1 but where
+            // a wall meets the path within a tolerance of a cut, which both place alike.
+            let p0 = if t0 <= 0.0 {
+                0.0
+            } else {
+                (t0 - CUT_TOL).max(0.0)
+            };
+            let p1 = t1 - CUT_TOL;
+            let (grid, out) = (&self.grid, &mut sc.storey_loss[..]);
+            walls.add_part(src.p3.p, grid, (p0, p1), out, &mut sc.shadow);
+        }
+        true
     }
 
     /// Free-space level (with the antenna gain and the adjustment) and floor loss of the
@@ -1083,12 +1361,8 @@ impl<'a> FloorPredictor<'a> {
         let (t, t3) = (src.t, src.p3);
         let p = self.grid.point(i);
         let rx = P3 { p, z: self.rz };
-        let d = (p.distance(t3.p).powi(2) + (self.rz - t3.z).powi(2))
-            .sqrt()
-            .max(MIN_DISTANCE_M);
-        let free = t.eirp_dbm() - t.antenna_gain_dbi + gain_towards(t, t3, rx)
-            - fspl::fspl_db(losses.freq_mhz, d)
-            - (self.adjust)(self.service, d);
+        let (d, free) = pair_terms(t, t3, rx, losses.freq_mhz);
+        let free = free - (self.adjust)(self.service, d);
         let floor_db = self
             .scene
             .floor_db(self.service, t3, src.floor, rx, self.floor);
