@@ -166,7 +166,6 @@ pub fn coverage_map(
     let plan = backdrop.image;
     let floor = site.floor(&layer.floor).ok_or("floor not found")?;
     let u = site.units;
-    let g = layer.grid.to_grid();
     let (min, max) = rfsite_geometry::polygon_bbox(&floor.outline);
     let pad = (max.x - min.x).max(max.y - min.y) * 0.03;
     let (x0, x1) = (u.from_m(min.x - pad), u.from_m(max.x + pad));
@@ -186,7 +185,7 @@ pub fn coverage_map(
         )),
     );
     let mut svg = String::new();
-    let mut plan_svg: Option<String> = None;
+    let plan_svg: Option<String>;
     let mut linework_svg: Option<String> = None;
     {
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
@@ -196,52 +195,8 @@ pub fn coverage_map(
         let unit = u.label();
         let mut chart = plan_chart(&left, x0..x1, y0..y1, u.label())?;
         // Background plan image: its pixel rectangle on the chart.
-        if let (Some(bytes), Some(floor_ref)) = (plan, Some(floor)) {
-            if let Some((wpx, hpx, mime)) = image_size(bytes) {
-                let s = floor_ref.plan_m_per_px;
-                let (ox, oy) = (floor_ref.plan_offset.x, floor_ref.plan_offset.y);
-                let tl = chart.backend_coord(&(u.from_m(ox), u.from_m(oy + hpx as f64 * s)));
-                let br = chart.backend_coord(&(u.from_m(ox + wpx as f64 * s), u.from_m(oy)));
-                plan_svg = Some(format!(
-                    "<image x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" preserveAspectRatio=\"none\" href=\"data:{mime};base64,{}\"/>",
-                    tl.0, tl.1, br.0 - tl.0, br.1 - tl.1, base64(bytes)
-                ));
-            }
-        }
-        // Cells, run-length merged along rows.
-        let step = u.from_m(g.step_m);
-        let mut rects = Vec::new();
-        for iy in 0..g.ny {
-            let mut ix = 0;
-            while ix < g.nx {
-                let v = layer.level_dbm[iy * g.nx + ix];
-                if !v.is_finite() {
-                    ix += 1;
-                    continue;
-                }
-                let b = bin_of(v as f64 - threshold_dbm);
-                let start = ix;
-                while ix < g.nx {
-                    let w = layer.level_dbm[iy * g.nx + ix];
-                    if !w.is_finite() || bin_of(w as f64 - threshold_dbm) != b {
-                        break;
-                    }
-                    ix += 1;
-                }
-                let xa = u.from_m(g.origin.x) + start as f64 * step;
-                let xb = u.from_m(g.origin.x) + ix as f64 * step;
-                let ya = u.from_m(g.origin.y) + iy as f64 * step;
-                rects.push(Rectangle::new(
-                    [(xa, ya), (xb, ya + step)],
-                    if plan.is_some() {
-                        rgb(BINS[b].rgb).mix(0.6).filled()
-                    } else {
-                        rgb(BINS[b].rgb).filled()
-                    },
-                ));
-            }
-        }
-        chart.draw_series(rects).map_err(e)?;
+        plan_svg = plan.and_then(|bytes| plan_image_svg(&chart, floor, u, bytes));
+        draw_cells(&mut chart, layer, threshold_dbm, plan.is_some(), u)?;
         if !backdrop.linework.is_empty() {
             linework_svg = Some(linework_path(&chart, u, backdrop.linework));
             chart
@@ -251,71 +206,8 @@ pub fn coverage_map(
                 )))
                 .map_err(e)?;
         }
-        // Threshold contour: cell edges where one side meets the threshold and the other not.
-        let mut edges = Vec::new();
-        let ok = |ix: usize, iy: usize| -> Option<bool> {
-            let v = layer.level_dbm[iy * g.nx + ix];
-            v.is_finite().then_some(v as f64 >= threshold_dbm)
-        };
-        let ox = u.from_m(g.origin.x);
-        let oy = u.from_m(g.origin.y);
-        for iy in 0..g.ny {
-            for ix in 0..g.nx {
-                let Some(a) = ok(ix, iy) else { continue };
-                if ix + 1 < g.nx {
-                    if let Some(b) = ok(ix + 1, iy) {
-                        if a != b {
-                            let x = ox + (ix + 1) as f64 * step;
-                            edges.push(vec![
-                                (x, oy + iy as f64 * step),
-                                (x, oy + (iy + 1) as f64 * step),
-                            ]);
-                        }
-                    }
-                }
-                if iy + 1 < g.ny {
-                    if let Some(b) = ok(ix, iy + 1) {
-                        if a != b {
-                            let y = oy + (iy + 1) as f64 * step;
-                            edges.push(vec![
-                                (ox + ix as f64 * step, y),
-                                (ox + (ix + 1) as f64 * step, y),
-                            ]);
-                        }
-                    }
-                }
-            }
-        }
-        for ed in edges {
-            chart
-                .draw_series(std::iter::once(PathElement::new(ed, BLACK.stroke_width(2))))
-                .map_err(e)?;
-        }
-        // Outline and walls, each with a white halo.
-        let mut outline: Vec<(f64, f64)> = floor
-            .outline
-            .iter()
-            .map(|p| (u.from_m(p.x), u.from_m(p.y)))
-            .collect();
-        outline.push(outline[0]);
-        chart
-            .draw_series(std::iter::once(PathElement::new(
-                outline,
-                BLACK.stroke_width(1),
-            )))
-            .map_err(e)?;
-        for part in &floor.parts {
-            let class = site
-                .materials
-                .get(&part.material)
-                .map(|m| m.class)
-                .unwrap_or(MaterialClass::Other);
-            let seg = vec![
-                (u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)),
-                (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y)),
-            ];
-            styled_wall(&mut chart, seg, wall_style(class, part.kind))?;
-        }
+        draw_required_contour(&mut chart, layer, threshold_dbm, u)?;
+        draw_outline_and_walls(&mut chart, site, floor)?;
         draw_zone_outlines(&mut chart, site, floor)?;
         let mut placer = Placer::new(plot_bounds(&chart));
         let groups = survey_groups(&chart, u, measured, measured_required_dbm);
@@ -331,167 +223,9 @@ pub fn coverage_map(
             (b.0 - a.0) as f64 / (x1 - x0)
         };
         // Legend.
-        let font = (CHART_FONT, 14).into_font();
-        right
-            .draw(&Text::new(
-                "Level (dBm)",
-                (8, 18),
-                font.clone().style(FontStyle::Bold),
-            ))
-            .map_err(e)?;
-        let mut y = 34;
-        for (i, b) in BINS.iter().enumerate().rev() {
-            let lo = b.from_db + threshold_dbm;
-            let label = if i == 0 {
-                format!("< {:.1}", BINS[1].from_db + threshold_dbm)
-            } else if i == BINS.len() - 1 {
-                format!(">= {lo:.1}")
-            } else {
-                format!("{lo:.1} to {:.1}", BINS[i + 1].from_db + threshold_dbm)
-            };
-            right
-                .draw(&Rectangle::new([(8, y), (34, y + 18)], rgb(b.rgb).filled()))
-                .map_err(e)?;
-            right
-                .draw(&Rectangle::new(
-                    [(8, y), (34, y + 18)],
-                    BLACK.stroke_width(1),
-                ))
-                .map_err(e)?;
-            right
-                .draw(&Text::new(label, (40, y + 3), font.clone()))
-                .map_err(e)?;
-            if i == REQUIRED_BIN {
-                right
-                    .draw(&PathElement::new(
-                        vec![(4, y + 19), (180, y + 19)],
-                        BLACK.stroke_width(3),
-                    ))
-                    .map_err(e)?;
-                right
-                    .draw(&Text::new(
-                        format!("required {threshold_dbm:.1}"),
-                        (40, y + 23),
-                        font.clone().style(FontStyle::Bold),
-                    ))
-                    .map_err(e)?;
-                y += 18;
-            }
-            y += 22;
-        }
-        y += 10;
-        right
-            .draw(&Text::new(
-                "Walls",
-                (8, y),
-                font.clone().style(FontStyle::Bold),
-            ))
-            .map_err(e)?;
-        y += 18;
-        let mut classes: Vec<(MaterialClass, PartKind)> = floor
-            .parts
-            .iter()
-            .map(|p| {
-                (
-                    site.materials
-                        .get(&p.material)
-                        .map(|m| m.class)
-                        .unwrap_or(MaterialClass::Other),
-                    p.kind,
-                )
-            })
-            .map(|(c, k)| {
-                if k == PartKind::Door {
-                    (MaterialClass::Wood, PartKind::Door)
-                } else {
-                    (c, PartKind::Wall)
-                }
-            })
-            .collect();
-        classes.sort_by_key(|(c, k)| (*k as u8, *c));
-        classes.dedup();
-        for (c, k) in classes {
-            legend_wall(&right, y + 8, wall_style(c, k))?;
-            let label = if k == PartKind::Door {
-                "door".to_string()
-            } else {
-                c.label().to_string()
-            };
-            right
-                .draw(&Text::new(label, (40, y), font.clone()))
-                .map_err(e)?;
-            y += 20;
-        }
-        if !backdrop.linework.is_empty() {
-            right
-                .draw(&PathElement::new(
-                    vec![(8, y + 8), (34, y + 8)],
-                    RGBColor(0x8c, 0x8c, 0x8c).stroke_width(1),
-                ))
-                .map_err(e)?;
-            right
-                .draw(&Text::new("plan drawing (DXF)", (40, y), font.clone()))
-                .map_err(e)?;
-            y += 20;
-        }
-        y += 8;
-        right
-            .draw(&TriangleMarker::new((20, y + 8), 7, BLACK.filled()))
-            .map_err(e)?;
-        right
-            .draw(&Text::new("antenna", (40, y), font.clone()))
-            .map_err(e)?;
-        y += 20;
-        if !added.is_empty() {
-            for (h, c) in NEW_MARKER {
-                right
-                    .draw(&Rectangle::new(
-                        [(20 - h, y + 8 - h), (20 + h, y + 8 + h)],
-                        c.filled(),
-                    ))
-                    .map_err(e)?;
-            }
-            right
-                .draw(&Text::new("new antenna (option)", (40, y), font.clone()))
-                .map_err(e)?;
-            y += 20;
-        }
-        right
-            .draw(&PathElement::new(
-                vec![(8, y + 8), (34, y + 8)],
-                BLACK.stroke_width(3),
-            ))
-            .map_err(e)?;
-        right
-            .draw(&Text::new("critical zone", (40, y), font.clone()))
-            .map_err(e)?;
-        if !measured.is_empty() {
-            y += 20;
-            right
-                .draw(&Circle::new((20, y + 8), 4, BLACK.stroke_width(1)))
-                .map_err(e)?;
-            right
-                .draw(&Text::new("measured, meets", (40, y), font.clone()))
-                .map_err(e)?;
-            y += 20;
-            right
-                .draw(&Cross::new((20, y + 8), 5, BLACK.stroke_width(2)))
-                .map_err(e)?;
-            right
-                .draw(&Text::new("measured, below", (40, y), font.clone()))
-                .map_err(e)?;
-            let usual = usual_count(&groups);
-            if usual > 1 || groups.iter().any(|g| g.count != usual) {
-                y += 20;
-                let text = match usual {
-                    1 => "×n: n points at one place".to_string(),
-                    n => format!("{n} points a marker, ×n: n"),
-                };
-                right
-                    .draw(&Text::new(text, (8, y), font.clone()))
-                    .map_err(e)?;
-            }
-        }
+        let y = draw_level_legend(&right, threshold_dbm)?;
+        let y = draw_wall_legend(&right, site, floor, !backdrop.linework.is_empty(), y)?;
+        let y = draw_marker_legend(&right, !added.is_empty(), &groups, y)?;
         draw_scale_and_north(&right, y + 52, px_per_unit, x1 - x0, unit, site.north_deg)?;
         root.present().map_err(e)?;
     }
@@ -499,14 +233,357 @@ pub fn coverage_map(
         splice_at_mark(&mut svg, &lines);
     }
     if let Some(img) = plan_svg {
-        // Right after the white background, under everything else.
-        if let Some(r) = svg.find("<rect") {
-            if let Some(end) = svg[r..].find("/>") {
-                svg.insert_str(r + end + 2, &img);
+        insert_under_everything(&mut svg, &img);
+    }
+    Ok(svg)
+}
+
+/// The floor's plan image as an SVG `<image>` over its pixel rectangle on the chart.
+fn plan_image_svg(
+    chart: &MapChart<'_, '_>,
+    floor: &rfsite_model::Floor,
+    u: rfsite_model::Units,
+    bytes: &[u8],
+) -> Option<String> {
+    let (wpx, hpx, mime) = image_size(bytes)?;
+    let s = floor.plan_m_per_px;
+    let (ox, oy) = (floor.plan_offset.x, floor.plan_offset.y);
+    let tl = chart.backend_coord(&(u.from_m(ox), u.from_m(oy + hpx as f64 * s)));
+    let br = chart.backend_coord(&(u.from_m(ox + wpx as f64 * s), u.from_m(oy)));
+    Some(format!(
+        "<image x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" preserveAspectRatio=\"none\" href=\"data:{mime};base64,{}\"/>",
+        tl.0, tl.1, br.0 - tl.0, br.1 - tl.1, base64(bytes)
+    ))
+}
+
+/// The grid's cells in their bins' colours (faded over a plan image), run-length merged
+/// along rows.
+fn draw_cells(
+    chart: &mut MapChart<'_, '_>,
+    layer: &CoverageLayer,
+    threshold_dbm: f64,
+    faded: bool,
+    u: rfsite_model::Units,
+) -> DrawResult<()> {
+    let g = layer.grid.to_grid();
+    let step = u.from_m(g.step_m);
+    let mut rects = Vec::new();
+    for iy in 0..g.ny {
+        let mut ix = 0;
+        while ix < g.nx {
+            let v = layer.level_dbm[iy * g.nx + ix];
+            if !v.is_finite() {
+                ix += 1;
+                continue;
+            }
+            let b = bin_of(v as f64 - threshold_dbm);
+            let start = ix;
+            while ix < g.nx {
+                let w = layer.level_dbm[iy * g.nx + ix];
+                if !w.is_finite() || bin_of(w as f64 - threshold_dbm) != b {
+                    break;
+                }
+                ix += 1;
+            }
+            let xa = u.from_m(g.origin.x) + start as f64 * step;
+            let xb = u.from_m(g.origin.x) + ix as f64 * step;
+            let ya = u.from_m(g.origin.y) + iy as f64 * step;
+            rects.push(Rectangle::new(
+                [(xa, ya), (xb, ya + step)],
+                if faded {
+                    rgb(BINS[b].rgb).mix(0.6).filled()
+                } else {
+                    rgb(BINS[b].rgb).filled()
+                },
+            ));
+        }
+    }
+    chart.draw_series(rects).map_err(e)?;
+    Ok(())
+}
+
+/// The required-level contour: cell edges where one side meets `threshold_dbm` and the
+/// other not.
+fn draw_required_contour(
+    chart: &mut MapChart<'_, '_>,
+    layer: &CoverageLayer,
+    threshold_dbm: f64,
+    u: rfsite_model::Units,
+) -> DrawResult<()> {
+    let g = layer.grid.to_grid();
+    let step = u.from_m(g.step_m);
+    let mut edges = Vec::new();
+    let ok = |ix: usize, iy: usize| -> Option<bool> {
+        let v = layer.level_dbm[iy * g.nx + ix];
+        v.is_finite().then_some(v as f64 >= threshold_dbm)
+    };
+    let ox = u.from_m(g.origin.x);
+    let oy = u.from_m(g.origin.y);
+    for iy in 0..g.ny {
+        for ix in 0..g.nx {
+            let Some(a) = ok(ix, iy) else { continue };
+            if ix + 1 < g.nx {
+                if let Some(b) = ok(ix + 1, iy) {
+                    if a != b {
+                        let x = ox + (ix + 1) as f64 * step;
+                        edges.push(vec![
+                            (x, oy + iy as f64 * step),
+                            (x, oy + (iy + 1) as f64 * step),
+                        ]);
+                    }
+                }
+            }
+            if iy + 1 < g.ny {
+                if let Some(b) = ok(ix, iy + 1) {
+                    if a != b {
+                        let y = oy + (iy + 1) as f64 * step;
+                        edges.push(vec![
+                            (ox + ix as f64 * step, y),
+                            (ox + (ix + 1) as f64 * step, y),
+                        ]);
+                    }
+                }
             }
         }
     }
-    Ok(svg)
+    for ed in edges {
+        chart
+            .draw_series(std::iter::once(PathElement::new(ed, BLACK.stroke_width(2))))
+            .map_err(e)?;
+    }
+    Ok(())
+}
+
+/// The floor outline and every wall part in its class's style.
+fn draw_outline_and_walls(
+    chart: &mut MapChart<'_, '_>,
+    site: &Site,
+    floor: &rfsite_model::Floor,
+) -> DrawResult<()> {
+    let u = site.units;
+    let mut outline: Vec<(f64, f64)> = floor
+        .outline
+        .iter()
+        .map(|p| (u.from_m(p.x), u.from_m(p.y)))
+        .collect();
+    outline.push(outline[0]);
+    chart
+        .draw_series(std::iter::once(PathElement::new(
+            outline,
+            BLACK.stroke_width(1),
+        )))
+        .map_err(e)?;
+    for part in &floor.parts {
+        let class = site
+            .materials
+            .get(&part.material)
+            .map(|m| m.class)
+            .unwrap_or(MaterialClass::Other);
+        let seg = vec![
+            (u.from_m(part.segment.a.x), u.from_m(part.segment.a.y)),
+            (u.from_m(part.segment.b.x), u.from_m(part.segment.b.y)),
+        ];
+        styled_wall(chart, seg, wall_style(class, part.kind))?;
+    }
+    Ok(())
+}
+
+/// The level bins (strongest first) with the required level marked; returns the next y.
+fn draw_level_legend(right: &Area<'_>, threshold_dbm: f64) -> DrawResult<i32> {
+    let font = (CHART_FONT, 14).into_font();
+    right
+        .draw(&Text::new(
+            "Level (dBm)",
+            (8, 18),
+            font.clone().style(FontStyle::Bold),
+        ))
+        .map_err(e)?;
+    let mut y = 34;
+    for (i, b) in BINS.iter().enumerate().rev() {
+        let lo = b.from_db + threshold_dbm;
+        let label = if i == 0 {
+            format!("< {:.1}", BINS[1].from_db + threshold_dbm)
+        } else if i == BINS.len() - 1 {
+            format!(">= {lo:.1}")
+        } else {
+            format!("{lo:.1} to {:.1}", BINS[i + 1].from_db + threshold_dbm)
+        };
+        right
+            .draw(&Rectangle::new([(8, y), (34, y + 18)], rgb(b.rgb).filled()))
+            .map_err(e)?;
+        right
+            .draw(&Rectangle::new(
+                [(8, y), (34, y + 18)],
+                BLACK.stroke_width(1),
+            ))
+            .map_err(e)?;
+        right
+            .draw(&Text::new(label, (40, y + 3), font.clone()))
+            .map_err(e)?;
+        if i == REQUIRED_BIN {
+            right
+                .draw(&PathElement::new(
+                    vec![(4, y + 19), (180, y + 19)],
+                    BLACK.stroke_width(3),
+                ))
+                .map_err(e)?;
+            right
+                .draw(&Text::new(
+                    format!("required {threshold_dbm:.1}"),
+                    (40, y + 23),
+                    font.clone().style(FontStyle::Bold),
+                ))
+                .map_err(e)?;
+            y += 18;
+        }
+        y += 22;
+    }
+    Ok(y)
+}
+
+/// The wall classes drawn on the floor (and the DXF linework); returns the next y.
+fn draw_wall_legend(
+    right: &Area<'_>,
+    site: &Site,
+    floor: &rfsite_model::Floor,
+    linework: bool,
+    mut y: i32,
+) -> DrawResult<i32> {
+    let font = (CHART_FONT, 14).into_font();
+    y += 10;
+    right
+        .draw(&Text::new(
+            "Walls",
+            (8, y),
+            font.clone().style(FontStyle::Bold),
+        ))
+        .map_err(e)?;
+    y += 18;
+    let mut classes: Vec<(MaterialClass, PartKind)> = floor
+        .parts
+        .iter()
+        .map(|p| {
+            (
+                site.materials
+                    .get(&p.material)
+                    .map(|m| m.class)
+                    .unwrap_or(MaterialClass::Other),
+                p.kind,
+            )
+        })
+        .map(|(c, k)| {
+            if k == PartKind::Door {
+                (MaterialClass::Wood, PartKind::Door)
+            } else {
+                (c, PartKind::Wall)
+            }
+        })
+        .collect();
+    classes.sort_by_key(|(c, k)| (*k as u8, *c));
+    classes.dedup();
+    for (c, k) in classes {
+        legend_wall(&right, y + 8, wall_style(c, k))?;
+        let label = if k == PartKind::Door {
+            "door".to_string()
+        } else {
+            c.label().to_string()
+        };
+        right
+            .draw(&Text::new(label, (40, y), font.clone()))
+            .map_err(e)?;
+        y += 20;
+    }
+    if linework {
+        right
+            .draw(&PathElement::new(
+                vec![(8, y + 8), (34, y + 8)],
+                RGBColor(0x8c, 0x8c, 0x8c).stroke_width(1),
+            ))
+            .map_err(e)?;
+        right
+            .draw(&Text::new("plan drawing (DXF)", (40, y), font.clone()))
+            .map_err(e)?;
+        y += 20;
+    }
+    Ok(y)
+}
+
+/// Antennas, new antennas, critical zones and survey markers; returns the last row's y.
+fn draw_marker_legend(
+    right: &Area<'_>,
+    added: bool,
+    groups: &[SurveyGroup],
+    mut y: i32,
+) -> DrawResult<i32> {
+    let font = (CHART_FONT, 14).into_font();
+    y += 8;
+    right
+        .draw(&TriangleMarker::new((20, y + 8), 7, BLACK.filled()))
+        .map_err(e)?;
+    right
+        .draw(&Text::new("antenna", (40, y), font.clone()))
+        .map_err(e)?;
+    y += 20;
+    if added {
+        for (h, c) in NEW_MARKER {
+            right
+                .draw(&Rectangle::new(
+                    [(20 - h, y + 8 - h), (20 + h, y + 8 + h)],
+                    c.filled(),
+                ))
+                .map_err(e)?;
+        }
+        right
+            .draw(&Text::new("new antenna (option)", (40, y), font.clone()))
+            .map_err(e)?;
+        y += 20;
+    }
+    right
+        .draw(&PathElement::new(
+            vec![(8, y + 8), (34, y + 8)],
+            BLACK.stroke_width(3),
+        ))
+        .map_err(e)?;
+    right
+        .draw(&Text::new("critical zone", (40, y), font.clone()))
+        .map_err(e)?;
+    if !groups.is_empty() {
+        y += 20;
+        right
+            .draw(&Circle::new((20, y + 8), 4, BLACK.stroke_width(1)))
+            .map_err(e)?;
+        right
+            .draw(&Text::new("measured, meets", (40, y), font.clone()))
+            .map_err(e)?;
+        y += 20;
+        right
+            .draw(&Cross::new((20, y + 8), 5, BLACK.stroke_width(2)))
+            .map_err(e)?;
+        right
+            .draw(&Text::new("measured, below", (40, y), font.clone()))
+            .map_err(e)?;
+        let usual = usual_count(&groups);
+        if usual > 1 || groups.iter().any(|g| g.count != usual) {
+            y += 20;
+            let text = match usual {
+                1 => "×n: n points at one place".to_string(),
+                n => format!("{n} points a marker, ×n: n"),
+            };
+            right
+                .draw(&Text::new(text, (8, y), font.clone()))
+                .map_err(e)?;
+        }
+    }
+    Ok(y)
+}
+
+/// Puts `img` right after the SVG's white background, under everything else.
+fn insert_under_everything(svg: &mut String, img: &str) {
+    if let Some(r) = svg.find("<rect") {
+        if let Some(end) = svg[r..].find("/>") {
+            svg.insert_str(r + end + 2, img);
+        }
+    }
 }
 
 /// The colour of the placeholder rectangle drawn where the linework goes (replaced after
