@@ -171,14 +171,14 @@ impl Fitting {
     fn note(&self) -> Option<String> {
         let mut parts = Vec::new();
         if self.shortened > 0 {
-            parts.push(format!("{} cell values shortened to whole dB", self.shortened));
+            parts.push(format!("values of {} cells shortened to whole dB", self.shortened));
         }
         if self.omitted > 0 {
-            parts.push(format!("{} cell values left out", self.omitted));
+            parts.push(format!("values of {} cells left out", self.omitted));
         }
         if self.marks_omitted > 0 {
             parts.push(format!(
-                "{} marks left out (hatching shows a failed cell)",
+                "marks of {} cells left out (hatching shows a failed cell)",
                 self.marks_omitted
             ));
         }
@@ -361,4 +361,79 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
         root.present().map_err(e)?;
     }
     Ok(svg)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn cell(w: f64, h: f64) -> PxBox {
+        PxBox {
+            x0: 100.0,
+            y0: 50.0,
+            x1: 100.0 + w,
+            y1: 50.0 + h,
+        }
+    }
+
+    fn text(v: Option<f64>) -> CellText {
+        CellText {
+            mark: "F".into(),
+            value: v,
+        }
+    }
+
+    #[test]
+    fn the_value_printed_is_the_one_that_judged_the_cell() {
+        let c = serde_json::json!({"pass": false, "judged_by": "measured", "kind": "critical",
+            "measured_mean_dbm": -91.25, "predicted_mean_dbm": -80.0});
+        assert_eq!(
+            cell_text(&c),
+            CellText {
+                mark: "C F m".into(),
+                value: Some(-91.25)
+            }
+        );
+        let c = serde_json::json!({"pass": true, "judged_by": "predicted", "kind": "general",
+            "measured_mean_dbm": null, "predicted_mean_dbm": -80.04});
+        assert_eq!(cell_text(&c).value, Some(-80.04));
+        let c = serde_json::json!({"pass": null, "judged_by": "not judged", "kind": "excluded"});
+        assert_eq!(cell_text(&c).value, None);
+    }
+
+    // Hand arithmetic with the estimate of `labels::text_size` (0.6 em a character, em =
+    // size / 1.24): "-87.3" over "F" is 3.6 em wide with padding and 2.6 em tall.
+    #[test]
+    fn text_is_sized_to_the_cell_then_shortened_then_left_out() {
+        let t = text(Some(-87.31));
+        // 100 x 80 px: room for 32 px text; capped at the largest size.
+        let f = fit(&t, &cell(100.0, 80.0)).unwrap();
+        assert_eq!(f.lines, vec!["-87.3", "F"]);
+        assert_eq!(f.size, MAX_FONT);
+        assert!(f.bg.inside(&cell(100.0, 80.0)));
+        // 40 px wide: 34 / (3.6 / 1.24) = 11.7 < 13, but "-87" (2.4 em) fits.
+        let f = fit(&t, &cell(40.0, 60.0)).unwrap();
+        assert_eq!((f.lines[0].as_str(), f.shortened), ("-87", true));
+        assert!(f.bg.inside(&cell(40.0, 60.0)));
+        // 30 px tall: 24 / (2.6 / 1.24) = 11.4 < 13: only the mark (1.45 em tall).
+        let f = fit(&t, &cell(100.0, 30.0)).unwrap();
+        assert_eq!(f.lines, vec!["F"]);
+        // 12 px: nothing fits.
+        assert!(fit(&t, &cell(12.0, 12.0)).is_none());
+    }
+
+    #[test]
+    fn the_note_counts_what_did_not_fit() {
+        let mut n = Fitting::default();
+        let t = text(Some(-87.3));
+        for c in [cell(100.0, 80.0), cell(40.0, 60.0), cell(100.0, 30.0), cell(12.0, 12.0)] {
+            n.count(&t, fit(&t, &c).as_ref());
+        }
+        assert_eq!((n.shortened, n.omitted, n.marks_omitted), (1, 2, 1));
+        assert_eq!(
+            n.note().unwrap(),
+            "Cells too small for the value at a legible size: values of 1 cells shortened to whole dB, values of 2 cells left out, marks of 1 cells left out (hatching shows a failed cell)."
+        );
+        assert!(Fitting::default().note().is_none());
+    }
 }

@@ -30,7 +30,7 @@ const STYLES: [((u8, u8, u8), Option<(u32, u32)>); 6] = [
     ((60, 60, 60), Some((3, 4))),
     ((176, 40, 125), Some((18, 4))),
     ((70, 140, 80), Some((7, 3))),
-    ((120, 120, 120), Some((2, 7))),
+    ((160, 160, 160), Some((2, 7))),
 ];
 
 /// The style of series `i`: colour, dash.
@@ -148,4 +148,53 @@ fn draw_key(area: &Area<'_>, f: &Figure) -> Result<(), String> {
             .map_err(e)?;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rfsite_plugin::Series;
+
+    fn luminance((r, g, b): (u8, u8, u8)) -> f64 {
+        // Rec. 709 luma weights on the 8-bit values (a greyscale printer's view, roughly).
+        (0.2126 * r as f64 + 0.7152 * g as f64 + 0.0722 * b as f64) / 255.0
+    }
+
+    #[test]
+    fn neighbouring_series_differ_in_dash_and_lightness() {
+        for i in 0..STYLES.len() {
+            let (a, b) = (STYLES[i], STYLES[(i + 1) % STYLES.len()]);
+            assert_ne!(a.1, b.1, "series {i} and the next share a dash");
+            assert!(
+                (luminance(a.0) - luminance(b.0)).abs() > 0.05,
+                "series {i} and the next are as light as each other"
+            );
+        }
+    }
+
+    #[test]
+    fn every_series_is_named_in_the_key_under_the_plot() {
+        let f = Figure {
+            id: "t".into(),
+            title: "t".into(),
+            kind: "line".into(),
+            x_label: "x".into(),
+            y_label: "y".into(),
+            series: vec![
+                Series {
+                    name: "curve".into(),
+                    points: vec![[0.0, 0.0], [1.0, 1.0], [2.0, 4.0]],
+                },
+                Series {
+                    name: "threshold -95.0 dBm".into(),
+                    points: vec![[1.5, 0.0], [1.5, 4.0]],
+                },
+            ],
+        };
+        let svg = figure(&f).unwrap();
+        for name in ["curve", "threshold -95.0 dBm"] {
+            assert!(svg.contains(name), "{name} missing");
+        }
+        assert!(svg.contains(&format!("height=\"{}\"", PLOT_H + 2 * KEY_LINE_H + 8)));
+    }
 }
