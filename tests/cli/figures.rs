@@ -74,7 +74,10 @@ fn demo_cdf_draws_the_threshold_and_the_required_level() {
         assert!(pts.windows(2).all(|w| w[0][0].as_f64() <= w[1][0].as_f64()));
     }
     assert_eq!(seen, 2, "the demo surveys both services");
-    assert!(!figs.contains_key("survey-cdf"), "the pooled figure is gone");
+    assert!(
+        !figs.contains_key("survey-cdf"),
+        "the pooled figure is gone"
+    );
     assert_eq!(
         f["site"]["id"].as_str().unwrap(),
         "kestrel-quay-clinic",
@@ -93,7 +96,9 @@ fn demo_cdf_draws_the_threshold_and_the_required_level() {
 fn demo_standing_waves_share_a_figure_per_service_and_material_class() {
     let (dir, f) = demo_report();
     let figs = figures(&f);
-    let reflectors = f["extra"]["reflection-nulls"]["reflectors"].as_array().unwrap();
+    let reflectors = f["extra"]["reflection-nulls"]["reflectors"]
+        .as_array()
+        .unwrap();
     assert!(!reflectors.is_empty());
     // Expected ids: `nulls-<service>.<class>` for each (service, material class) among the
     // reflectors (findings.json `extra.reflection-nulls.reflectors`, their `class` from
@@ -116,19 +121,23 @@ fn demo_standing_waves_share_a_figure_per_service_and_material_class() {
     );
     for (id, rs) in &want {
         let series = figs[id]["series"].as_array().unwrap();
-        assert_eq!(series.len(), rs.len() + 1, "{id}: a curve per material + free space");
+        assert_eq!(
+            series.len(),
+            rs.len() + 1,
+            "{id}: a curve per material + free space"
+        );
         let t = texts(&svg(dir.path(), id));
         for (s, r) in series.iter().zip(rs) {
             let name = s["name"].as_str().unwrap();
-            assert!(name.starts_with(r["material_name"].as_str().unwrap()), "{name}");
+            assert!(
+                name.starts_with(r["material_name"].as_str().unwrap()),
+                "{name}"
+            );
             let gamma = format!("(|Gamma| = {:.2})", r["gamma_abs"].as_f64().unwrap());
             assert!(name.ends_with(&gamma), "{name} vs {gamma}");
             assert!(t.iter().any(|x| x == name), "{id}: key lacks '{name}'");
         }
-        assert_eq!(
-            series.last().unwrap()["name"],
-            "free space (no reflection)"
-        );
+        assert_eq!(series.last().unwrap()["name"], "free space (no reflection)");
     }
 }
 

@@ -22,7 +22,7 @@ const KEY: &str = "Each cell: mean level, dBm (m: of the measurements, else of t
 
 /// Largest and smallest font size of a cell's text (plotters size; the SVG writes
 /// size / 1.24). 13 gives an x-height near the axis labels' (size 14): legible in print.
-const MAX_FONT: f64 = 17.0;
+const MAX_FONT: f64 = 19.0;
 const MIN_FONT: f64 = 13.0;
 
 /// Space kept between a cell's text box and its border, pixels.
@@ -137,7 +137,11 @@ fn draw_cell_text(
     for (i, line) in f.lines.iter().enumerate() {
         let bold = i + 1 == f.lines.len();
         let font = (CHART_FONT, f.size).into_font();
-        let font = if bold { font.style(FontStyle::Bold) } else { font };
+        let font = if bold {
+            font.style(FontStyle::Bold)
+        } else {
+            font
+        };
         let style = TextStyle::from(font)
             .color(&BLACK)
             .pos(Pos::new(HPos::Center, VPos::Center));
@@ -171,7 +175,10 @@ impl Fitting {
     fn note(&self) -> Option<String> {
         let mut parts = Vec::new();
         if self.shortened > 0 {
-            parts.push(format!("values of {} cells shortened to whole dB", self.shortened));
+            parts.push(format!(
+                "values of {} cells shortened to whole dB",
+                self.shortened
+            ));
         }
         if self.omitted > 0 {
             parts.push(format!("values of {} cells left out", self.omitted));
@@ -182,7 +189,12 @@ impl Fitting {
                 self.marks_omitted
             ));
         }
-        (!parts.is_empty()).then(|| format!("Cells too small for the value at a legible size: {}.", parts.join(", ")))
+        (!parts.is_empty()).then(|| {
+            format!(
+                "Cells too small for the value at a legible size: {}.",
+                parts.join(", ")
+            )
+        })
     }
 }
 
@@ -341,7 +353,11 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
         };
         let line1 = format!(
             "Floor verdict {}; cell test: general cells passing {}, critical {}, {} failed.",
-            if fg["pass"].as_bool() == Some(true) { "PASS" } else { "FAIL" },
+            if fg["pass"].as_bool() == Some(true) {
+                "PASS"
+            } else {
+                "FAIL"
+            },
             pct(&v["general_fraction"]),
             pct(&v["critical_fraction"]),
             v["failed_cells"].as_u64().unwrap_or(0)
@@ -354,9 +370,7 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
             .draw(&Text::new(KEY.to_string(), (56, 26), style.clone()))
             .map_err(e)?;
         if let Some(note) = fitting.note() {
-            bottom
-                .draw(&Text::new(note, (56, 44), style))
-                .map_err(e)?;
+            bottom.draw(&Text::new(note, (56, 44), style)).map_err(e)?;
         }
         root.present().map_err(e)?;
     }
@@ -426,7 +440,12 @@ mod tests {
     fn the_note_counts_what_did_not_fit() {
         let mut n = Fitting::default();
         let t = text(Some(-87.3));
-        for c in [cell(100.0, 80.0), cell(40.0, 60.0), cell(100.0, 30.0), cell(12.0, 12.0)] {
+        for c in [
+            cell(100.0, 80.0),
+            cell(40.0, 60.0),
+            cell(100.0, 30.0),
+            cell(12.0, 12.0),
+        ] {
             n.count(&t, fit(&t, &c).as_ref());
         }
         assert_eq!((n.shortened, n.omitted, n.marks_omitted), (1, 2, 1));

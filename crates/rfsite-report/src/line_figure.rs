@@ -5,6 +5,7 @@
 //! free space) and is drawn thinner. The key sits in a strip under the plot, one series
 //! a line, so it never covers the data.
 
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use rfsite_plugin::Figure;

@@ -39,12 +39,7 @@ fn vertical(name: String, x_dbm: f64) -> Series {
 }
 
 /// The figure for the service `id` (named `name`), or `None` without survey points of it.
-pub fn figure(
-    id: &str,
-    name: &str,
-    req: &RequiredLevel,
-    points: &[Measurement],
-) -> Option<Figure> {
+pub fn figure(id: &str, name: &str, req: &RequiredLevel, points: &[Measurement]) -> Option<Figure> {
     let mut v: Vec<f64> = points
         .iter()
         .filter(|m| m.service == id && m.level_dbm.is_finite())

@@ -263,8 +263,12 @@ impl Plugin for Grading {
             };
             let outcomes = g.floors(&mut out);
             out.tables.push(g.table(&outcomes));
-            out.figures
-                .extend(crate::cdf::figure(&svc.id, &svc.name, &req, &ctx.surveys.points));
+            out.figures.extend(crate::cdf::figure(
+                &svc.id,
+                &svc.name,
+                &req,
+                &ctx.surveys.points,
+            ));
             out.figures.extend(g.figures(&outcomes));
             extra_services.push(g.extra(&outcomes, &model, &rejected));
             out.services

@@ -367,7 +367,11 @@ fn cdf_with_threshold_and_required_level_lines() {
     let req = RequiredLevel::new(-95.0, 5.0, 8.0, 0.9, 10.25);
     let f = cdf::figure("s", "Svc", &req, &pts).unwrap();
     assert_eq!(f.id, "survey-cdf-s");
-    assert!(f.title.contains("4 points, 2 below the required level"), "{}", f.title);
+    assert!(
+        f.title.contains("4 points, 2 below the required level"),
+        "{}",
+        f.title
+    );
     assert_eq!(
         f.series[0].points,
         vec![[-100.0, 25.0], [-95.0, 50.0], [-90.0, 75.0], [-85.0, 100.0]]

@@ -872,10 +872,17 @@ pub fn class_figures(reflectors: &[&Reflector], max_distance_m: f64, cap: f64) -
                 name: "free space (no reflection)".into(),
                 points: vec![[0.0, 0.0], [max_distance_m, 0.0]],
             });
+            // Empirical tables give |Gamma| only, the phase taken as pi: such curves share
+            // their nulls and differ in depth alone, which the title says.
+            let same_phase = if rs.len() > 1 && rs.iter().all(|r| r.empirical) {
+                "; each |Gamma| is empirical with phase pi assumed, so the nulls coincide and only their depths differ"
+            } else {
+                ""
+            };
             Figure {
                 id: id.to_string(),
                 title: format!(
-                    "Standing waves in front of {} walls at {} MHz ({}): 20 log10 |1 + Gamma e^(-j2kx)| per material, nulls drawn at -{cap:.0} dB at most",
+                    "Standing waves in front of {} walls at {} MHz ({}): 20 log10 |1 + Gamma e^(-j2kx)| per material, nulls drawn at -{cap:.0} dB at most{same_phase}",
                     first.class.label(),
                     first.freq_mhz,
                     first.service

@@ -347,13 +347,25 @@ points = [[0, 8], [10, 8]]
             assert_eq!(series.name, name);
             // Its nulls (the plugin's own list) are at the drawn minimum, -max_fade_db at
             // most: the curve is the reflector's, not a neighbour's.
-            let low = series.points.iter().map(|p| p[1]).fold(f64::INFINITY, f64::min);
+            let low = series
+                .points
+                .iter()
+                .map(|p| p[1])
+                .fold(f64::INFINITY, f64::min);
             assert!(low >= -DEFAULT_MAX_FADE_DB - 1e-9);
         }
         let last = fig.series.last().unwrap();
         assert_eq!(last.name, "free space (no reflection)");
         assert!(last.points.iter().all(|p| p[1] == 0.0));
     }
-    let metal = out.figures.iter().find(|f| f.id == "nulls-svc.metal").unwrap();
-    assert_eq!(metal.series.len(), 3, "metal-cladding and metal-door, free space");
+    let metal = out
+        .figures
+        .iter()
+        .find(|f| f.id == "nulls-svc.metal")
+        .unwrap();
+    assert_eq!(
+        metal.series.len(),
+        3,
+        "metal-cladding and metal-door, free space"
+    );
 }
