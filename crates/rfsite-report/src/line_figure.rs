@@ -23,9 +23,11 @@ const PLOT_H: u32 = 420;
 /// Height of one key line, pixels.
 const KEY_LINE_H: u32 = 22;
 
-/// Colour and dash (dash, gap in pixels; `None` solid) of the n-th series. Lightness
-/// differs from one to the next as well as hue.
-const STYLES: [((u8, u8, u8), Option<(u32, u32)>); 6] = [
+/// A series' colour (8-bit RGB) and dash (dash, gap in pixels; `None` solid).
+type Style = ((u8, u8, u8), Option<(u32, u32)>);
+
+/// The style of the n-th series. Lightness differs from one to the next as well as hue.
+const STYLES: [Style; 6] = [
     ((30, 70, 120), None),
     ((196, 110, 40), Some((12, 5))),
     ((60, 60, 60), Some((3, 4))),
