@@ -157,6 +157,15 @@ fn demo_grading_cells_print_their_mean_level() {
     let mut maps = 0;
     for s in f["extra"]["grading"]["services"].as_array().unwrap() {
         let sid = s["service"].as_str().unwrap();
+        // A mean below the receiver floor prints as "no service" (findings.json
+        // `services[].receiver_floor_dbm`), never as a number.
+        let rx = f["services"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|x| x["id"] == sid)
+            .and_then(|x| x["receiver_floor_dbm"].as_f64())
+            .unwrap_or(f64::NEG_INFINITY);
         for fl in s["floors"].as_array().unwrap() {
             let id = format!("grading-{}.{sid}", fl["floor"].as_str().unwrap());
             let t = texts(&svg(dir.path(), &id));
@@ -165,6 +174,7 @@ fn demo_grading_cells_print_their_mean_level() {
                 .unwrap()
                 .iter()
                 .filter_map(cell_value)
+                .filter(|v| *v >= rx)
                 .map(|v| format!("{v:.1}"))
                 .collect();
             assert!(!want.is_empty(), "{id}: no cell values");

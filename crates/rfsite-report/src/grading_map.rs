@@ -34,11 +34,13 @@ struct CellText {
     mark: String,
     /// The level that judged the cell, dBm.
     value: Option<f64>,
+    /// The service's receiver floor, dBm: a mean below it prints as "no service".
+    rx_floor_dbm: Option<f64>,
 }
 
 /// The cell's text, from the grading's cell data: the measured mean when the cell was
 /// judged on measurements, else the predicted mean; none for a cell not judged.
-fn cell_text(c: &Value) -> CellText {
+fn cell_text(c: &Value, rx_floor_dbm: Option<f64>) -> CellText {
     let pass = c["pass"].as_bool();
     let mut mark = match pass {
         Some(true) => "P".to_string(),
@@ -56,7 +58,11 @@ fn cell_text(c: &Value) -> CellText {
     if c["kind"] == "critical" {
         mark = format!("C {mark}");
     }
-    CellText { mark, value }
+    CellText {
+        mark,
+        value,
+        rx_floor_dbm,
+    }
 }
 
 /// The cell's text laid out: lines (value first), font size and the box behind it.
@@ -74,9 +80,17 @@ struct Fitted {
 /// [`CELL_PAD_PX`] to spare; `None` when not even the mark fits at [`MIN_FONT`].
 fn fit(t: &CellText, cell: &PxBox) -> Option<Fitted> {
     let mut variants = Vec::new();
-    if let Some(v) = t.value {
-        variants.push((vec![format!("{v:.1}"), t.mark.clone()], false));
-        variants.push((vec![format!("{v:.0}"), t.mark.clone()], true));
+    match (t.value, t.rx_floor_dbm) {
+        // `rfsite_plugin::level_cell`: no number below the receiver floor.
+        (Some(v), Some(f)) if v < f => {
+            variants.push((vec!["no service".into(), t.mark.clone()], false));
+            variants.push((vec!["none".into(), t.mark.clone()], true));
+        }
+        (Some(v), _) => {
+            variants.push((vec![format!("{v:.1}"), t.mark.clone()], false));
+            variants.push((vec![format!("{v:.0}"), t.mark.clone()], true));
+        }
+        (None, _) => {}
     }
     variants.push((vec![t.mark.clone()], false));
     let (w, h) = (
@@ -221,7 +235,12 @@ pub fn grading_maps(site: &Site, a: &Assessment) -> Result<Vec<(String, String)>
             let Some(floor) = site.floor(fid) else {
                 continue;
             };
-            let svg = draw(site, floor, f)?;
+            let rx = a
+                .services
+                .iter()
+                .find(|r| r.id == sid)
+                .and_then(|r| r.receiver_floor_dbm);
+            let svg = draw(site, floor, f, rx)?;
             let stem = rfsite_model::names::figure_stem("grading", &[fid, sid]);
             out.push((rfsite_model::names::figure_file(&stem), svg));
         }
@@ -229,7 +248,12 @@ pub fn grading_maps(site: &Site, a: &Assessment) -> Result<Vec<(String, String)>
     Ok(out)
 }
 
-fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, String> {
+fn draw(
+    site: &Site,
+    floor: &rfsite_model::Floor,
+    fg: &Value,
+    rx_floor_dbm: Option<f64>,
+) -> Result<String, String> {
     let u = site.units;
     let (min, max) = rfsite_geometry::polygon_bbox(&floor.outline);
     let pad = (max.x - min.x).max(max.y - min.y) * 0.03;
@@ -324,7 +348,7 @@ fn draw(site: &Site, floor: &rfsite_model::Floor, fg: &Value) -> Result<String, 
                 x1: chart.backend_coord(&(bx, ay)).0 as f64,
                 y1: chart.backend_coord(&(bx, ay)).1 as f64,
             };
-            let text = cell_text(c);
+            let text = cell_text(c, rx_floor_dbm);
             let fitted = fit(&text, &px);
             fitting.count(&text, fitted.as_ref());
             if let Some(f) = &fitted {
@@ -394,6 +418,7 @@ mod tests {
         CellText {
             mark: "F".into(),
             value: v,
+            rx_floor_dbm: Some(-125.0),
         }
     }
 
@@ -402,17 +427,18 @@ mod tests {
         let c = serde_json::json!({"pass": false, "judged_by": "measured", "kind": "critical",
             "measured_mean_dbm": -91.25, "predicted_mean_dbm": -80.0});
         assert_eq!(
-            cell_text(&c),
+            cell_text(&c, None),
             CellText {
                 mark: "C F m".into(),
-                value: Some(-91.25)
+                value: Some(-91.25),
+                rx_floor_dbm: None,
             }
         );
         let c = serde_json::json!({"pass": true, "judged_by": "predicted", "kind": "general",
             "measured_mean_dbm": null, "predicted_mean_dbm": -80.04});
-        assert_eq!(cell_text(&c).value, Some(-80.04));
+        assert_eq!(cell_text(&c, None).value, Some(-80.04));
         let c = serde_json::json!({"pass": null, "judged_by": "not judged", "kind": "excluded"});
-        assert_eq!(cell_text(&c).value, None);
+        assert_eq!(cell_text(&c, None).value, None);
     }
 
     // Hand arithmetic with the estimate of `labels::text_size` (0.6 em a character, em =
@@ -434,6 +460,9 @@ mod tests {
         assert_eq!(f.lines, vec!["F"]);
         // 12 px: nothing fits.
         assert!(fit(&t, &cell(12.0, 12.0)).is_none());
+        // Below the receiver floor (-125 dBm here) no number is printed.
+        let f = fit(&text(Some(-130.0)), &cell(100.0, 80.0)).unwrap();
+        assert_eq!(f.lines, vec!["no service", "F"]);
     }
 
     #[test]
