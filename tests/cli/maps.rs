@@ -1,15 +1,15 @@
-//! The demo's coverage maps read without overlaps: from each map's SVG geometry, no two
-//! text boxes overlap and no text box covers a survey or antenna marker.
+//! The demo's coverage and grading maps read without overlaps: from each map's SVG
+//! geometry, no two text boxes overlap and no text box covers a survey or antenna marker.
 
 use crate::cli::util::demo_report;
 
 /// An axis-aligned box in SVG pixels.
 #[derive(Debug, Clone, Copy)]
-struct Bx {
-    x0: f64,
-    y0: f64,
-    x1: f64,
-    y1: f64,
+pub(crate) struct Bx {
+    pub(crate) x0: f64,
+    pub(crate) y0: f64,
+    pub(crate) x1: f64,
+    pub(crate) y1: f64,
 }
 
 impl Bx {
@@ -44,7 +44,7 @@ fn rel_len(v: &str, fs: f64) -> f64 {
 /// Boxes of every unrotated text element: width 0.6 em per character (Lato's average
 /// advance is about 0.5 em, from memory; 0.6 em errs wide), from 0.75 em above the baseline
 /// to 0.2 em below it (ascender and descender, common practice for a Latin sans).
-fn text_boxes(svg: &str) -> Vec<(String, Bx)> {
+pub(crate) fn text_boxes(svg: &str) -> Vec<(String, Bx)> {
     let mut out = Vec::new();
     let mut rest = svg;
     while let Some(i) = rest.find("<text ") {
@@ -128,7 +128,11 @@ fn demo_map_labels_overlap_neither_each_other_nor_markers() {
     for entry in std::fs::read_dir(dir.path().join("figures")).unwrap() {
         let path = entry.unwrap().path();
         let name = path.file_name().unwrap().to_string_lossy().to_string();
-        if !(name.starts_with("map-") || name.starts_with("option-map-")) {
+        // The coverage maps, and the grading maps with each cell's value and mark.
+        if !(name.starts_with("map-")
+            || name.starts_with("option-map-")
+            || name.starts_with("grading-"))
+        {
             continue;
         }
         maps += 1;

@@ -7,6 +7,7 @@ mod check_limits;
 mod check_parity;
 mod determinism;
 mod external;
+mod figures;
 mod maps;
 mod portfolio;
 mod report_pdf;

@@ -65,6 +65,10 @@ impl MaterialClass {
         "ground",
         "other",
     ];
+    /// The kebab-case name (the one [`MaterialClass::from_id`] reads).
+    pub fn id(&self) -> &'static str {
+        Self::IDS[*self as usize]
+    }
     /// Human label.
     pub fn label(&self) -> &'static str {
         match self {

@@ -1110,84 +1110,9 @@ fn draw_scale_and_north(
 /// colour (white halo, black square, white centre).
 const NEW_MARKER: [(i32, RGBColor); 3] = [(9, WHITE), (7, BLACK), (4, WHITE)];
 
-/// Draws a line or scatter figure.
+/// Draws a line or scatter figure ([`crate::line_figure`]).
 pub fn figure(f: &Figure) -> DrawResult<String> {
-    let pts = f.series.iter().flat_map(|s| s.points.iter());
-    let (mut x0, mut x1, mut y0, mut y1) = (
-        f64::INFINITY,
-        f64::NEG_INFINITY,
-        f64::INFINITY,
-        f64::NEG_INFINITY,
-    );
-    for p in pts {
-        x0 = x0.min(p[0]);
-        x1 = x1.max(p[0]);
-        y0 = y0.min(p[1]);
-        y1 = y1.max(p[1]);
-    }
-    if !x0.is_finite() || !y0.is_finite() {
-        return Err("figure has no points".into());
-    }
-    if x1 - x0 < 1e-9 {
-        x1 = x0 + 1.0;
-    }
-    if y1 - y0 < 1e-9 {
-        y1 = y0 + 1.0;
-    }
-    let ypad = (y1 - y0) * 0.05;
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, (900, 420)).into_drawing_area();
-        root.fill(&WHITE).map_err(e)?;
-        let mut chart = ChartBuilder::on(&root)
-            .margin(12)
-            .x_label_area_size(40)
-            .y_label_area_size(56)
-            .build_cartesian_2d(x0..x1, (y0 - ypad)..(y1 + ypad))
-            .map_err(e)?;
-        chart
-            .configure_mesh()
-            .light_line_style(RGBColor(235, 235, 235))
-            .bold_line_style(RGBColor(210, 210, 210))
-            .x_desc(f.x_label.clone())
-            .y_desc(f.y_label.clone())
-            .label_style((CHART_FONT, 14))
-            .axis_desc_style((CHART_FONT, 15))
-            .draw()
-            .map_err(e)?;
-        let palette = [
-            RGBColor(30, 70, 120),
-            RGBColor(196, 110, 40),
-            RGBColor(60, 60, 60),
-            RGBColor(176, 40, 125),
-        ];
-        for (i, s) in f.series.iter().enumerate() {
-            let col = palette[i % palette.len()];
-            let data: Vec<(f64, f64)> = s.points.iter().map(|p| (p[0], p[1])).collect();
-            let anno = if f.kind == "scatter" {
-                chart
-                    .draw_series(data.iter().map(|p| Circle::new(*p, 3, col.filled())))
-                    .map_err(e)?
-            } else {
-                chart
-                    .draw_series(LineSeries::new(data, col.stroke_width(2)))
-                    .map_err(e)?
-            };
-            anno.label(s.name.clone()).legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 18, y)], col.stroke_width(3))
-            });
-        }
-        chart
-            .configure_series_labels()
-            .background_style(WHITE.mix(0.9))
-            .border_style(BLACK)
-            .label_font((CHART_FONT, 14))
-            .position(SeriesLabelPosition::LowerRight)
-            .draw()
-            .map_err(e)?;
-        root.present().map_err(e)?;
-    }
-    Ok(svg)
+    crate::line_figure::figure(f)
 }
 
 /// Pixel size and MIME type of a PNG or JPEG.

@@ -27,6 +27,7 @@ pub mod exports;
 pub mod grading_map;
 pub mod installer;
 pub mod labels;
+pub mod line_figure;
 pub mod options;
 pub mod portfolio;
 pub mod uplink;

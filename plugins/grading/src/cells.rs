@@ -158,6 +158,9 @@ pub struct GradedCell {
     pub predicted_fraction: Option<f64>,
     /// Verdict on the prediction.
     pub predicted_pass: Option<bool>,
+    /// Mean predicted level (mean of the dBm values at its graded points), dBm; `None`
+    /// without points or when a point has no signal.
+    pub predicted_mean_dbm: Option<f64>,
     /// Measured points in the cell.
     pub measured_points: usize,
     /// Mean measured level (mean of the dBm readings), dBm.
@@ -336,6 +339,8 @@ pub struct Judged {
     pub predicted_fraction: Option<f64>,
     /// Verdict on the prediction.
     pub predicted_pass: Option<bool>,
+    /// Mean of the predicted dBm values (`None`: no points, or one without signal).
+    pub predicted_mean_dbm: Option<f64>,
     /// Measured points in the region.
     pub measured_points: usize,
     /// Mean of the measured dBm readings.
@@ -359,14 +364,16 @@ pub fn judge_region(
     req: &RequiredLevel,
     nothing_reaches: bool,
 ) -> Judged {
-    let (mut np, mut ok) = (0usize, 0usize);
+    let (mut np, mut ok, mut sum) = (0usize, 0usize, 0.0);
     for (_, v) in levels.iter().filter(|(p, _)| in_region(*p)) {
         np += 1;
+        sum += v;
         if *v >= req.predicted_dbm {
             ok += 1;
         }
     }
     let pf = (np > 0).then(|| ok as f64 / np as f64);
+    let pm = (np > 0).then(|| sum / np as f64).filter(|m| m.is_finite());
     let predicted_pass = match pf {
         Some(f) => Some(f >= rule.predicted_cell_point_fraction),
         None if nothing_reaches => Some(false),
@@ -389,6 +396,7 @@ pub fn judge_region(
         predicted_points: np,
         predicted_fraction: pf,
         predicted_pass,
+        predicted_mean_dbm: pm,
         measured_points: ms.len(),
         measured_mean_dbm: mm,
         measured_pass,
@@ -474,6 +482,7 @@ pub fn grade_floor(
                 predicted_points: j.predicted_points,
                 predicted_fraction: j.predicted_fraction,
                 predicted_pass: j.predicted_pass,
+                predicted_mean_dbm: j.predicted_mean_dbm,
                 measured_points: j.measured_points,
                 measured_mean_dbm: j.measured_mean_dbm,
                 measured_pass: j.measured_pass,

@@ -26,6 +26,7 @@ use rfsite_model::{Floor, Service, Site, ZoneKind};
 use rfsite_physics::stats;
 use rfsite_plugin::*;
 
+pub mod cdf;
 pub mod cells;
 pub mod findings;
 pub mod rules;

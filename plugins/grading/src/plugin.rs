@@ -206,7 +206,7 @@ impl Plugin for Grading {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "The verdict of record. One required level per service: a measured point or cell must reach threshold + design margin, a predicted point also the shadowing margin sigma Phi^-1(p). A floor passes only when all of these hold: the rule set's grid-cell test (about N equal cells, sides within the rule's limits, each judged on the prediction or on the mean measured level in it, area-weighted by zone kind, with the tolerated failed cells and adjacency rule); the general and critical area fractions of the predicted points at the required level; each critical zone by itself (its area fraction and its own cells, the test cells clipped to it); and, in critical zones, the rule's tolerance of measured points below the required level (none for a life-safety service). Where two tests disagree the stricter holds".into(),
+            summary: "The verdict of record. One required level per service: a measured point or cell must reach threshold + design margin, a predicted point also the shadowing margin sigma Phi^-1(p). A floor passes only when all of these hold: the rule set's grid-cell test (about N equal cells, sides within the rule's limits, each judged on the prediction or on the mean measured level in it, area-weighted by zone kind, with the tolerated failed cells and adjacency rule); the general and critical area fractions of the predicted points at the required level; each critical zone by itself (its area fraction and its own cells, the test cells clipped to it); and, in critical zones, the rule's tolerance of measured points below the required level (none for a life-safety service). Where two tests disagree the stricter holds. Figures: the test cells with each cell's mean level and mark, and the cumulative distribution of the measured levels against the threshold and the required level".into(),
             citations: vec![
                 "Rule sets in plugins/data/rules/*.toml, each number with its source (model fire-code grid test and 95 %/99 % targets: consistent across secondary sources; tolerances from memory)".into(),
                 "Log-normal shadowing margin: sigma Phi^-1(p) (common practice)".into(),
@@ -263,6 +263,12 @@ impl Plugin for Grading {
             };
             let outcomes = g.floors(&mut out);
             out.tables.push(g.table(&outcomes));
+            out.figures.extend(crate::cdf::figure(
+                &svc.id,
+                &svc.name,
+                &req,
+                &ctx.surveys.points,
+            ));
             out.figures.extend(g.figures(&outcomes));
             extra_services.push(g.extra(&outcomes, &model, &rejected));
             out.services
@@ -393,7 +399,7 @@ impl ServiceGrading<'_, '_> {
             .iter()
             .map(|o| Figure {
                 id: rfsite_model::names::figure_stem("grading", &[&o.grade.floor, &self.svc.id]),
-                title: format!("Test cells, {} on {}: pass/fail per cell ({}, predicted cells at {:.1} dBm, measured cells at {:.1} dBm); failed cells hatched and marked F, m = judged on measurements", self.svc.name, self.fname(&o.grade.floor), self.rule.id, self.req.predicted_dbm, self.req.measured_dbm),
+                title: format!("Test cells, {} on {} ({}): each cell's mean level (dBm) and verdict; a cell judged on its measurements (m) passes when their mean reaches {:.1} dBm, one judged on the prediction when {:.0} % of its points reach {:.1} dBm; failed cells hatched and marked F; a value too long for its cell is shortened or left out, as the note under the map counts", self.svc.name, self.fname(&o.grade.floor), self.rule.id, self.req.measured_dbm, 100.0 * self.rule.predicted_cell_point_fraction, self.req.predicted_dbm),
                 kind: "grading-map".into(),
                 x_label: String::new(),
                 y_label: String::new(),

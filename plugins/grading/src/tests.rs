@@ -87,6 +87,14 @@ fn hand_made_floor_cells_and_verdict() {
     assert_eq!(v.pass, Some(false));
     assert_eq!(v.reasons.len(), 3, "{:?}", v.reasons);
     assert!(g.cells.iter().all(|c| c.judged_by == "predicted"));
+    // One grid point per cell: its mean predicted level is that point's level.
+    let mean = |ix, iy| {
+        g.cells
+            .iter()
+            .find(|c| (c.ix, c.iy) == (ix, iy))
+            .and_then(|c| c.predicted_mean_dbm)
+    };
+    assert_eq!((mean(0, 0), mean(2, 3)), (Some(-100.0), Some(-80.0)));
 
     let g = grade_floor(&f, &levels(&[(0, 0)]), &[], &rule, &req0());
     assert!((g.verdict.general_fraction.unwrap() - 0.95).abs() < 1e-12);
@@ -332,4 +340,48 @@ fn uplift_for_a_quantile() {
     assert!((uplift_needed_db(&mut v, -95.0, 0.9) - 4.0).abs() < 1e-12);
     let mut v: Vec<f64> = (0..10).map(|i| -100.0 + i as f64).collect();
     assert_eq!(uplift_needed_db(&mut v, -120.0, 0.9), 0.0);
+}
+
+/// Hand count: four measured points -100, -95, -90, -85 dBm of one service; the
+/// empirical distribution puts k of 4 points at or below the k-th level (25 % steps).
+/// Threshold -95 dBm + 5 dB design margin: a measured point must reach -90 dBm, which
+/// -100 and -95 miss (2 below).
+#[test]
+fn cdf_with_threshold_and_required_level_lines() {
+    let m = |service: &str, level_dbm: f64| rfsite_plugin::Measurement {
+        floor: "L1".into(),
+        service: service.into(),
+        x_m: 0.0,
+        y_m: 0.0,
+        level_dbm,
+        file: "a.csv".into(),
+        line: 2,
+    };
+    let pts = vec![
+        m("s", -90.0),
+        m("s", -100.0),
+        m("other", -50.0),
+        m("s", -85.0),
+        m("s", -95.0),
+    ];
+    let req = RequiredLevel::new(-95.0, 5.0, 8.0, 0.9, 10.25);
+    let f = cdf::figure("s", "Svc", &req, &pts).unwrap();
+    assert_eq!(f.id, "survey-cdf-s");
+    assert!(
+        f.title.contains("4 points, 2 below the required level"),
+        "{}",
+        f.title
+    );
+    assert_eq!(
+        f.series[0].points,
+        vec![[-100.0, 25.0], [-95.0, 50.0], [-90.0, 75.0], [-85.0, 100.0]]
+    );
+    assert_eq!(f.series[1].name, "threshold -95.0 dBm");
+    assert_eq!(f.series[1].points, vec![[-95.0, 0.0], [-95.0, 100.0]]);
+    assert_eq!(
+        f.series[2].name,
+        "required level -90.0 dBm (threshold + 5.0 dB margin)"
+    );
+    assert_eq!(f.series[2].points, vec![[-90.0, 0.0], [-90.0, 100.0]]);
+    assert!(cdf::figure("s", "Svc", &req, &[m("other", -50.0)]).is_none());
 }

@@ -148,6 +148,9 @@ pub struct Reflector {
     pub material: String,
     /// Material name.
     pub material_name: String,
+    /// The material's class (the library's `class`): reflectors of one class and service
+    /// share a figure.
+    pub class: rfsite_model::MaterialClass,
     /// Thickness used for slab materials, m (`None` for empirical entries).
     pub thickness_m: Option<f64>,
     /// |Gamma| at normal incidence.
@@ -322,6 +325,7 @@ fn build_reflector(
         freq_mhz: f,
         material: m.id.clone(),
         material_name: m.name.clone(),
+        class: m.class,
         thickness_m: empirical_refl.is_none().then_some(part.thickness_m),
         gamma_abs: g,
         gamma_phase_deg: gamma.arg().to_degrees(),
@@ -368,30 +372,10 @@ impl Reflectors {
                 }
             }
         }
-        // Figure ids: one per (service, material); a thickness suffix when one material
-        // appears at several thicknesses.
-        let mut count: BTreeMap<(usize, String), usize> = BTreeMap::new();
-        for ((si, m, _), r) in &map {
-            if r.is_some() {
-                *count.entry((*si, m.clone())).or_default() += 1;
-            }
-        }
-        for ((si, m, t), r) in map.iter_mut() {
-            if let Some(r) = r {
-                r.walls.sort();
-                // One name per key (`rfsite_model::names`): the thickness in whole
-                // millimetres when it is one, else in micrometres.
-                let thick = if t % 1000 == 0 {
-                    format!("{}mm", t / 1000)
-                } else {
-                    format!("{t}um")
-                };
-                r.figure = if count[&(*si, m.clone())] > 1 {
-                    figure_stem("nulls", &[&r.service, m, &thick])
-                } else {
-                    figure_stem("nulls", &[&r.service, m])
-                };
-            }
+        // Figure ids: one per (service, material class), each material a series in it.
+        for r in map.values_mut().flatten() {
+            r.walls.sort();
+            r.figure = figure_stem("nulls", &[&r.service, r.class.id()]);
         }
         Reflectors { map, warnings }
     }
@@ -825,28 +809,8 @@ impl Plugin for ReflectionNulls {
                     })
                     .collect(),
             });
-            for r in &reflectors {
-                out.figures.push(Figure {
-                    id: r.figure.clone(),
-                    title: format!(
-                        "Standing wave in front of {} at {} MHz ({}), |Gamma| = {:.2}",
-                        r.material_name, r.freq_mhz, r.service, r.gamma_abs
-                    ),
-                    kind: "line".into(),
-                    x_label: "distance from the wall (m)".into(),
-                    y_label: "field relative to free space (dB)".into(),
-                    series: vec![
-                        Series {
-                            name: "20 log10 |1 + Gamma e^(-j2kx)|".into(),
-                            points: pattern_points(r.gamma, r.freq_mhz, opts.max_distance_m, cap),
-                        },
-                        Series {
-                            name: "free space".into(),
-                            points: vec![[0.0, 0.0], [opts.max_distance_m, 0.0]],
-                        },
-                    ],
-                });
-            }
+            out.figures
+                .extend(class_figures(&reflectors, opts.max_distance_m, cap));
             if reflectors.iter().any(|r| r.capped) {
                 out.warnings.push(Warning {
                     plugin: id.clone(),
@@ -875,6 +839,62 @@ impl Plugin for ReflectionNulls {
             .insert("min_gamma".into(), serde_json::json!(opts.min_gamma));
         Ok(out)
     }
+}
+
+/// The legend name of a reflector's curve: material name, the thickness when the same
+/// material appears at another thickness in the figure, and |Gamma|.
+fn series_name(r: &Reflector, same_material: usize) -> String {
+    let thick = match r.thickness_m {
+        Some(t) if same_material > 1 => format!(", {:.0} mm", 1000.0 * t),
+        _ => String::new(),
+    };
+    format!("{}{thick} (|Gamma| = {:.2})", r.material_name, r.gamma_abs)
+}
+
+/// One figure per (service, material class): a curve per reflector in it, in the order
+/// of the reflectors (material id, thickness), then the free-space line.
+pub fn class_figures(reflectors: &[&Reflector], max_distance_m: f64, cap: f64) -> Vec<Figure> {
+    let mut groups: BTreeMap<&str, Vec<&Reflector>> = BTreeMap::new();
+    for r in reflectors {
+        groups.entry(r.figure.as_str()).or_default().push(r);
+    }
+    groups
+        .into_iter()
+        .map(|(id, rs)| {
+            let first = rs[0];
+            let mut series: Vec<Series> = rs
+                .iter()
+                .map(|r| Series {
+                    name: series_name(r, rs.iter().filter(|o| o.material == r.material).count()),
+                    points: pattern_points(r.gamma, r.freq_mhz, max_distance_m, cap),
+                })
+                .collect();
+            series.push(Series {
+                name: "free space (no reflection)".into(),
+                points: vec![[0.0, 0.0], [max_distance_m, 0.0]],
+            });
+            // Empirical tables give |Gamma| only, the phase taken as pi: such curves share
+            // their nulls and differ in depth alone, which the title says.
+            let same_phase = if rs.len() > 1 && rs.iter().all(|r| r.empirical) {
+                "; each |Gamma| is empirical with phase pi assumed, so the nulls coincide and only their depths differ"
+            } else {
+                ""
+            };
+            Figure {
+                id: id.to_string(),
+                title: format!(
+                    "Standing waves in front of {} walls at {} MHz ({}): 20 log10 |1 + Gamma e^(-j2kx)| per material, nulls drawn at -{cap:.0} dB at most{same_phase}",
+                    first.class.label(),
+                    first.freq_mhz,
+                    first.service
+                ),
+                kind: "line".into(),
+                x_label: "distance from the wall (m)".into(),
+                y_label: "field relative to free space (dB)".into(),
+                series,
+            }
+        })
+        .collect()
 }
 
 fn to_json<T: Serialize>(v: &T) -> Result<serde_json::Value, PluginError> {

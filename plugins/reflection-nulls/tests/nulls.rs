@@ -9,6 +9,11 @@ use rfsite_plugin_reflection_nulls::*;
 /// service at `freq_mhz`, and transmitters at the given distances in front of the wall
 /// (at x = 5).
 fn site(material: &str, freq_mhz: f64, tx_distances_m: &[f64]) -> Site {
+    site_with(material, freq_mhz, tx_distances_m, "")
+}
+
+/// As [`site`], with `extra` TOML (more walls, say) appended.
+fn site_with(material: &str, freq_mhz: f64, tx_distances_m: &[f64], extra: &str) -> Site {
     let mut text = format!(
         r#"
 [site]
@@ -39,6 +44,7 @@ threshold_dbm = -95.0
             5.0 + d
         ));
     }
+    text.push_str(extra);
     let loaded = load(
         &SourceFile::new("t.toml", text),
         &MaterialLibrary::builtin(),
@@ -223,7 +229,8 @@ fn figure_and_summary_table() {
     let out = run(&s);
     assert_eq!(out.figures.len(), 1);
     let fig = &out.figures[0];
-    assert_eq!(fig.id, "nulls-svc.metal-cladding");
+    // One figure per service and material class (`rfsite_model::names`).
+    assert_eq!(fig.id, "nulls-svc.metal");
     assert_eq!(fig.kind, "line");
     let pts = &fig.series[0].points;
     assert_eq!(pts[0][0], 0.0);
@@ -298,4 +305,67 @@ fn depth_helpers() {
     // |G| = 1: capped null depth plus the 6.02 dB peak.
     assert!((capped_peak_to_null_db(1.0, 30.0) - (30.0 + 20.0 * 2f64.log10())).abs() < 1e-12);
     assert!((null_fade_db(0.5, 30.0) - 20.0 * 2f64.log10()).abs() < 1e-12);
+}
+
+#[test]
+fn one_figure_per_material_class_with_a_curve_per_material() {
+    // Two metal materials and one coated glazing, on one floor: the metal ones share the
+    // figure `nulls-svc.metal` (material library `class = "metal"`), the glazing has
+    // `nulls-svc.coated-glass`; each curve is named with its material and |Gamma|.
+    let extra = r#"
+[[walls]]
+id = "door"
+floor = "L1"
+material = "metal-door"
+thickness = 0.002
+points = [[0, 2], [10, 2]]
+[[walls]]
+id = "glazing"
+floor = "L1"
+material = "coated-glazing"
+thickness = 0.006
+points = [[0, 8], [10, 8]]
+"#;
+    let s = site_with("metal-cladding", 900.0, &[], extra);
+    let out = run(&s);
+    let ids: Vec<&str> = out.figures.iter().map(|f| f.id.as_str()).collect();
+    assert_eq!(ids, vec!["nulls-svc.coated-glass", "nulls-svc.metal"]);
+    let reflectors = out.extra["reflectors"].as_array().unwrap();
+    for fig in &out.figures {
+        let mine: Vec<_> = reflectors
+            .iter()
+            .filter(|r| r["figure"] == fig.id.as_str())
+            .collect();
+        // A curve per reflector of the class, then free space.
+        assert_eq!(fig.series.len(), mine.len() + 1, "{}", fig.id);
+        for (series, r) in fig.series.iter().zip(&mine) {
+            let name = format!(
+                "{} (|Gamma| = {:.2})",
+                r["material_name"].as_str().unwrap(),
+                r["gamma_abs"].as_f64().unwrap()
+            );
+            assert_eq!(series.name, name);
+            // Its nulls (the plugin's own list) are at the drawn minimum, -max_fade_db at
+            // most: the curve is the reflector's, not a neighbour's.
+            let low = series
+                .points
+                .iter()
+                .map(|p| p[1])
+                .fold(f64::INFINITY, f64::min);
+            assert!(low >= -DEFAULT_MAX_FADE_DB - 1e-9);
+        }
+        let last = fig.series.last().unwrap();
+        assert_eq!(last.name, "free space (no reflection)");
+        assert!(last.points.iter().all(|p| p[1] == 0.0));
+    }
+    let metal = out
+        .figures
+        .iter()
+        .find(|f| f.id == "nulls-svc.metal")
+        .unwrap();
+    assert_eq!(
+        metal.series.len(),
+        3,
+        "metal-cladding and metal-door, free space"
+    );
 }

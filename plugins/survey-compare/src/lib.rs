@@ -3,8 +3,8 @@
 //! Compares the prediction with the survey: the predicted level at each measured point,
 //! by bilinear interpolation between the prediction grid's cell centres, and the error
 //! statistics per service and floor (count, mean, standard deviation, RMSE, the worst
-//! points), a scatter of predicted against measured and the cumulative distribution of
-//! measured levels. It also lists the site's material probes beside the library values
+//! points) and a scatter of predicted against measured (the cumulative distribution of
+//! measured levels is the grading plugin's figure, beside the required level). It also lists the site's material probes beside the library values
 //! they override.
 //!
 //! Error convention: error = predicted - measured (dB); a positive mean says the model
@@ -283,7 +283,7 @@ impl Plugin for SurveyCompare {
     }
     fn method(&self) -> Method {
         Method {
-            summary: "Predicted level at each survey point by bilinear interpolation between prediction grid cell centres; error = predicted - measured, per service and floor: count, mean, standard deviation (n - 1), RMSE and the worst points; cumulative distribution of measured levels".into(),
+            summary: "Predicted level at each survey point by bilinear interpolation between prediction grid cell centres; error = predicted - measured, per service and floor: count, mean, standard deviation (n - 1), RMSE and the worst points".into(),
             citations: vec!["Descriptive statistics and bilinear interpolation (textbook)".into()],
             validity: "as good as the survey's position accuracy and the grid step; points within half a grid step of the outline use the nearest predicted cells".into(),
         }
@@ -416,48 +416,8 @@ impl Plugin for SurveyCompare {
                 series,
             });
         }
-        // Cumulative distribution of measured levels per service.
-        let mut cdf = Vec::new();
-        for svc in &site.services {
-            let mut v: Vec<f64> = ctx
-                .surveys
-                .points
-                .iter()
-                .filter(|m| m.service == svc.id)
-                .map(|m| m.level_dbm)
-                .collect();
-            if v.is_empty() {
-                continue;
-            }
-            v.sort_by(f64::total_cmp);
-            let n = v.len();
-            // At most 400 steps per curve: evenly spaced ranks.
-            let k = n.min(400);
-            let points = (0..k)
-                .map(|j| {
-                    let i = if k == n {
-                        j
-                    } else {
-                        j * (n - 1) / (k - 1).max(1)
-                    };
-                    [v[i], 100.0 * (i + 1) as f64 / n as f64]
-                })
-                .collect();
-            cdf.push(Series {
-                name: format!("{} (threshold {} dBm)", svc.name, f1(svc.threshold_dbm)),
-                points,
-            });
-        }
-        if !cdf.is_empty() {
-            out.figures.push(Figure {
-                id: "survey-cdf".into(),
-                title: "Cumulative distribution of measured levels".into(),
-                kind: "line".into(),
-                x_label: "measured level (dBm)".into(),
-                y_label: "points at or below (%)".into(),
-                series: cdf,
-            });
-        }
+        // The cumulative distribution of measured levels is the grading's figure
+        // (`survey-cdf-<service>`): it draws the required level, which is the grading's.
         let v = serde_json::to_value(&groups).map_err(|e| PluginError::Failed(e.to_string()))?;
         out.extra
             .insert("error_convention".into(), "predicted - measured, dB".into());
