@@ -7,8 +7,7 @@
 //! each site's `findings.json`, so a site skipped because nothing changed contributes
 //! exactly what it contributed before, and a merge of shards equals one run.
 
-use std::collections::{BTreeMap, BTreeSet};
-use std::io::{IsTerminal, Write};
+use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;

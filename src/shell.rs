@@ -42,7 +42,7 @@ pub fn man(a: ManArgs, mut cmd: clap::Command) -> Outcome {
             None => {
                 let known: Vec<&str> = cmd
                     .get_subcommands()
-                    .filter(|s| !s.is_hide_set())
+                    .filter(|s| !s.is_hide_set() && s.get_name() != "help")
                     .map(|s| s.get_name())
                     .collect();
                 eprintln!(
@@ -54,7 +54,10 @@ pub fn man(a: ManArgs, mut cmd: clap::Command) -> Outcome {
         },
     };
     let mut out = Vec::new();
-    if let Err(e) = clap_mangen::Man::new(page).render(&mut out) {
+    if let Err(e) = clap_mangen::Man::new(page)
+        .source(concat!("rfsite ", env!("CARGO_PKG_VERSION")))
+        .render(&mut out)
+    {
         eprintln!("error: man page: {e}");
         return Outcome::Failed;
     }
