@@ -63,7 +63,10 @@ pub fn load_quiet(site: &std::path::Path) -> Result<(World, LoadedSite), LoadErr
             items.sort_by_key(|x| x.severity);
             let text = format!(
                 "{}{} error(s), {} warning(s)",
-                d.items.iter().map(|x| x.to_string()).collect::<String>(),
+                d.items
+                    .iter()
+                    .map(|x| x.render(crate::term::color_stderr()))
+                    .collect::<String>(),
                 d.error_count(),
                 d.warning_count()
             );
@@ -84,7 +87,7 @@ pub fn load(site: &std::path::Path) -> Result<(World, LoadedSite), Outcome> {
     match load_quiet(site) {
         Ok((w, l)) => {
             for x in &l.warnings.items {
-                eprint!("{x}");
+                eprint!("{}", x.render(crate::term::color_stderr()));
             }
             Ok((w, l))
         }
@@ -121,7 +124,7 @@ pub fn run(a: Args) -> Outcome {
         }
     };
     for x in &problems.items {
-        eprint!("{x}");
+        eprint!("{}", x.render(crate::term::color_stderr()));
     }
     for line in command_lines(&specs, &l.site) {
         println!("{line}");
@@ -134,7 +137,9 @@ pub fn run(a: Args) -> Outcome {
         );
         return Outcome::BadInput;
     }
-    print_summary(&world, &l, l.warnings.items.len() + problems.items.len());
+    if !crate::term::quiet() {
+        print_summary(&world, &l, l.warnings.items.len() + problems.items.len());
+    }
     Outcome::Ok
 }
 

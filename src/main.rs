@@ -3,7 +3,7 @@
 
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand};
+use clap::{CommandFactory, Parser, Subcommand};
 
 mod calc;
 mod check;
@@ -13,8 +13,11 @@ mod materials;
 mod plan;
 mod plugins;
 mod portfolio;
+mod progress;
 mod report;
 mod rules;
+mod shell;
+mod term;
 
 /// Exit status of a subcommand.
 pub enum Outcome {
@@ -33,6 +36,10 @@ pub enum Outcome {
     about = "Radio coverage assessment of buildings: a site project in, a signed-off report out"
 )]
 struct Cli {
+    /// Print only errors, warnings and a command's answer: no progress display, no status
+    /// or summary lines.
+    #[arg(long, short, global = true)]
+    quiet: bool,
     #[command(subcommand)]
     cmd: Cmd,
 }
@@ -59,6 +66,10 @@ enum Cmd {
     /// Run every site below a folder; write one folder per site and a portfolio summary.
     /// `rfsite portfolio merge OUT... -o MERGED` combines the outputs of shards.
     Portfolio(portfolio::Args),
+    /// A shell completion script on stdout: `rfsite completions bash > ~/.local/share/bash-completion/completions/rfsite`.
+    Completions(shell::CompletionsArgs),
+    /// The manual page in roff on stdout: `rfsite man > rfsite.1`, `rfsite man report`.
+    Man(shell::ManArgs),
     /// One site of a portfolio, run in a child process (internal).
     #[command(hide = true)]
     PortfolioSite(isolate::Args),
@@ -66,6 +77,7 @@ enum Cmd {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    term::set_quiet(cli.quiet);
     let outcome = match cli.cmd {
         Cmd::Init(a) => init::run(a),
         Cmd::Check(a) => check::run(a),
@@ -77,6 +89,8 @@ fn main() -> ExitCode {
         Cmd::Rules(a) => rules::run(a),
         Cmd::Portfolio(a) => portfolio::run(a),
         Cmd::PortfolioSite(a) => isolate::child(a),
+        Cmd::Completions(a) => shell::completions(a, Cli::command()),
+        Cmd::Man(a) => shell::man(a, Cli::command()),
     };
     match outcome {
         Outcome::Ok => ExitCode::SUCCESS,

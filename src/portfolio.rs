@@ -7,8 +7,7 @@
 //! each site's `findings.json`, so a site skipped because nothing changed contributes
 //! exactly what it contributed before, and a merge of shards equals one run.
 
-use std::collections::{BTreeMap, BTreeSet};
-use std::io::{IsTerminal, Write};
+use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
@@ -198,73 +197,6 @@ fn pool<T: Sync, R: Send>(jobs: usize, items: &[T], f: impl Fn(&T) -> R + Sync) 
         .collect()
 }
 
-/// The progress line on stderr: drawn only when stderr is a terminal.
-struct Progress {
-    tty: bool,
-    total: usize,
-    done: AtomicUsize,
-    running: Mutex<BTreeSet<String>>,
-    t0: Instant,
-}
-
-fn hms(d: Duration) -> String {
-    let s = d.as_secs();
-    if s >= 3600 {
-        format!("{}h{:02}m", s / 3600, (s % 3600) / 60)
-    } else {
-        format!("{}m{:02}s", s / 60, s % 60)
-    }
-}
-
-impl Progress {
-    fn draw(&self) {
-        if !self.tty {
-            return;
-        }
-        let done = self.done.load(Ordering::SeqCst);
-        let el = self.t0.elapsed();
-        let eta = if done > 0 {
-            hms(el.mul_f64((self.total - done) as f64 / done as f64))
-        } else {
-            "?".into()
-        };
-        let cur = self
-            .running
-            .lock()
-            .map(|r| r.iter().cloned().collect::<Vec<_>>().join(", "))
-            .unwrap_or_default();
-        let mut line = format!(
-            "{done}/{} sites, elapsed {}, remaining ~{eta}; running: {cur}",
-            self.total,
-            hms(el)
-        );
-        line.truncate(
-            line.char_indices()
-                .nth(150)
-                .map(|(i, _)| i)
-                .unwrap_or(line.len()),
-        );
-        let mut e = std::io::stderr().lock();
-        let _ = write!(e, "\r\x1b[2K{line}");
-        let _ = e.flush();
-    }
-    /// Prints a line above the progress line.
-    fn say(&self, msg: &str) {
-        let mut e = std::io::stderr().lock();
-        if self.tty {
-            let _ = write!(e, "\r\x1b[2K");
-        }
-        let _ = writeln!(e, "{msg}");
-        drop(e);
-        self.draw();
-    }
-    fn clear(&self) {
-        if self.tty {
-            let _ = write!(std::io::stderr().lock(), "\r\x1b[2K");
-        }
-    }
-}
-
 /// What phase one learns of a site: its id, or why it cannot run.
 enum Probe {
     Id(String, String),
@@ -357,70 +289,46 @@ pub fn run(a: Args) -> Outcome {
         }
     }
 
-    let progress = Progress {
-        tty: std::io::stderr().is_terminal(),
-        total: todo.len(),
-        done: AtomicUsize::new(0),
-        running: Mutex::new(BTreeSet::new()),
-        t0,
-    };
+    let progress = crate::progress::Progress::new(todo.len(), t0.elapsed());
     let skipped = AtomicUsize::new(0);
-    let stop = std::sync::atomic::AtomicBool::new(false);
-    let ran: Vec<SiteEntry> = std::thread::scope(|s| {
-        if progress.tty {
-            s.spawn(|| {
-                while !stop.load(Ordering::SeqCst) {
-                    progress.draw();
-                    std::thread::sleep(Duration::from_millis(250));
-                }
-            });
+    let ran: Vec<SiteEntry> = pool(jobs, &todo, |(rel, folder, id)| {
+        progress.start(id);
+        let args = isolate::child_args(
+            "run",
+            rel,
+            folder,
+            Some((id, &out)),
+            a.template.as_deref(),
+            a.plugins.as_deref(),
+            (a.force, a.allow_site_commands),
+        );
+        let (entry, reused) = match isolate::in_child(args, limits) {
+            Ok(v) => run_from(rel, id, &v),
+            Err(e) => (
+                failed_entry(rel, Some(id.clone()), None, "failed", vec![e]),
+                false,
+            ),
+        };
+        progress.finish(id);
+        if reused {
+            skipped.fetch_add(1, Ordering::SeqCst);
         }
-        let r = pool(jobs, &todo, |(rel, folder, id)| {
-            if let Ok(mut r) = progress.running.lock() {
-                r.insert(id.clone());
-            }
-            let args = isolate::child_args(
-                "run",
-                rel,
-                folder,
-                Some((id, &out)),
-                a.template.as_deref(),
-                a.plugins.as_deref(),
-                (a.force, a.allow_site_commands),
-            );
-            let (entry, reused) = match isolate::in_child(args, limits) {
-                Ok(v) => run_from(rel, id, &v),
-                Err(e) => (
-                    failed_entry(rel, Some(id.clone()), None, "failed", vec![e]),
-                    false,
-                ),
-            };
-            if let Ok(mut r) = progress.running.lock() {
-                r.remove(id);
-            }
-            progress.done.fetch_add(1, Ordering::SeqCst);
-            if reused {
-                skipped.fetch_add(1, Ordering::SeqCst);
-            }
-            let line = match (entry.status.as_str(), reused) {
-                ("ok", true) => format!(
-                    "unchanged {rel} ({id}): {} — kept the earlier outputs",
-                    entry.verdict.as_deref().unwrap_or("")
-                ),
-                ("ok", false) => format!(
-                    "done      {rel} ({id}): {}",
-                    entry.verdict.as_deref().unwrap_or("")
-                ),
-                (st, _) => format!(
-                    "{st:<9} {rel} ({id}): {}",
-                    entry.problems.first().map(String::as_str).unwrap_or("")
-                ),
-            };
-            progress.say(&line);
-            entry
-        });
-        stop.store(true, Ordering::SeqCst);
-        r
+        let line = match (entry.status.as_str(), reused) {
+            ("ok", true) => format!(
+                "unchanged {rel} ({id}): {} — kept the earlier outputs",
+                entry.verdict.as_deref().unwrap_or("")
+            ),
+            ("ok", false) => format!(
+                "done      {rel} ({id}): {}",
+                entry.verdict.as_deref().unwrap_or("")
+            ),
+            (st, _) => format!(
+                "{st:<9} {rel} ({id}): {}",
+                entry.problems.first().map(String::as_str).unwrap_or("")
+            ),
+        };
+        progress.say(&line);
+        entry
     });
     progress.clear();
     entries.extend(ran);
@@ -624,7 +532,9 @@ fn report_totals(
     } else {
         0.0
     };
-    println!(
+    let quiet = crate::term::quiet();
+    if !quiet {
+        println!(
         "portfolio: {} site(s){shard}: {} pass, {} fail, {} bad input, {} failed to run; {} unchanged and kept; {:.1} s with {jobs} job(s), {rate:.1} sites/min",
         t.sites,
         t.pass,
@@ -634,16 +544,19 @@ fn report_totals(
         skipped.min(ran),
         took.as_secs_f64()
     );
+    }
     for s in p.sites.iter().filter(|s| s.status != "ok") {
         eprintln!("error: site `{}` ({}) did not run:", s.path, s.status);
         for l in &s.problems {
             eprintln!("  {l}");
         }
     }
-    println!(
-        "portfolio: wrote {}/portfolio.pdf, portfolio.json and portfolio.csv",
-        out.display()
-    );
+    if !quiet {
+        println!(
+            "portfolio: wrote {}/portfolio.pdf, portfolio.json and portfolio.csv",
+            out.display()
+        );
+    }
 }
 
 /// `portfolio merge`: one summary over shard outputs; the site folders are copied beside it.

@@ -284,7 +284,10 @@ pub fn run(a: Args) -> Outcome {
     match run_site(&world, &loaded, &settings, &out) {
         Ok(d) => {
             for w in &d.warnings {
-                eprint!("{w}");
+                eprint!("{}", w.render(crate::term::color_stderr()));
+            }
+            if crate::term::quiet() {
+                return Outcome::Ok;
             }
             let fails = d.assessment.services.iter().filter(|s| !s.pass).count();
             println!(

@@ -26,6 +26,30 @@ fn two_runs_give_byte_identical_pdf_and_findings() {
         let y = std::fs::read(b.path().join(f)).unwrap();
         assert!(x == y, "{f} differs between two runs");
     }
+    // Every other output too (figures, exports): the same files, byte for byte.
+    let files = |d: &std::path::Path| -> Vec<(std::path::PathBuf, Vec<u8>)> {
+        let mut v: Vec<_> = walkdir::WalkDir::new(d)
+            .sort_by_file_name()
+            .into_iter()
+            .filter_map(Result::ok)
+            .filter(|e| e.file_type().is_file())
+            .map(|e| {
+                let rel = e.path().strip_prefix(d).unwrap().to_path_buf();
+                (rel, std::fs::read(e.path()).unwrap())
+            })
+            .collect();
+        v.sort();
+        v
+    };
+    let (fa, fb) = (files(a.path()), files(b.path()));
+    assert!(fa.len() > 2, "{} files", fa.len());
+    assert_eq!(
+        fa.iter().map(|f| &f.0).collect::<Vec<_>>(),
+        fb.iter().map(|f| &f.0).collect::<Vec<_>>()
+    );
+    for ((name, x), (_, y)) in fa.iter().zip(&fb) {
+        assert!(x == y, "{} differs between two runs", name.display());
+    }
 }
 
 /// Issue 11 item 6: `report SITE -o SITE` is refused before any work (exit 2), and a

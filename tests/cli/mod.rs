@@ -5,6 +5,7 @@ mod calc_cli;
 mod check_broken;
 mod check_limits;
 mod check_parity;
+mod conventions;
 mod determinism;
 mod external;
 mod figures;

@@ -4,6 +4,8 @@
 use std::fmt;
 use std::ops::Range;
 
+use annotate_snippets::{AnnotationKind, Group, Level, Renderer, Snippet};
+
 /// How bad a problem is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -149,33 +151,58 @@ impl Diagnostic {
     }
 }
 
-impl fmt::Display for Diagnostic {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let kind = match self.severity {
-            Severity::Error => "error",
-            Severity::Warning => "warning",
+impl Diagnostic {
+    /// The problem as text: `file:line:column: error: message` on the first line, then the
+    /// source line with the span underlined and the hint, laid out by `annotate-snippets`
+    /// (the renderer the Rust compiler uses for its own diagnostics). `styled` adds ANSI
+    /// colours; the caller decides (only on a terminal, never with `NO_COLOR`).
+    pub fn render(&self, styled: bool) -> String {
+        let (kind, level) = match self.severity {
+            Severity::Error => ("error", Level::ERROR),
+            Severity::Warning => ("warning", Level::WARNING),
         };
-        writeln!(
-            f,
-            "{}:{}:{}: {}: {}",
-            self.file, self.line, self.column, kind, self.message
-        )?;
+        let title = format!(
+            "{}:{}:{}: {kind}: {}",
+            self.file, self.line, self.column, self.message
+        );
+        let mut group = Group::with_title(level.no_name().primary_title(title));
         if !self.source_line.is_empty() {
-            let gutter = self.line.to_string().len();
-            writeln!(f, "{:gutter$} |", "")?;
-            writeln!(f, "{} | {}", self.line, self.source_line)?;
-            let pad: String = self
-                .source_line
-                .chars()
-                .take(self.column - 1)
-                .map(|c| if c == '\t' { '\t' } else { ' ' })
-                .collect();
-            writeln!(f, "{:gutter$} | {}{}", "", pad, "^".repeat(self.width))?;
+            group = group.element(
+                Snippet::source(self.source_line.as_str())
+                    .line_start(self.line)
+                    .annotation(AnnotationKind::Primary.span(self.underlined())),
+            );
         }
         if let Some(h) = &self.hint {
-            writeln!(f, "  = hint: {h}")?;
+            group = group.element(Level::HELP.with_name("hint").message(h.as_str()));
         }
-        Ok(())
+        let renderer = if styled {
+            Renderer::styled()
+        } else {
+            Renderer::plain()
+        };
+        let mut text = renderer.render(&[group]);
+        text.push('\n');
+        text
+    }
+
+    /// The byte range of the source line under the caret: `width` characters from
+    /// `column`, cut at the end of the line.
+    fn underlined(&self) -> Range<usize> {
+        let line = &self.source_line;
+        let byte = |chars: usize| {
+            line.char_indices()
+                .nth(chars)
+                .map_or(line.len(), |(i, _)| i)
+        };
+        let start = byte(self.column.saturating_sub(1));
+        start..byte(self.column.saturating_sub(1) + self.width.max(1)).max(start)
+    }
+}
+
+impl fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.render(false))
     }
 }
 

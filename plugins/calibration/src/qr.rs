@@ -1,13 +1,21 @@
-//! Householder QR with column pivoting for small dense least-squares problems
-//! (Golub & Van Loan, "Matrix Computations", 4th ed., sections 5.2 and 5.4.2).
+//! Small dense least-squares problems by Householder QR from `nalgebra` (`DMatrix::qr`,
+//! Golub & Van Loan, "Matrix Computations", 4th ed., section 5.2), never by the normal
+//! equations, with the columns taken in the order of column-pivoted QR (section 5.4.2).
 //!
-//! Columns are chosen in order of the largest remaining norm *relative to the column's own
-//! norm*, which is pivoted QR of the column-scaled matrix: the rank decision does not depend
-//! on the units of a parameter (1 for an offset, about 15 for 10 log10 d). A column whose
-//! remaining relative norm falls below the tolerance is a combination of the chosen ones
-//! (dependent): it gets no share of the solution (a basic solution), and is reported.
-//! Ties go to the earlier column, so of two inseparable columns the first one listed is
-//! the one solved for.
+//! Columns are chosen in order of the largest part outside the span of the columns chosen
+//! before, *relative to the column's own norm*, which is pivoted QR of the column-scaled
+//! matrix: the rank decision does not depend on the units of a parameter (1 for an offset,
+//! about 15 for 10 log10 d). A column whose remaining relative norm falls below the
+//! tolerance is a combination of the chosen ones (dependent): it gets no share of the
+//! solution (a basic solution), and is reported. Ties go to the earlier column, so of two
+//! inseparable columns the first one listed is the one solved for.
+//!
+//! `nalgebra`'s own `ColPivQR` pivots on the largest single entry rather than the largest
+//! column norm, which does not reveal the rank, so the order is chosen here (each
+//! candidate's remaining part measured against an orthonormal basis of the chosen columns,
+//! itself from `nalgebra`'s QR) and the chosen columns are then factorised by `nalgebra`.
+
+use nalgebra::{DMatrix, DVector};
 
 /// A column is dependent when less than this fraction of its norm lies outside the span of
 /// the columns chosen before it (an rfsite choice: about 1e7 times the float64 epsilon).
@@ -20,79 +28,79 @@ pub struct Qr {
     n: usize,
     /// Chosen (independent) columns in pivot order.
     order: Vec<usize>,
-    /// R, rank x rank, upper triangular: `r[i][c]` is row i of chosen column c.
-    r: Vec<Vec<f64>>,
+    /// R, rank x rank, upper triangular, of the chosen columns in pivot order.
+    r: DMatrix<f64>,
     /// First `rank` entries of Q^T rhs.
-    qtb: Vec<f64>,
+    qtb: DVector<f64>,
 }
 
-fn norm(v: &[f64]) -> f64 {
-    // Scaled to avoid overflow/underflow of the squares.
-    let s = v.iter().fold(0.0_f64, |a, x| a.max(x.abs()));
-    if s == 0.0 || !s.is_finite() {
-        return s;
-    }
-    s * v.iter().map(|x| (x / s).powi(2)).sum::<f64>().sqrt()
+/// Each column scaled to unit norm; None for a zero (or non-finite) column.
+fn unit_columns(cols: &[Vec<f64>]) -> Vec<Option<DVector<f64>>> {
+    cols.iter()
+        .map(|c| {
+            let v = DVector::from_column_slice(c);
+            let norm = v.norm();
+            (norm > 0.0 && norm.is_finite()).then(|| v / norm)
+        })
+        .collect()
 }
 
-/// Applies the reflector `I - 2 v v^T / (v^T v)` to `x[k..]`.
-fn reflect(v: &[f64], vtv: f64, x: &mut [f64], k: usize) {
-    let dot: f64 = v.iter().zip(&x[k..]).map(|(a, b)| a * b).sum();
-    let f = 2.0 * dot / vtv;
-    for (xi, vi) in x[k..].iter_mut().zip(v) {
-        *xi -= f * vi;
+/// The pivot order: repeatedly the column with the largest relative part outside the span
+/// of those chosen (ties to the earlier column), until none exceeds [`DEPENDENT_REL`] or
+/// the rows are used up.
+fn pivot_order(cols: &[Vec<f64>], m: usize) -> Vec<usize> {
+    let unit = unit_columns(cols);
+    let mut order: Vec<usize> = Vec::new();
+    let mut basis: Option<DMatrix<f64>> = None;
+    while order.len() < m.min(cols.len()) {
+        let best = unit
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| !order.contains(j))
+            .filter_map(|(j, u)| u.as_ref().map(|u| (j, u)))
+            .map(|(j, u)| {
+                let rest = match &basis {
+                    Some(q) => u - q * q.tr_mul(u),
+                    None => u.clone(),
+                };
+                (j, rest.norm())
+            })
+            .max_by(|a, b| a.1.total_cmp(&b.1).then(b.0.cmp(&a.0)));
+        let Some((j, _)) = best.filter(|b| b.1 > DEPENDENT_REL) else {
+            break;
+        };
+        order.push(j);
+        let chosen = DMatrix::from_fn(m, order.len(), |i, c| {
+            unit[order[c]].as_ref().map_or(0.0, |u| u[i])
+        });
+        basis = Some(chosen.qr().q());
     }
-}
-
-/// The reflector that maps `x[k..]` to `(alpha, 0, ..., 0)`; None when `x[k..]` is zero.
-fn householder(x: &[f64], k: usize) -> Option<(Vec<f64>, f64)> {
-    let alpha = norm(&x[k..]);
-    if alpha == 0.0 {
-        return None;
-    }
-    let mut v = x[k..].to_vec();
-    // Add the sign of x_k to avoid cancellation.
-    v[0] += if v[0] >= 0.0 { alpha } else { -alpha };
-    let vtv: f64 = v.iter().map(|a| a * a).sum();
-    Some((v, vtv))
+    order
 }
 
 impl Qr {
     /// Factorises `cols` (each of length m) and transforms `rhs` (length m) alongside.
-    pub fn new(mut cols: Vec<Vec<f64>>, mut rhs: Vec<f64>) -> Qr {
+    pub fn new(cols: Vec<Vec<f64>>, rhs: Vec<f64>) -> Qr {
         let n = cols.len();
         let m = rhs.len();
-        let full: Vec<f64> = cols.iter().map(|c| norm(c)).collect();
-        let mut left: Vec<usize> = (0..n).filter(|&j| full[j] > 0.0).collect();
-        let mut order = Vec::new();
-        for k in 0..m.min(n) {
-            let best = left
-                .iter()
-                .enumerate()
-                .map(|(i, &j)| (i, norm(&cols[j][k..]) / full[j]))
-                .max_by(|a, b| a.1.total_cmp(&b.1).then(b.0.cmp(&a.0)));
-            let Some((i, _)) = best.filter(|b| b.1 > DEPENDENT_REL) else {
-                break;
+        let order = pivot_order(&cols, m);
+        let k = order.len();
+        if k == 0 {
+            return Qr {
+                n,
+                order,
+                r: DMatrix::zeros(0, 0),
+                qtb: DVector::zeros(0),
             };
-            let j = left.remove(i);
-            let Some((v, vtv)) = householder(&cols[j], k) else {
-                break;
-            };
-            for &o in left.iter().chain(std::iter::once(&j)) {
-                reflect(&v, vtv, &mut cols[o], k);
-            }
-            reflect(&v, vtv, &mut rhs, k);
-            order.push(j);
         }
-        let rank = order.len();
-        let r = (0..rank)
-            .map(|i| order.iter().map(|&j| cols[j][i]).collect())
-            .collect();
+        let a = DMatrix::from_fn(m, k, |i, c| cols[order[c]][i]);
+        let qr = a.qr();
+        let qtb = qr.q().tr_mul(&DVector::from_vec(rhs));
         Qr {
             n,
             order,
-            r,
-            qtb: rhs[..rank].to_vec(),
+            r: qr.r(),
+            qtb,
         }
     }
 
@@ -110,23 +118,28 @@ impl Qr {
         v
     }
 
-    /// Solves R y = c by back substitution.
-    fn back(&self, c: &[f64]) -> Vec<f64> {
-        let k = self.rank();
-        let mut y = vec![0.0; k];
-        for i in (0..k).rev() {
-            let s: f64 = ((i + 1)..k).map(|c2| self.r[i][c2] * y[c2]).sum();
-            y[i] = (c[i] - s) / self.r[i][i];
-        }
-        y
+    /// Solves R Y = C by back substitution (`nalgebra`); every diagonal entry of R is
+    /// nonzero, since each chosen column has more than [`DEPENDENT_REL`] of its norm
+    /// outside the span of the earlier ones.
+    fn back(&self, c: &DMatrix<f64>) -> DMatrix<f64> {
+        self.r
+            .solve_upper_triangular(c)
+            .unwrap_or_else(|| DMatrix::from_element(c.nrows(), c.ncols(), f64::NAN))
     }
 
     /// The basic least-squares solution: dependent and zero columns get 0.
     pub fn solution(&self) -> Vec<f64> {
-        let y = self.back(&self.qtb);
         let mut x = vec![0.0; self.n];
+        if self.rank() == 0 {
+            return x;
+        }
+        let y = self.back(&DMatrix::from_column_slice(
+            self.rank(),
+            1,
+            self.qtb.as_slice(),
+        ));
         for (c, &j) in self.order.iter().enumerate() {
-            x[j] = y[c];
+            x[j] = y[(c, 0)];
         }
         x
     }
@@ -134,19 +147,13 @@ impl Qr {
     /// The diagonal of (A_I^T A_I)^-1 over the independent columns I (NaN elsewhere):
     /// the row norms squared of R^-1, since A^T A = R^T R.
     pub fn inverse_gram_diag(&self) -> Vec<f64> {
-        let k = self.rank();
         let mut d = vec![f64::NAN; self.n];
-        let mut acc = vec![0.0; k];
-        for col in 0..k {
-            let mut e = vec![0.0; k];
-            e[col] = 1.0;
-            let y = self.back(&e); // column `col` of R^-1
-            for (a, v) in acc.iter_mut().zip(&y) {
-                *a += v * v;
-            }
+        if self.rank() == 0 {
+            return d;
         }
+        let inv = self.back(&DMatrix::identity(self.rank(), self.rank()));
         for (c, &j) in self.order.iter().enumerate() {
-            d[j] = acc[c];
+            d[j] = inv.row(c).norm_squared();
         }
         d
     }
