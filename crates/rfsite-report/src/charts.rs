@@ -1012,15 +1012,19 @@ fn bbox(pts: &[(f64, f64)]) -> Option<PxBox> {
     Some(b)
 }
 
-/// Text with its top left at the box's, on a white ground so lines under it do not cut it.
-fn draw_label(area: &Area<'_>, text: &str, b: PxBox, size: f64, bold: bool) -> DrawResult<()> {
+/// The chart font at `size`, bold or regular.
+pub(crate) fn label_font(size: f64, bold: bool) -> FontDesc<'static> {
     let font = (CHART_FONT, size).into_font();
-    let font = if bold {
+    if bold {
         font.style(FontStyle::Bold)
     } else {
         font
-    };
-    let style = TextStyle::from(font)
+    }
+}
+
+/// Text with its top left at the box's, on a white ground so lines under it do not cut it.
+fn draw_label(area: &Area<'_>, text: &str, b: PxBox, size: f64, bold: bool) -> DrawResult<()> {
+    let style = TextStyle::from(label_font(size, bold))
         .color(&BLACK)
         .pos(Pos::new(HPos::Left, VPos::Top));
     let (x0, y0) = (b.x0.round() as i32, b.y0.round() as i32);

@@ -150,13 +150,7 @@ fn draw_cell_text(
     let n = f.lines.len() as f64;
     for (i, line) in f.lines.iter().enumerate() {
         let bold = i + 1 == f.lines.len();
-        let font = (CHART_FONT, f.size).into_font();
-        let font = if bold {
-            font.style(FontStyle::Bold)
-        } else {
-            font
-        };
-        let style = TextStyle::from(font)
+        let style = TextStyle::from(crate::charts::label_font(f.size, bold))
             .color(&BLACK)
             .pos(Pos::new(HPos::Center, VPos::Center));
         let y = f.centre.1 + (i as f64 - (n - 1.0) / 2.0) * LINE_EM * em;
