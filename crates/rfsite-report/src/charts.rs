@@ -482,7 +482,7 @@ fn draw_wall_legend(
     classes.sort_by_key(|(c, k)| (*k as u8, *c));
     classes.dedup();
     for (c, k) in classes {
-        legend_wall(&right, y + 8, wall_style(c, k))?;
+        legend_wall(right, y + 8, wall_style(c, k))?;
         let label = if k == PartKind::Door {
             "door".to_string()
         } else {
@@ -562,7 +562,7 @@ fn draw_marker_legend(
         right
             .draw(&Text::new("measured, below", (40, y), font.clone()))
             .map_err(e)?;
-        let usual = usual_count(&groups);
+        let usual = usual_count(groups);
         if usual > 1 || groups.iter().any(|g| g.count != usual) {
             y += 20;
             let text = match usual {

@@ -80,7 +80,7 @@ fn floor(
     };
     let slab_material = match &f.slab_material {
         Some(sm) => {
-            check_material(v, &lib, sm);
+            check_material(v, lib, sm);
             used_materials.insert(sm.get_ref().clone());
             sm.get_ref().clone()
         }
