@@ -118,7 +118,7 @@ fn coated_facade_uses_the_library_loss_and_p2109_matches_physics() {
     assert_eq!(t.rows.len(), 1);
     assert_eq!(t.rows[0][4], format!("{b50:.1}"));
     assert_eq!(t.rows[0][5], format!("{b90:.1}"));
-    assert_eq!(t.rows[0][6], format!("{0:.1}/{0:.1}/{0:.1}", coated));
+    assert_eq!(t.rows[0][6], format!("{0:.1} / {0:.1} / {0:.1}", coated));
 }
 
 #[test]
