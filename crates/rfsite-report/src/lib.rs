@@ -454,9 +454,7 @@ pub fn view_model(
             let t = site.transmitters.iter().find(|t| t.id == l.transmitter);
             vec![
                 l.transmitter.clone(),
-                site.service(&l.service)
-                    .map(|s| s.name.clone())
-                    .unwrap_or_default(),
+                options::service_name(site, &l.service),
                 site.floor(&l.floor)
                     .map(|s| s.name.clone())
                     .unwrap_or_default(),
@@ -482,9 +480,7 @@ pub fn view_model(
         .map(|l| {
             vec![
                 l.transmitter.clone(),
-                site.service(&l.service)
-                    .map(|s| s.name.clone())
-                    .unwrap_or_default(),
+                options::service_name(site, &l.service),
                 f1(l.fspl_10m_db),
                 if l.free_space_range_m > 1000.0 {
                     "> 1 km".to_string()
@@ -500,9 +496,7 @@ pub fn view_model(
         .map(|d| {
             vec![
                 d.id.clone(),
-                site.service(&d.service)
-                    .map(|s| s.name.clone())
-                    .unwrap_or_default(),
+                options::service_name(site, &d.service),
                 f1(d.level_dbm),
                 d.floors.join(", "),
                 f1(d.elevation_deg),

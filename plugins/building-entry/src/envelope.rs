@@ -500,11 +500,7 @@ fn material_ranges(s: &ServiceScreening) -> Vec<String> {
     }
     by.into_iter()
         .map(|(m, (class, lo, hi, n))| {
-            let range = if hi - lo < 0.05 {
-                format!("{} dB", fmt1(lo))
-            } else {
-                format!("{}–{} dB", fmt1(lo), fmt1(hi))
-            };
+            let range = rfsite_plugin::words::span(&fmt1(lo), &fmt1(hi), "dB");
             format!(
                 "{m} ({class}) screens {range} on {n} face{}",
                 if n == 1 { "" } else { "s" }
